@@ -1,0 +1,2 @@
+// Package api is the gRPC annotation service.
+package api

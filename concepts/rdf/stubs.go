@@ -1,0 +1,25 @@
+package rdf
+
+import (
+	"errors"
+	"io"
+)
+
+// errTODO marks readers not written yet. Each reader's own file replaces its
+// stub below (delete the stub from this file when you write the real one).
+var errTODO = errors.New("reader not implemented yet")
+
+// ReadNTriples reads N-Triples, calling fn per triple.
+func ReadNTriples(r io.Reader, opt Options, fn func(Triple) error) error { return errTODO }
+
+// ReadNQuads reads N-Quads, calling fn per quad (G set for named graphs).
+func ReadNQuads(r io.Reader, opt Options, fn func(Triple) error) error { return errTODO }
+
+// ReadTurtle reads Turtle, calling fn per triple.
+func ReadTurtle(r io.Reader, opt Options, fn func(Triple) error) error { return errTODO }
+
+// ReadRDFXML reads RDF/XML, calling fn per triple.
+func ReadRDFXML(r io.Reader, opt Options, fn func(Triple) error) error { return errTODO }
+
+// ReadJSONLD reads JSON-LD (expanded to RDF by json-gold), calling fn per triple.
+func ReadJSONLD(r io.Reader, opt Options, fn func(Triple) error) error { return errTODO }

@@ -1,0 +1,86 @@
+// Package concepts holds a SKOS concept scheme (W3C SKOS Reference, 2009):
+// concepts with labels per language, notes, and a broader/narrower DAG.
+//
+//	s, err := concepts.Load("vocab.ttl", concepts.LoadOptions{})
+//	i, _ := s.Lookup("http://ex.org/c/42")
+//	fmt.Println(s.Concepts[i].PrefLabel("en"), s.Depth(i))
+//
+// Concepts are addressed by their dense index in Scheme.Concepts; the model
+// uses the same index as the concept's topic number.
+package concepts
+
+// Label is a literal with its (lower-case BCP 47) language tag; "" when untagged.
+type Label struct {
+	Lang string
+	Text string
+}
+
+// Concept is one skos:Concept of the scheme. Broader and Narrower hold
+// indices into Scheme.Concepts, merged from both directions of the links.
+type Concept struct {
+	IRI        string
+	Pref       []Label // skos:prefLabel and skosxl:prefLabel/skosxl:literalForm
+	Alt        []Label
+	Hidden     []Label
+	Notation   []string
+	Definition []Label
+	ScopeNote  []Label
+	Broader    []int
+	Narrower   []int
+	Top        bool // skos:topConceptOf / skos:hasTopConcept of this scheme
+	Deprecated bool // owl:deprecated true
+}
+
+// Scheme is one skos:ConceptScheme and its concepts, in a stable order
+// (sorted by IRI). Fields are exported so that a model file can store it;
+// call Reindex after decoding one.
+type Scheme struct {
+	IRI         string
+	Title       []Label
+	Concepts    []Concept
+	Collections []Collection
+	index       map[string]int // IRI -> index in Concepts, e.g. "http://ex.org/c/42" -> 17
+}
+
+// Collection is a skos:Collection, kept apart from concepts.
+type Collection struct {
+	IRI     string
+	Labels  []Label
+	Members []string // member IRIs (concepts or collections)
+}
+
+// PrefLabel returns the prefLabel in lang, falling back to an untagged one,
+// then any, then the IRI.
+func (c *Concept) PrefLabel(lang string) string {
+	for _, l := range c.Pref {
+		if l.Lang == lang {
+			return l.Text
+		}
+	}
+	for _, l := range c.Pref {
+		if l.Lang == "" {
+			return l.Text
+		}
+	}
+	if len(c.Pref) > 0 {
+		return c.Pref[0].Text
+	}
+	return c.IRI
+}
+
+// Reindex rebuilds the IRI lookup table (after decoding a stored Scheme).
+func (s *Scheme) Reindex() {
+	s.index = make(map[string]int, len(s.Concepts))
+	for i := range s.Concepts {
+		s.index[s.Concepts[i].IRI] = i
+	}
+}
+
+// Lookup returns the index of the concept with this IRI.
+func (s *Scheme) Lookup(iri string) (int, bool) {
+	if s.index == nil {
+		s.Reindex()
+	}
+	i, ok := s.index[iri]
+	return i, ok
+}

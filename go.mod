@@ -1,0 +1,3 @@
+module termgrove
+
+go 1.26.8
