@@ -1,0 +1,186 @@
+package fit
+
+import (
+	"context"
+	"fmt"
+	"slices"
+	"strconv"
+	"time"
+
+	"termgrove/model"
+)
+
+// run sweeps from st.sweep to opt.Sweeps, then builds the model.
+func (st *state) run(ctx context.Context) (*Result, error) {
+	opt := &st.opt
+	tokens := int64(len(st.words))
+	start := time.Now()
+	lastCk := start
+	done := 0
+	var lastLL float64
+	if n := len(st.llHist); n > 0 {
+		lastLL = st.llHist[n-1].PerToken
+	}
+	for st.sweep < opt.Sweeps {
+		if err := ctx.Err(); err != nil {
+			if opt.Checkpoint > 0 && opt.CheckpointPath != "" {
+				if cerr := st.writeCheckpoint(opt.CheckpointPath, time.Since(start).Seconds()); cerr != nil {
+					return nil, cerr
+				}
+			}
+			return nil, err
+		}
+		st.sweepOnce()
+		st.sweep++
+		done++
+		if !opt.FixedAlpha && st.sweep > opt.BurnIn && st.sweep%opt.OptimizeEvery == 0 {
+			st.optimizeAlpha()
+		}
+		if st.sweep%opt.LogLikEvery == 0 || st.sweep == opt.Sweeps {
+			ll := st.logLik()
+			lastLL = ll / float64(tokens)
+			st.llHist = append(st.llHist, LogLikPoint{Sweep: st.sweep, LogLik: ll, PerToken: lastLL})
+		}
+		ck := false
+		if opt.Checkpoint > 0 && opt.CheckpointPath != "" && time.Since(lastCk) >= opt.Checkpoint && st.sweep < opt.Sweeps {
+			if err := st.writeCheckpoint(opt.CheckpointPath, time.Since(start).Seconds()); err != nil {
+				return nil, err
+			}
+			lastCk = time.Now()
+			ck = true
+		}
+		if opt.Progress != nil {
+			el := time.Since(start)
+			opt.Progress(Progress{
+				Sweep: st.sweep, Sweeps: opt.Sweeps, Tokens: tokens,
+				TokensPerSec: float64(tokens) * float64(done) / el.Seconds(),
+				LogLik:       lastLL, Elapsed: el, Checkpointed: ck,
+			})
+		}
+	}
+	secs := time.Since(start).Seconds()
+	res := &Result{
+		Sweeps:      st.sweep,
+		TrainTokens: tokens,
+		LogLik:      st.llHist,
+		Seconds:     secs,
+	}
+	if secs > 0 {
+		res.TokensPerSec = float64(tokens) * float64(done) / secs
+	}
+	m := st.buildModel()
+	res.Model = m
+	var free int64
+	for k := st.C; k < st.K; k++ {
+		free += int64(st.nk[k])
+	}
+	res.FreeShare = float64(free) / float64(tokens)
+	for k := 0; k < st.C; k++ {
+		if st.nk[k] > 0 {
+			res.ConceptsUsed++
+		}
+	}
+	if len(st.heldout) > 0 {
+		docs := make([][]int32, 0, min(len(st.heldout), opt.HoldoutMaxDocs))
+		for _, i := range st.heldout[:min(len(st.heldout), opt.HoldoutMaxDocs)] {
+			docs = append(docs, st.corpus.Docs[i].Words)
+		}
+		ll, n := LeftToRight(ModelPhi(m), m.Alpha, docs, LROptions{
+			Particles: opt.HoldoutParticles, Seed: uint64(opt.Seed), Workers: opt.Workers,
+		})
+		res.HeldOutDocs = len(docs)
+		res.HeldOutTokens = n
+		if n > 0 {
+			res.HeldOutLLPerWord = ll / float64(n)
+		}
+		m.Provenance.HeldOutLLPerWord = res.HeldOutLLPerWord
+	}
+	return res, nil
+}
+
+// buildModel turns the counts into a model.Model (topic-major, sorted by word).
+func (st *state) buildModel() *model.Model {
+	m := &model.Model{
+		C: st.C, F: st.F,
+		Alpha:     slices.Clone(st.alpha),
+		Beta0:     st.beta0,
+		Lambda:    st.lambda,
+		Counts:    make([][]model.WordCount, st.K),
+		Totals:    make([]int64, st.K),
+		DocCounts: make([]int32, st.K),
+	}
+	if p := st.prior; p != nil {
+		m.Scheme = p.Scheme
+		if p.Analyzer != nil {
+			m.Analyzer = p.Analyzer.Options()
+			m.Words = slices.Clone(p.Analyzer.Dict().Terms())
+		}
+		m.Prior = make([][]model.WordWeight, len(p.Rows))
+		for k, row := range p.Rows {
+			r := make([]model.WordWeight, len(row))
+			for i, e := range row {
+				r[i] = model.WordWeight{Word: e.Word, Weight: e.Weight}
+			}
+			m.Prior[k] = r
+		}
+	}
+	// Topic row sizes first, so every row is allocated once.
+	size := make([]int32, st.K)
+	for w := range st.wt {
+		for _, e := range st.wt[w] {
+			size[e.k]++
+		}
+	}
+	for k := range m.Counts {
+		m.Counts[k] = make([]model.WordCount, 0, size[k])
+		m.Totals[k] = int64(st.nk[k])
+	}
+	for w := range st.wt { // w ascending: rows come out sorted by word
+		for _, e := range st.wt[w] {
+			m.Counts[e.k] = append(m.Counts[e.k], model.WordCount{Word: int32(w), Count: e.n})
+		}
+	}
+	seen := make([]bool, st.K)
+	var ks []int32
+	for di := range st.docs {
+		d := &st.docs[di]
+		for i := d.start; i < d.end; i++ {
+			k := st.z[i]
+			if !seen[k] {
+				seen[k] = true
+				ks = append(ks, k)
+			}
+		}
+		for _, k := range ks {
+			m.DocCounts[k]++
+			seen[k] = false
+		}
+		ks = ks[:0]
+	}
+	o := st.opt
+	m.Provenance = model.Provenance{
+		Records: len(st.docs),
+		Tokens:  int64(len(st.words)),
+		Sweeps:  st.sweep,
+		Seed:    o.Seed,
+		Options: map[string]string{
+			"sweeps":         strconv.Itoa(o.Sweeps),
+			"burn_in":        strconv.Itoa(o.BurnIn),
+			"free_topics":    strconv.Itoa(o.FreeTopics),
+			"lambda":         strconv.FormatFloat(st.lambda, 'g', -1, 64),
+			"beta0":          strconv.FormatFloat(st.beta0, 'g', -1, 64),
+			"alpha_start":    strconv.FormatFloat(o.Alpha, 'g', -1, 64),
+			"fixed_alpha":    strconv.FormatBool(o.FixedAlpha),
+			"optimize_every": strconv.Itoa(o.OptimizeEvery),
+			"workers":        strconv.Itoa(o.Workers),
+			"holdout":        strconv.FormatFloat(o.HoldoutFraction, 'g', -1, 64),
+			"heldout_docs":   strconv.Itoa(len(st.heldout)),
+		},
+	}
+	return m
+}
+
+// String summarises a result in the CLI's closing format.
+func (r *Result) String() string {
+	return fmt.Sprintf("tokens=%d sweeps=%d seconds=%.1f tokens/s=%.0f", r.TrainTokens, r.Sweeps, r.Seconds, r.TokensPerSec)
+}

@@ -1,0 +1,410 @@
+package fit
+
+import "sync"
+
+// change is one token that moved from topic old to topic new in a sweep,
+// replayed on the shared counts by the AD-LDA merge.
+type change struct{ w, old, new int32 }
+
+// worker samples a shard of records. With several workers it owns copies of
+// n_k and n_kw taken after the last merge; alone it samples on the shared
+// counts directly.
+type worker struct {
+	st    *state
+	r     *rng
+	local bool // counts are a private copy; log changes
+
+	nk []int32
+	wt [][]tc
+
+	// Per-record scratch, all of length K, reset after each record.
+	ndk     []int32   // n_dk of the current record
+	dpos    []int32   // position of k in dtopics, valid when ndk[k] > 0
+	dtopics []int32   // topics with n_dk > 0
+	invD    []float64 // 1/(n_k + B_k)
+	coef    []float64 // (α_k + n_dk)/(n_k + B_k)
+	allowed []bool    // allowed topics of a restricted record (free topics always true)
+
+	s     float64 // Σ_k α_k β0/(n_k+B_k), all topics
+	sFree float64 // the same over free topics
+	sSubj float64 // the same over the current record's subjects
+	rsum  float64 // Σ_{k in record} n_dk β0/(n_k+B_k)
+
+	restricted bool
+	subj       []int32
+
+	qbuf []float64 // word bucket terms, parallel to wt[w]
+	pbuf []float64 // prior bucket terms, parallel to the prior list of w
+
+	changes []change
+}
+
+func newWorker(st *state, r *rng, local bool) *worker {
+	K := st.K
+	maxP := int32(0)
+	for w := 0; w < st.W; w++ {
+		maxP = max(maxP, st.pStart[w+1]-st.pStart[w])
+	}
+	wk := &worker{
+		st:      st,
+		r:       r,
+		local:   local,
+		ndk:     make([]int32, K),
+		dpos:    make([]int32, K),
+		invD:    make([]float64, K),
+		coef:    make([]float64, K),
+		allowed: make([]bool, K),
+		qbuf:    make([]float64, K),
+		pbuf:    make([]float64, maxP),
+	}
+	for k := st.C; k < K; k++ {
+		wk.allowed[k] = true
+	}
+	return wk
+}
+
+func (wk *worker) attachGlobal() { wk.nk, wk.wt = wk.st.nk, wk.st.wt }
+
+func (wk *worker) attachLocal() {
+	wk.nk = make([]int32, wk.st.K)
+	wk.wt = make([][]tc, wk.st.W)
+	wk.syncFromGlobal(0, 1)
+}
+
+// syncFromGlobal copies the shared counts of words w ≡ part (mod parts).
+func (wk *worker) syncFromGlobal(part, parts int) {
+	st := wk.st
+	if part == 0 {
+		copy(wk.nk, st.nk)
+	}
+	for w := part; w < st.W; w += parts {
+		wk.wt[w] = append(wk.wt[w][:0], st.wt[w]...)
+	}
+}
+
+// refresh recomputes the cached sums from n_k and α.
+func (wk *worker) refresh() {
+	st := wk.st
+	wk.s, wk.sFree = 0, 0
+	for k := 0; k < st.K; k++ {
+		inv := 1 / (float64(wk.nk[k]) + st.B[k])
+		wk.invD[k] = inv
+		wk.coef[k] = st.alpha[k] * inv
+		t := st.alpha[k] * st.beta0 * inv
+		wk.s += t
+		if k >= st.C {
+			wk.sFree += t
+		}
+	}
+}
+
+// begin loads the counts of record d (its tokens already assigned).
+func (wk *worker) begin(d *sdoc, assigned bool) {
+	st := wk.st
+	wk.rsum = 0
+	if assigned {
+		for i := d.start; i < d.end; i++ {
+			k := st.z[i]
+			if wk.ndk[k] == 0 {
+				wk.dpos[k] = int32(len(wk.dtopics))
+				wk.dtopics = append(wk.dtopics, k)
+			}
+			wk.ndk[k]++
+		}
+		for _, k := range wk.dtopics {
+			wk.coef[k] = (st.alpha[k] + float64(wk.ndk[k])) * wk.invD[k]
+			wk.rsum += float64(wk.ndk[k]) * st.beta0 * wk.invD[k]
+		}
+	}
+	wk.restricted = d.subjects != nil
+	wk.subj = d.subjects
+	wk.sSubj = 0
+	if wk.restricted {
+		for _, k := range d.subjects {
+			wk.allowed[k] = true
+			wk.sSubj += st.alpha[k] * st.beta0 * wk.invD[k]
+		}
+	}
+}
+
+// end clears the record scratch.
+func (wk *worker) end() {
+	st := wk.st
+	for _, k := range wk.dtopics {
+		wk.ndk[k] = 0
+		wk.coef[k] = st.alpha[k] * wk.invD[k]
+	}
+	wk.dtopics = wk.dtopics[:0]
+	if wk.restricted {
+		for _, k := range wk.subj {
+			wk.allowed[k] = false
+		}
+	}
+	wk.restricted, wk.subj = false, nil
+}
+
+// doc runs one Gibbs pass over record d; with first, its tokens have no
+// topic yet and are added one by one.
+func (wk *worker) doc(d *sdoc, first bool) {
+	st := wk.st
+	wk.begin(d, !first)
+	for i := d.start; i < d.end; i++ {
+		w := st.words[i]
+		old := st.z[i]
+		if !first {
+			wk.remove(w, old)
+		}
+		k := wk.draw(w)
+		wk.add(w, k)
+		st.z[i] = k
+		if wk.local && !first && k != old {
+			wk.changes = append(wk.changes, change{w, old, k})
+		}
+	}
+	wk.end()
+}
+
+// update moves topic k's cached terms from before to after a count change.
+func (wk *worker) update(k int32, ndBefore int32) {
+	st := wk.st
+	invOld := wk.invD[k]
+	inv := 1 / (float64(wk.nk[k]) + st.B[k])
+	wk.invD[k] = inv
+	a := st.alpha[k]
+	ds := a * st.beta0 * (inv - invOld)
+	wk.s += ds
+	if int(k) >= st.C {
+		wk.sFree += ds
+	} else if wk.restricted {
+		wk.sSubj += ds
+	}
+	nd := wk.ndk[k]
+	wk.rsum += st.beta0 * (float64(nd)*inv - float64(ndBefore)*invOld)
+	wk.coef[k] = (a + float64(nd)) * inv
+}
+
+func (wk *worker) remove(w, k int32) {
+	nd := wk.ndk[k]
+	wk.ndk[k] = nd - 1
+	wk.nk[k]--
+	if nd == 1 { // drop k from the record's topic list
+		p := wk.dpos[k]
+		last := wk.dtopics[len(wk.dtopics)-1]
+		wk.dtopics[p] = last
+		wk.dpos[last] = p
+		wk.dtopics = wk.dtopics[:len(wk.dtopics)-1]
+	}
+	wk.update(k, nd)
+	decList(&wk.wt[w], k)
+}
+
+func (wk *worker) add(w, k int32) {
+	nd := wk.ndk[k]
+	if nd == 0 {
+		wk.dpos[k] = int32(len(wk.dtopics))
+		wk.dtopics = append(wk.dtopics, k)
+	}
+	wk.ndk[k] = nd + 1
+	wk.nk[k]++
+	wk.update(k, nd)
+	incList(&wk.wt[w], k)
+}
+
+// buckets fills qbuf and pbuf for word w and returns the four bucket totals
+// (word, prior, document, smoothing). The current token must be removed.
+func (wk *worker) buckets(w int32) (qw, qp, r, s float64) {
+	st := wk.st
+	list := wk.wt[w]
+	qb := wk.qbuf[:len(list)]
+	lo, hi := st.pStart[w], st.pStart[w+1]
+	pt := st.pTopic[lo:hi]
+	pm := st.pMass[lo:hi]
+	pb := wk.pbuf[:len(pt)]
+	coef := wk.coef
+	if !wk.restricted {
+		for i, e := range list {
+			v := coef[e.k] * float64(e.n)
+			qb[i] = v
+			qw += v
+		}
+		for j, k := range pt {
+			v := coef[k] * pm[j]
+			pb[j] = v
+			qp += v
+		}
+		return qw, qp, wk.rsum, wk.s
+	}
+	al := wk.allowed
+	for i, e := range list {
+		v := 0.0
+		if al[e.k] {
+			v = coef[e.k] * float64(e.n)
+		}
+		qb[i] = v
+		qw += v
+	}
+	for j, k := range pt {
+		v := 0.0
+		if al[k] {
+			v = coef[k] * pm[j]
+		}
+		pb[j] = v
+		qp += v
+	}
+	return qw, qp, wk.rsum, wk.sFree + wk.sSubj
+}
+
+// draw samples a topic for one token of word w from the conditional.
+func (wk *worker) draw(w int32) int32 {
+	st := wk.st
+	qw, qp, r, s := wk.buckets(w)
+	u := wk.r.Float64() * (qw + qp + r + s)
+	if u < qw {
+		list := wk.wt[w]
+		qb := wk.qbuf[:len(list)]
+		last := int32(-1)
+		for i, v := range qb {
+			if v > 0 {
+				last = list[i].k
+				u -= v
+				if u < 0 {
+					return list[i].k
+				}
+			}
+		}
+		if last >= 0 { // rounding
+			return last
+		}
+	}
+	u -= qw
+	lo, hi := st.pStart[w], st.pStart[w+1]
+	if u < qp {
+		pt := st.pTopic[lo:hi]
+		last := int32(-1)
+		for j, v := range wk.pbuf[:len(pt)] {
+			if v > 0 {
+				last = pt[j]
+				u -= v
+				if u < 0 {
+					return pt[j]
+				}
+			}
+		}
+		if last >= 0 {
+			return last
+		}
+	}
+	u -= qp
+	if u < r && len(wk.dtopics) > 0 {
+		b0 := st.beta0
+		for _, k := range wk.dtopics {
+			u -= float64(wk.ndk[k]) * b0 * wk.invD[k]
+			if u < 0 {
+				return k
+			}
+		}
+		return wk.dtopics[len(wk.dtopics)-1]
+	}
+	u -= r
+	return wk.drawSmoothing(u)
+}
+
+// drawSmoothing walks α_k β0/(n_k+B_k) over the allowed topics.
+func (wk *worker) drawSmoothing(u float64) int32 {
+	st := wk.st
+	b0 := st.beta0
+	if wk.restricted {
+		for _, k := range wk.subj {
+			u -= st.alpha[k] * b0 * wk.invD[k]
+			if u < 0 {
+				return k
+			}
+		}
+		for k := st.C; k < st.K; k++ {
+			u -= st.alpha[k] * b0 * wk.invD[k]
+			if u < 0 {
+				return int32(k)
+			}
+		}
+		if st.F > 0 {
+			return int32(st.K - 1)
+		}
+		return wk.subj[len(wk.subj)-1]
+	}
+	for k := 0; k < st.K; k++ {
+		u -= st.alpha[k] * b0 * wk.invD[k]
+		if u < 0 {
+			return int32(k)
+		}
+	}
+	return int32(st.K - 1)
+}
+
+// sweep runs one Gibbs sweep over all training records.
+func (st *state) sweepOnce() {
+	if len(st.workers) == 1 {
+		wk := st.workers[0]
+		wk.refresh()
+		for i := range st.docs {
+			wk.doc(&st.docs[i], false)
+		}
+		return
+	}
+	var wg sync.WaitGroup
+	for wi, wk := range st.workers {
+		wg.Add(1)
+		go func(wk *worker, sh [2]int) {
+			defer wg.Done()
+			wk.changes = wk.changes[:0]
+			wk.refresh()
+			for i := sh[0]; i < sh[1]; i++ {
+				wk.doc(&st.docs[i], false)
+			}
+		}(wk, st.shards[wi])
+	}
+	wg.Wait()
+	st.merge()
+}
+
+// merge applies every worker's changes to the shared counts, each worker
+// taking the words w ≡ its index (mod workers), then hands every worker a
+// fresh copy (AD-LDA).
+func (st *state) merge() {
+	P := len(st.workers)
+	// n_k: shared += Σ (local − shared).
+	delta := make([]int32, st.K)
+	for _, wk := range st.workers {
+		for k := range delta {
+			delta[k] += wk.nk[k] - st.nk[k]
+		}
+	}
+	for k := range delta {
+		st.nk[k] += delta[k]
+	}
+	var wg sync.WaitGroup
+	for p := 0; p < P; p++ {
+		wg.Add(1)
+		go func(p int) {
+			defer wg.Done()
+			for _, wk := range st.workers {
+				for _, c := range wk.changes {
+					if int(c.w)%P == p {
+						decList(&st.wt[c.w], c.old)
+						incList(&st.wt[c.w], c.new)
+					}
+				}
+			}
+		}(p)
+	}
+	wg.Wait()
+	for p := 0; p < P; p++ {
+		wg.Add(1)
+		go func(p int) {
+			defer wg.Done()
+			for _, wk := range st.workers {
+				wk.syncFromGlobal(p, P)
+			}
+		}(p)
+	}
+	wg.Wait()
+}

@@ -1,0 +1,320 @@
+package fit
+
+import (
+	"math"
+	"math/rand/v2"
+	"reflect"
+	"testing"
+
+	"termgrove/prior"
+)
+
+// randomSetup builds a prior of C concepts over W words (each row naming a
+// few words, some rows empty) and D random records, a third of them
+// restricted to one or two subjects.
+func randomSetup(seed uint64, C, W, D, maxLen int) (*prior.Prior, *Corpus) {
+	r := rand.New(rand.NewPCG(seed, 7))
+	p := &prior.Prior{Rows: make([][]prior.Entry, C), Lambda: 3, Beta0: 0.05}
+	for k := 0; k < C; k++ {
+		if k%4 == 3 {
+			continue // no terms
+		}
+		n := 1 + r.IntN(3)
+		used := map[int32]bool{}
+		var sum float64
+		for len(used) < n {
+			used[int32(r.IntN(W))] = true
+		}
+		for w := int32(0); w < int32(W); w++ {
+			if used[w] {
+				v := 0.2 + r.Float64()
+				p.Rows[k] = append(p.Rows[k], prior.Entry{Word: w, Weight: v})
+				sum += v
+			}
+		}
+		for i := range p.Rows[k] {
+			p.Rows[k][i].Weight /= sum
+		}
+	}
+	c := &Corpus{W: W}
+	for d := 0; d < D; d++ {
+		doc := Doc{ID: "d" + string(rune('a'+d%26)) + string(rune('a'+d/26))}
+		n := 1 + r.IntN(maxLen)
+		for i := 0; i < n; i++ {
+			doc.Words = append(doc.Words, int32(r.IntN(W)))
+		}
+		if d%3 == 1 && C > 0 {
+			doc.Subjects = append(doc.Subjects, int32(r.IntN(C)))
+			if r.IntN(2) == 0 {
+				doc.Subjects = append(doc.Subjects, int32(r.IntN(C)))
+			}
+		}
+		c.Docs = append(c.Docs, doc)
+	}
+	return p, c
+}
+
+// denseConditional is the plain formula p(k) ∝ (n_dk+α_k)(n_kw+β_kw)/(n_k+B_k)
+// over the allowed topics, from counts recomputed from z without token skip.
+func denseConditional(st *state, di int, skip int64) []float64 {
+	d := &st.docs[di]
+	K := st.K
+	nk := make([]float64, K)
+	nkw := make([]float64, K)
+	ndk := make([]float64, K)
+	w := st.words[skip]
+	for ddi := range st.docs {
+		dd := &st.docs[ddi]
+		for i := dd.start; i < dd.end; i++ {
+			if i == skip {
+				continue
+			}
+			k := st.z[i]
+			nk[k]++
+			if st.words[i] == w {
+				nkw[k]++
+			}
+			if ddi == di {
+				ndk[k]++
+			}
+		}
+	}
+	p := make([]float64, K)
+	var tot float64
+	for k := 0; k < K; k++ {
+		if d.subjects != nil && k < st.C {
+			ok := false
+			for _, s := range d.subjects {
+				ok = ok || int(s) == k
+			}
+			if !ok {
+				continue
+			}
+		}
+		// β_kw and B_k straight from the prior rows, not from the index.
+		b := st.beta0
+		B := float64(st.W) * st.beta0
+		if k < st.C {
+			for _, e := range st.prior.Rows[k] {
+				B += st.lambda * e.Weight
+				if e.Word == w {
+					b += st.lambda * e.Weight
+				}
+			}
+		}
+		p[k] = (ndk[k] + st.alpha[k]) * (nkw[k] + b) / (nk[k] + B)
+		tot += p[k]
+	}
+	for k := range p {
+		p[k] /= tot
+	}
+	return p
+}
+
+// bucketConditional lays the four buckets of the sparse sampler out per
+// topic, using the worker's own bucket values, and checks its cached totals.
+func bucketConditional(t *testing.T, wk *worker, w int32) []float64 {
+	t.Helper()
+	st := wk.st
+	qw, qp, r, s := wk.buckets(w)
+	p := make([]float64, st.K)
+	var sq, sp, sr, ss float64
+	for i, e := range wk.wt[w] {
+		p[e.k] += wk.qbuf[i]
+		sq += wk.qbuf[i]
+	}
+	for j := st.pStart[w]; j < st.pStart[w+1]; j++ {
+		v := wk.pbuf[j-st.pStart[w]]
+		p[st.pTopic[j]] += v
+		sp += v
+	}
+	for _, k := range wk.dtopics {
+		v := float64(wk.ndk[k]) * st.beta0 * wk.invD[k]
+		p[k] += v
+		sr += v
+	}
+	for k := 0; k < st.K; k++ {
+		if wk.restricted && !wk.allowed[k] {
+			continue
+		}
+		v := st.alpha[k] * st.beta0 * wk.invD[k]
+		p[k] += v
+		ss += v
+	}
+	for _, c := range []struct {
+		name          string
+		cached, exact float64
+	}{{"word", qw, sq}, {"prior", qp, sp}, {"doc", r, sr}, {"smoothing", s, ss}} {
+		if math.Abs(c.cached-c.exact) > 1e-9*math.Max(1e-12, math.Abs(c.exact)) {
+			t.Fatalf("%s bucket: cached total %.17g, sum of terms %.17g", c.name, c.cached, c.exact)
+		}
+	}
+	tot := qw + qp + r + s
+	for k := range p {
+		p[k] /= tot
+	}
+	return p
+}
+
+// TestBucketsEqualDense checks that the sparse sampler's four buckets, laid
+// out per topic, give exactly the dense collapsed-Gibbs conditional, for
+// random states, unrestricted and restricted records, and concept rows with
+// and without terms. Common practice, no source: the identity
+// (a+n)(c+π+m) = aβ0 + nβ0 + (a+n)π + (a+n)m term by term.
+func TestBucketsEqualDense(t *testing.T) {
+	for trial := 0; trial < 12; trial++ {
+		C, F := 6+trial, trial%3
+		if trial == 5 {
+			F = 0
+		}
+		p, c := randomSetup(uint64(trial), C, 9+trial, 30, 15)
+		st, err := newState(p, c, Options{FreeTopics: F, Seed: int64(trial), Workers: 1, Alpha: 0.3})
+		if err != nil {
+			t.Fatal(err)
+		}
+		r := rand.New(rand.NewPCG(uint64(trial), 99))
+		for k := range st.alpha { // asymmetric α
+			st.alpha[k] = 0.05 + r.Float64()
+		}
+		st.initAssign()
+		st.sweepOnce()
+		st.sweepOnce()
+		wk := st.workers[0]
+		wk.refresh()
+		checked := 0
+		for di := range st.docs {
+			d := &st.docs[di]
+			wk.begin(d, true)
+			for i := d.start; i < d.end; i++ {
+				w := st.words[i]
+				wk.remove(w, st.z[i])
+				got := bucketConditional(t, wk, w)
+				want := denseConditional(st, di, i)
+				for k := range want {
+					if math.Abs(got[k]-want[k]) > 1e-9 {
+						t.Fatalf("trial %d record %d token %d topic %d: buckets %.15g, dense %.15g", trial, di, i, k, got[k], want[k])
+					}
+				}
+				checked++
+				k := wk.draw(w) // move on, so the cached sums evolve
+				wk.add(w, k)
+				st.z[i] = k
+			}
+			wk.end()
+		}
+		if checked == 0 {
+			t.Fatal("no tokens checked")
+		}
+	}
+}
+
+// TestDrawMatchesConditional draws many times from one frozen conditional and
+// compares the frequencies with the dense formula (each within 5 standard
+// errors). Common practice, no source.
+func TestDrawMatchesConditional(t *testing.T) {
+	for _, restricted := range []bool{false, true} {
+		p, c := randomSetup(42, 8, 6, 40, 12)
+		st, err := newState(p, c, Options{FreeTopics: 3, Seed: 3, Workers: 1, Alpha: 0.4})
+		if err != nil {
+			t.Fatal(err)
+		}
+		st.initAssign()
+		st.sweepOnce()
+		wk := st.workers[0]
+		wk.refresh()
+		di := 0
+		for di < len(st.docs) && (st.docs[di].subjects != nil) != restricted {
+			di++
+		}
+		d := &st.docs[di]
+		i := d.start
+		w := st.words[i]
+		wk.begin(d, true)
+		wk.remove(w, st.z[i])
+		want := denseConditional(st, di, i)
+		const n = 400000
+		counts := make([]float64, st.K)
+		for j := 0; j < n; j++ {
+			counts[wk.draw(w)]++
+		}
+		for k := range want {
+			se := math.Sqrt(n * want[k] * (1 - want[k]))
+			if want[k] == 0 && counts[k] > 0 {
+				t.Fatalf("restricted=%v: topic %d has zero probability but was drawn %v times", restricted, k, counts[k])
+			}
+			if math.Abs(counts[k]-n*want[k]) > 5*se+1e-9 {
+				t.Errorf("restricted=%v topic %d: drawn %v times, expected %.1f ± %.1f", restricted, k, counts[k], n*want[k], se)
+			}
+		}
+	}
+}
+
+// TestMergeKeepsCounts checks that after AD-LDA sweeps with several workers
+// the shared counts equal the counts recomputed from the assignments.
+// Common practice, no source.
+func TestMergeKeepsCounts(t *testing.T) {
+	p, c := randomSetup(5, 10, 12, 60, 20)
+	st, err := newState(p, c, Options{FreeTopics: 2, Seed: 1, Workers: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(st.workers) != 3 {
+		t.Fatalf("workers = %d", len(st.workers))
+	}
+	st.initAssign()
+	for i := 0; i < 5; i++ {
+		st.sweepOnce()
+	}
+	nk := append([]int32(nil), st.nk...)
+	wt := make(map[[2]int32]int32)
+	for w, l := range st.wt {
+		for _, e := range l {
+			wt[[2]int32{int32(w), e.k}] = e.n
+		}
+	}
+	if err := st.rebuildCounts(); err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(nk, st.nk) {
+		t.Fatalf("n_k after merge %v, from z %v", nk, st.nk)
+	}
+	wt2 := make(map[[2]int32]int32)
+	for w, l := range st.wt {
+		for _, e := range l {
+			wt2[[2]int32{int32(w), e.k}] = e.n
+		}
+	}
+	if !reflect.DeepEqual(wt, wt2) {
+		t.Fatal("n_kw after merge differ from counts recomputed from z")
+	}
+	for _, wk := range st.workers {
+		if !reflect.DeepEqual(wk.nk, st.nk) {
+			t.Fatal("a worker's copy of n_k differs from the shared counts")
+		}
+	}
+}
+
+// TestReproducible: one worker and a seed give the same model bit for bit;
+// another seed gives another model.
+func TestReproducible(t *testing.T) {
+	p, c := randomSetup(9, 12, 30, 80, 30)
+	fitOnce := func(seed int64) *Result {
+		res, err := RunContext(t.Context(), p, c, Options{FreeTopics: 3, Sweeps: 30, BurnIn: 5, OptimizeEvery: 5, Seed: seed, Workers: 1, HoldoutFraction: 0.1, HoldoutParticles: 3})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return res
+	}
+	a, b, other := fitOnce(11), fitOnce(11), fitOnce(12)
+	if !reflect.DeepEqual(a.Model.Counts, b.Model.Counts) || !reflect.DeepEqual(a.Model.Alpha, b.Model.Alpha) || a.HeldOutLLPerWord != b.HeldOutLLPerWord {
+		t.Fatal("same seed, one worker: models differ")
+	}
+	if reflect.DeepEqual(a.Model.Counts, other.Model.Counts) {
+		t.Fatal("different seeds gave identical models")
+	}
+	for k, a := range a.Model.Alpha {
+		if !(a > 0) {
+			t.Fatalf("α_%d = %v", k, a)
+		}
+	}
+}

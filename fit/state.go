@@ -1,0 +1,379 @@
+package fit
+
+import (
+	"encoding/binary"
+	"fmt"
+	"hash/fnv"
+	"math"
+	"math/rand/v2"
+	"slices"
+
+	"termgrove/prior"
+)
+
+// tc is one nonzero word–topic count: topic k holds n tokens of the word.
+// A word's list is kept sorted by n, largest first, so that walks end early.
+type tc struct{ k, n int32 }
+
+// sdoc is a training record inside the sampler: its tokens are
+// words[start:end] with assignments z[start:end].
+type sdoc struct {
+	start, end int64
+	subjects   []int32 // nil: unrestricted; else the allowed concepts (free topics always allowed)
+}
+
+// state is the whole sampler: counts, assignments, hyperparameters.
+type state struct {
+	opt        Options
+	K, C, F, W int
+	beta0      float64
+	lambda     float64
+	alpha      []float64 // K
+	B          []float64 // K: Σ_w β_kw
+
+	// Inverted prior index: the concepts whose rows hold word w are
+	// pTopic[pStart[w]:pStart[w+1]] (ascending) with λ·π_kw in pMass.
+	pStart []int32
+	pTopic []int32
+	pMass  []float64
+
+	docs  []sdoc
+	ids   []string // training record ids, parallel to docs
+	words []int32  // all training tokens, doc after doc
+	z     []int32  // topic of each token
+
+	heldout []int // indices into corpus.Docs kept out of training
+
+	nk []int32 // K: n_k
+	wt [][]tc  // W: nonzero n_kw, sorted by count descending
+
+	sweep    int
+	rngs     []*rng
+	workers  []*worker
+	shards   [][2]int // doc ranges per worker
+	corpus   *Corpus
+	prior    *prior.Prior
+	checksum uint64
+	llHist   []LogLikPoint
+	secs     float64 // sampling seconds of earlier runs (from a checkpoint)
+}
+
+// rng is a PCG generator (math/rand/v2) with a cheap Float64.
+type rng struct{ p *rand.PCG }
+
+func newRNG(seed int64, stream uint64) *rng {
+	return &rng{p: rand.NewPCG(uint64(seed), 0x9e3779b97f4a7c15^stream)}
+}
+
+// Float64 is uniform on [0,1).
+func (r *rng) Float64() float64 { return float64(r.p.Uint64()>>11) * (1.0 / (1 << 53)) }
+
+// IntN is uniform on [0,n).
+func (r *rng) IntN(n int) int { return int((r.p.Uint64() >> 32) * uint64(n) >> 32) }
+
+func newState(p *prior.Prior, corpus *Corpus, opt Options) (*state, error) {
+	if err := opt.check(); err != nil {
+		return nil, err
+	}
+	if corpus == nil {
+		return nil, ErrEmptyCorpus
+	}
+	st := &state{corpus: corpus, prior: p, W: corpus.W}
+	st.beta0 = 0.01
+	if p != nil {
+		st.C = len(p.Rows)
+		if p.Beta0 > 0 {
+			st.beta0 = p.Beta0
+		}
+		st.lambda = p.Lambda
+	}
+	if opt.Beta0 > 0 {
+		st.beta0 = opt.Beta0
+	}
+	if opt.Lambda > 0 {
+		st.lambda = opt.Lambda
+	}
+	st.F = opt.FreeTopics
+	st.K = st.C + st.F
+	if st.K == 0 {
+		return nil, fmt.Errorf("%w: no topics (no concepts and no free topics)", ErrBadCorpus)
+	}
+	if st.K > math.MaxInt32 {
+		return nil, fmt.Errorf("%w: too many topics", ErrBadCorpus)
+	}
+	opt.setDefaults(st.K)
+	st.opt = opt
+
+	// Word range: corpus words and prior rows.
+	if p != nil {
+		for _, row := range p.Rows {
+			for _, e := range row {
+				if e.Word < 0 {
+					return nil, fmt.Errorf("%w: prior row with negative word id", ErrBadCorpus)
+				}
+				if int(e.Word) >= st.W {
+					st.W = int(e.Word) + 1
+				}
+			}
+		}
+	}
+	if err := st.buildDocs(); err != nil {
+		return nil, err
+	}
+	st.buildPrior()
+	st.alpha = make([]float64, st.K)
+	for k := range st.alpha {
+		st.alpha[k] = opt.Alpha
+	}
+	st.nk = make([]int32, st.K)
+	st.wt = make([][]tc, st.W)
+	st.checksum = corpusChecksum(corpus)
+	st.makeWorkers()
+	return st, nil
+}
+
+// holdout reports whether a record id falls in the held-out share. The
+// choice depends only on the id, so it is the same across runs.
+func holdout(id string, frac float64) bool {
+	if frac <= 0 {
+		return false
+	}
+	h := fnv.New64a()
+	h.Write([]byte(id))
+	return float64(h.Sum64()>>11)*(1.0/(1<<53)) < frac
+}
+
+func (st *state) buildDocs() error {
+	var n int64
+	for i := range st.corpus.Docs {
+		d := &st.corpus.Docs[i]
+		for _, w := range d.Words {
+			if w < 0 || int(w) >= st.W {
+				return fmt.Errorf("%w: record %q: word id %d not in [0,%d)", ErrBadCorpus, d.ID, w, st.W)
+			}
+		}
+		if holdout(d.ID, st.opt.HoldoutFraction) {
+			if len(d.Words) > 0 {
+				st.heldout = append(st.heldout, i)
+			}
+			continue
+		}
+		n += int64(len(d.Words))
+	}
+	if n == 0 {
+		return ErrEmptyCorpus
+	}
+	st.words = make([]int32, 0, n)
+	st.z = make([]int32, n)
+	for i := range st.corpus.Docs {
+		d := &st.corpus.Docs[i]
+		if len(d.Words) == 0 || holdout(d.ID, st.opt.HoldoutFraction) {
+			continue
+		}
+		sd := sdoc{start: int64(len(st.words))}
+		st.words = append(st.words, d.Words...)
+		sd.end = int64(len(st.words))
+		if len(d.Subjects) > 0 {
+			subj := make([]int32, 0, len(d.Subjects))
+			for _, s := range d.Subjects {
+				if s < 0 || int(s) >= st.C {
+					return fmt.Errorf("%w: record %q: subject index %d not a concept (C=%d)", ErrBadCorpus, d.ID, s, st.C)
+				}
+				subj = append(subj, s)
+			}
+			slices.Sort(subj)
+			sd.subjects = slices.Compact(subj)
+		}
+		st.docs = append(st.docs, sd)
+		st.ids = append(st.ids, d.ID)
+	}
+	return nil
+}
+
+func (st *state) buildPrior() {
+	st.B = make([]float64, st.K)
+	for k := range st.B {
+		st.B[k] = float64(st.W) * st.beta0
+	}
+	st.pStart = make([]int32, st.W+1)
+	if st.prior == nil || st.lambda == 0 {
+		return
+	}
+	for _, row := range st.prior.Rows {
+		for _, e := range row {
+			if e.Weight > 0 {
+				st.pStart[e.Word+1]++
+			}
+		}
+	}
+	for w := 0; w < st.W; w++ {
+		st.pStart[w+1] += st.pStart[w]
+	}
+	n := st.pStart[st.W]
+	st.pTopic = make([]int32, n)
+	st.pMass = make([]float64, n)
+	fill := slices.Clone(st.pStart[:st.W])
+	for k, row := range st.prior.Rows { // k ascending: each word's list ends up sorted by topic
+		for _, e := range row {
+			if e.Weight > 0 {
+				j := fill[e.Word]
+				fill[e.Word]++
+				st.pTopic[j] = int32(k)
+				st.pMass[j] = st.lambda * e.Weight
+				st.B[k] += st.lambda * e.Weight
+			}
+		}
+	}
+}
+
+// priorMass returns λ·π_kw (0 when topic k's row lacks w).
+func (st *state) priorMass(k, w int32) float64 {
+	lo, hi := st.pStart[w], st.pStart[w+1]
+	if lo == hi {
+		return 0
+	}
+	ts := st.pTopic[lo:hi]
+	if i, ok := slices.BinarySearch(ts, k); ok {
+		return st.pMass[int(lo)+i]
+	}
+	return 0
+}
+
+func corpusChecksum(c *Corpus) uint64 {
+	h := fnv.New64a()
+	var b [8]byte
+	binary.LittleEndian.PutUint64(b[:], uint64(c.W))
+	h.Write(b[:])
+	for i := range c.Docs {
+		d := &c.Docs[i]
+		h.Write([]byte(d.ID))
+		h.Write([]byte{0})
+		for _, w := range d.Words {
+			binary.LittleEndian.PutUint32(b[:4], uint32(w))
+			h.Write(b[:4])
+		}
+		h.Write([]byte{1})
+		for _, s := range d.Subjects {
+			binary.LittleEndian.PutUint32(b[:4], uint32(s))
+			h.Write(b[:4])
+		}
+		h.Write([]byte{2})
+	}
+	return h.Sum64()
+}
+
+// makeWorkers shards the records into contiguous runs of about equal token
+// counts, one per worker.
+func (st *state) makeWorkers() {
+	nw := st.opt.Workers
+	if nw > len(st.docs) {
+		nw = len(st.docs)
+	}
+	if nw < 1 {
+		nw = 1
+	}
+	total := int64(len(st.words))
+	st.shards = st.shards[:0]
+	start := 0
+	for w := 0; w < nw; w++ {
+		end := start
+		target := total * int64(w+1) / int64(nw)
+		for end < len(st.docs) && (st.docs[end].start < target || end == start) {
+			end++
+		}
+		if w == nw-1 {
+			end = len(st.docs)
+		}
+		st.shards = append(st.shards, [2]int{start, end})
+		start = end
+	}
+	st.workers = make([]*worker, nw)
+	st.rngs = make([]*rng, nw)
+	for w := range st.workers {
+		st.rngs[w] = newRNG(st.opt.Seed, uint64(w))
+		st.workers[w] = newWorker(st, st.rngs[w], nw > 1)
+	}
+}
+
+// initAssign draws a first topic for every token from the conditional given
+// the tokens assigned before it (one sequential pass, like a sweep whose
+// counts start empty). It keeps word lists sparse from the start.
+func (st *state) initAssign() {
+	wk := st.workers[0]
+	wk.attachGlobal()
+	wk.refresh()
+	for i := range st.docs {
+		wk.doc(&st.docs[i], true)
+	}
+	if len(st.workers) > 1 {
+		for _, w := range st.workers {
+			w.attachLocal()
+		}
+	}
+}
+
+// rebuildCounts recomputes n_k and n_kw from z (after restoring a checkpoint).
+func (st *state) rebuildCounts() error {
+	clear(st.nk)
+	for w := range st.wt {
+		st.wt[w] = st.wt[w][:0]
+	}
+	for di := range st.docs {
+		d := &st.docs[di]
+		for i := d.start; i < d.end; i++ {
+			k := st.z[i]
+			if k < 0 || int(k) >= st.K {
+				return fmt.Errorf("%w: topic %d out of range", ErrCheckpoint, k)
+			}
+			if d.subjects != nil && int(k) < st.C {
+				if _, ok := slices.BinarySearch(d.subjects, k); !ok {
+					return fmt.Errorf("%w: record %q holds topic %d outside its subjects", ErrCheckpoint, st.ids[di], k)
+				}
+			}
+			st.nk[k]++
+			incList(&st.wt[st.words[i]], k)
+		}
+	}
+	return nil
+}
+
+// incList adds one to topic k in a word's list, keeping it sorted by count
+// descending.
+func incList(l *[]tc, k int32) {
+	s := *l
+	i := 0
+	for i < len(s) && s[i].k != k {
+		i++
+	}
+	if i == len(s) {
+		s = append(s, tc{k, 1})
+		*l = s
+	} else {
+		s[i].n++
+	}
+	for i > 0 && s[i-1].n < s[i].n {
+		s[i-1], s[i] = s[i], s[i-1]
+		i--
+	}
+}
+
+// decList removes one from topic k in a word's list; an entry reaching zero
+// drops off the end.
+func decList(l *[]tc, k int32) {
+	s := *l
+	i := 0
+	for i < len(s) && s[i].k != k {
+		i++
+	}
+	if i == len(s) {
+		panic("fit: internal error: word-topic count underflow")
+	}
+	s[i].n--
+	for i+1 < len(s) && s[i+1].n > s[i].n {
+		s[i+1], s[i] = s[i], s[i+1]
+		i++
+	}
+	if s[i].n == 0 {
+		*l = s[:len(s)-1]
+	}
+}
