@@ -1,18 +1,82 @@
 // Package model is a fitted termgrove model and its .grove file format.
 //
+// K = C concept topics + F free topics over W word types. The topic–word
+// distribution is
+//
+//	φ_kw = (n_kw + β0 + λ·π_kw) / (n_k + W·β0 + λ·Σ_w π_kw)
+//
+// with n_kw the fitted counts (Counts), n_k their row totals (Totals) and π_k
+// the concept's label prior row (Prior; free topics have none).
+//
 // CONTRACT (fit, annotate, report, api code against these names; keep them):
 //
 //	m, err := model.Load("demo.grove")
 //	phi := m.Phi(k, w) // (n_kw + β_kw) / (n_k + Σ_w β_kw)
+//
+// The file is a 56-byte header followed by the payload:
+//
+//	offset 0  "TGROVE\r\n"  magic (the CR-LF catches text-mode mangling)
+//	offset 8  uint32 LE     format version (Version)
+//	offset 12 uint32 LE     flags, 0
+//	offset 16 uint64 LE     payload length in bytes
+//	offset 24 [32]byte      SHA-256 of the payload
+//
+// The payload is a gob blob (analyzer options, provenance, the scheme's
+// title and collections) followed by hand-packed flat arrays (uvarints,
+// delta-coded sorted word ids, little-endian float64): words, concepts, α,
+// β0, λ, prior rows, count rows, totals, record counts. Save writes to a
+// temporary file in the same folder, syncs it and renames it over the target,
+// so a reader never sees half a model and a failed write leaves the old file.
 package model
 
 import (
+	"bytes"
+	"container/heap"
+	"crypto/sha256"
+	"encoding/binary"
+	"encoding/gob"
+	"errors"
+	"fmt"
+	"hash"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"slices"
+	"sort"
+
 	"termgrove/concepts"
 	"termgrove/terms"
 )
 
 // Version is the file format version written by Save.
 const Version = 1
+
+// magic opens every .grove file.
+const magic = "TGROVE\r\n"
+
+const headerSize = 56
+
+// Errors returned by Load, wrapped in a *FileError naming the file.
+var (
+	// ErrFormat: the file is not a termgrove model.
+	ErrFormat = errors.New("not a termgrove model file")
+	// ErrVersion: a model file of a format version this build cannot read.
+	ErrVersion = errors.New("unsupported model file version")
+	// ErrCorrupt: the checksum does not match or the payload does not decode.
+	ErrCorrupt = errors.New("model file corrupted")
+	// ErrTruncated: the file ends before its payload does. errors.Is(err, ErrCorrupt) also holds.
+	ErrTruncated = fmt.Errorf("%w: truncated", ErrCorrupt)
+)
+
+// FileError is a Load or Save failure naming the file.
+type FileError struct {
+	File string
+	Err  error
+}
+
+func (e *FileError) Error() string { return e.File + ": " + e.Err.Error() }
+func (e *FileError) Unwrap() error { return e.Err }
 
 // WordWeight is a sparse (word, weight) pair, e.g. a prior row entry.
 type WordWeight struct {
@@ -41,6 +105,9 @@ type Model struct {
 	Totals     []int64        // K: n_k
 	DocCounts  []int32        // K: records whose tokens a topic took (for reports)
 	Provenance Provenance
+
+	sum    [32]byte // payload SHA-256, set by Load
+	hasSum bool
 }
 
 // Provenance records where a model came from.
@@ -61,3 +128,728 @@ type Provenance struct {
 
 // K is the number of topics.
 func (m *Model) K() int { return m.C + m.F }
+
+// W is the number of word types.
+func (m *Model) W() int { return len(m.Words) }
+
+// PriorMass is Σ_w π_kw for topic k (1 for a concept with terms, else 0).
+func (m *Model) PriorMass(k int) float64 {
+	if k >= len(m.Prior) {
+		return 0
+	}
+	s := 0.0
+	for _, e := range m.Prior[k] {
+		s += e.Weight
+	}
+	return s
+}
+
+// BetaSum is B_k = Σ_w β_kw = W·β0 + λ·Σ_w π_kw.
+func (m *Model) BetaSum(k int) float64 {
+	return float64(len(m.Words))*m.Beta0 + m.Lambda*m.PriorMass(k)
+}
+
+// Count returns n_kw.
+func (m *Model) Count(k, w int) int32 {
+	row := m.Counts[k]
+	i := sort.Search(len(row), func(i int) bool { return int(row[i].Word) >= w })
+	if i < len(row) && int(row[i].Word) == w {
+		return row[i].Count
+	}
+	return 0
+}
+
+// PriorWeight returns π_kw.
+func (m *Model) PriorWeight(k, w int) float64 {
+	if k >= len(m.Prior) {
+		return 0
+	}
+	row := m.Prior[k]
+	i := sort.Search(len(row), func(i int) bool { return int(row[i].Word) >= w })
+	if i < len(row) && int(row[i].Word) == w {
+		return row[i].Weight
+	}
+	return 0
+}
+
+// Phi returns φ_kw = (n_kw + β0 + λ·π_kw) / (n_k + B_k). It costs two binary
+// searches; hot loops should precompute (as package annotate does).
+func (m *Model) Phi(k, w int) float64 {
+	num := float64(m.Count(k, w)) + m.Beta0 + m.Lambda*m.PriorWeight(k, w)
+	return num / (float64(m.Totals[k]) + m.BetaSum(k))
+}
+
+// TopWords returns the n words of topic k with the highest φ_kw, highest
+// first (ties by word id), with φ_kw as Weight. Only words with counts or
+// prior weight are candidates; the rest share the smoothing floor.
+func (m *Model) TopWords(k, n int) []WordWeight {
+	if n <= 0 {
+		return nil
+	}
+	den := float64(m.Totals[k]) + m.BetaSum(k)
+	var pr []WordWeight
+	if k < len(m.Prior) {
+		pr = m.Prior[k]
+	}
+	cr := m.Counts[k]
+	h := &minHeap{}
+	push := func(w int32, num float64) {
+		ww := WordWeight{Word: w, Weight: num / den}
+		if h.Len() < n {
+			heap.Push(h, ww)
+		} else if less((*h)[0], ww) {
+			(*h)[0] = ww
+			heap.Fix(h, 0)
+		}
+	}
+	// Merge the two sorted rows.
+	i, j := 0, 0
+	for i < len(cr) || j < len(pr) {
+		switch {
+		case j >= len(pr) || (i < len(cr) && cr[i].Word < pr[j].Word):
+			push(cr[i].Word, float64(cr[i].Count)+m.Beta0)
+			i++
+		case i >= len(cr) || pr[j].Word < cr[i].Word:
+			push(pr[j].Word, m.Beta0+m.Lambda*pr[j].Weight)
+			j++
+		default:
+			push(cr[i].Word, float64(cr[i].Count)+m.Beta0+m.Lambda*pr[j].Weight)
+			i++
+			j++
+		}
+	}
+	out := make([]WordWeight, h.Len())
+	for i := len(out) - 1; i >= 0; i-- {
+		out[i] = heap.Pop(h).(WordWeight)
+	}
+	return out
+}
+
+// less orders a below b in TopWords' ranking (lower weight, or higher id on a tie).
+func less(a, b WordWeight) bool {
+	if a.Weight != b.Weight {
+		return a.Weight < b.Weight
+	}
+	return a.Word > b.Word
+}
+
+type minHeap []WordWeight
+
+func (h minHeap) Len() int           { return len(h) }
+func (h minHeap) Less(i, j int) bool { return less(h[i], h[j]) }
+func (h minHeap) Swap(i, j int)      { h[i], h[j] = h[j], h[i] }
+func (h *minHeap) Push(x any)        { *h = append(*h, x.(WordWeight)) }
+func (h *minHeap) Pop() any {
+	old := *h
+	x := old[len(old)-1]
+	*h = old[:len(old)-1]
+	return x
+}
+
+// ConceptIndex returns the topic of the concept with this IRI.
+func (m *Model) ConceptIndex(iri string) (int, bool) {
+	if m.Scheme == nil {
+		return 0, false
+	}
+	return m.Scheme.Lookup(iri)
+}
+
+// NewAnalyzer builds a text analyzer over the model's word types, so that
+// analysed text gets the ids the model was fitted with. Analyze with
+// grow=false: unknown terms get id -1. (Field Analyzer holds its options.)
+func (m *Model) NewAnalyzer() (*terms.Analyzer, error) {
+	return terms.New(m.Analyzer, terms.DictionaryOf(slices.Clip(m.Words)))
+}
+
+// Sum returns the SHA-256 of the model's payload as Save writes it: stored by
+// Load, computed (by encoding the model) otherwise.
+func (m *Model) Sum() ([32]byte, error) {
+	if m.hasSum {
+		return m.sum, nil
+	}
+	h := sha256.New()
+	if err := encode(h, m); err != nil {
+		return [32]byte{}, err
+	}
+	var s [32]byte
+	h.Sum(s[:0])
+	return s, nil
+}
+
+// Validate checks that the model's tables agree in size and order.
+func (m *Model) Validate() error {
+	K, W := m.K(), len(m.Words)
+	switch {
+	case m.C < 0 || m.F < 0:
+		return fmt.Errorf("negative topic counts C=%d F=%d", m.C, m.F)
+	case m.Scheme == nil && m.C > 0:
+		return errors.New("no scheme")
+	case m.Scheme != nil && len(m.Scheme.Concepts) != m.C:
+		return fmt.Errorf("scheme has %d concepts, C = %d", len(m.Scheme.Concepts), m.C)
+	case len(m.Alpha) != K || len(m.Counts) != K || len(m.Totals) != K:
+		return fmt.Errorf("K = %d but %d alpha, %d count rows, %d totals", K, len(m.Alpha), len(m.Counts), len(m.Totals))
+	case len(m.DocCounts) != 0 && len(m.DocCounts) != K:
+		return fmt.Errorf("K = %d but %d doc counts", K, len(m.DocCounts))
+	case len(m.Prior) > m.C:
+		return fmt.Errorf("%d prior rows for %d concepts", len(m.Prior), m.C)
+	case !(m.Beta0 > 0) || math.IsInf(m.Beta0, 0) || m.Lambda < 0 || math.IsNaN(m.Lambda) || math.IsInf(m.Lambda, 0):
+		return fmt.Errorf("bad beta0 %v or lambda %v", m.Beta0, m.Lambda)
+	}
+	for k, a := range m.Alpha {
+		if !(a > 0) || math.IsInf(a, 0) {
+			return fmt.Errorf("alpha[%d] = %v", k, a)
+		}
+	}
+	for k, row := range m.Counts {
+		var sum int64
+		for i, e := range row {
+			if e.Word < 0 || int(e.Word) >= W || (i > 0 && e.Word <= row[i-1].Word) || e.Count <= 0 {
+				return fmt.Errorf("count row %d: entry %d (word %d, count %d) out of range or order", k, i, e.Word, e.Count)
+			}
+			sum += int64(e.Count)
+		}
+		if sum != m.Totals[k] {
+			return fmt.Errorf("topic %d: counts sum to %d, total says %d", k, sum, m.Totals[k])
+		}
+	}
+	for k, row := range m.Prior {
+		for i, e := range row {
+			if e.Word < 0 || int(e.Word) >= W || (i > 0 && e.Word <= row[i-1].Word) || !(e.Weight >= 0) {
+				return fmt.Errorf("prior row %d: entry %d (word %d, weight %v) out of range or order", k, i, e.Word, e.Weight)
+			}
+		}
+	}
+	if m.Scheme != nil {
+		for i, c := range m.Scheme.Concepts {
+			for _, j := range append(slices.Clip(c.Broader), c.Narrower...) {
+				if j < 0 || j >= m.C {
+					return fmt.Errorf("concept %d (%s): link to %d out of range", i, c.IRI, j)
+				}
+			}
+		}
+	}
+	return nil
+}
+
+// Save writes m to path atomically: a temporary file in the same folder,
+// synced, then renamed over path. On any error the old file is untouched and
+// the temporary file removed.
+func Save(path string, m *Model) error {
+	return save(path, m, nil)
+}
+
+// save is Save with an optional writer wrapper (tests inject failures).
+func save(path string, m *Model, wrap func(io.Writer) io.Writer) (err error) {
+	fail := func(err error) error { return &FileError{File: path, Err: err} }
+	if err := m.Validate(); err != nil {
+		return fail(fmt.Errorf("invalid model: %w", err))
+	}
+	dir := filepath.Dir(path)
+	f, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp*")
+	if err != nil {
+		return fail(err)
+	}
+	defer func() {
+		if err != nil {
+			f.Close()
+			os.Remove(f.Name())
+		}
+	}()
+	var hdr [headerSize]byte
+	if _, err := f.Write(hdr[:]); err != nil {
+		return fail(err)
+	}
+	var w io.Writer = f
+	if wrap != nil {
+		w = wrap(f)
+	}
+	bw := newCountingWriter(w)
+	if err := encode(bw, m); err != nil {
+		return fail(err)
+	}
+	if err := bw.Flush(); err != nil {
+		return fail(err)
+	}
+	copy(hdr[:], magic)
+	binary.LittleEndian.PutUint32(hdr[8:], Version)
+	binary.LittleEndian.PutUint64(hdr[16:], uint64(bw.n))
+	bw.h.Sum(hdr[24:24])
+	if _, err := f.WriteAt(hdr[:], 0); err != nil {
+		return fail(err)
+	}
+	if err := f.Sync(); err != nil {
+		return fail(err)
+	}
+	if err := f.Close(); err != nil {
+		return fail(err)
+	}
+	if err := os.Rename(f.Name(), path); err != nil {
+		return fail(err)
+	}
+	// Make the rename itself durable; not all systems can sync a folder.
+	if d, err := os.Open(dir); err == nil {
+		d.Sync()
+		d.Close()
+	}
+	return nil
+}
+
+// countingWriter buffers, hashes and counts what passes through.
+type countingWriter struct {
+	w   io.Writer
+	h   hash.Hash
+	buf []byte
+	n   int64
+	err error
+}
+
+func newCountingWriter(w io.Writer) *countingWriter {
+	return &countingWriter{w: w, h: sha256.New(), buf: make([]byte, 0, 1<<20)}
+}
+
+func (c *countingWriter) Write(p []byte) (int, error) {
+	if c.err != nil {
+		return 0, c.err
+	}
+	n := len(p)
+	c.h.Write(p)
+	c.n += int64(len(p))
+	for len(p) > 0 {
+		k := copy(c.buf[len(c.buf):cap(c.buf)], p)
+		c.buf = c.buf[:len(c.buf)+k]
+		p = p[k:]
+		if len(c.buf) == cap(c.buf) {
+			if err := c.Flush(); err != nil {
+				return 0, err
+			}
+		}
+	}
+	return n, nil
+}
+
+func (c *countingWriter) Flush() error {
+	if c.err != nil {
+		return c.err
+	}
+	if len(c.buf) > 0 {
+		_, c.err = c.w.Write(c.buf)
+		c.buf = c.buf[:0]
+	}
+	return c.err
+}
+
+// Load reads a model written by Save. Errors are *FileError values naming
+// the file; match ErrFormat, ErrVersion, ErrCorrupt or ErrTruncated with
+// errors.Is.
+func Load(path string) (*Model, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	m, err := Decode(b)
+	if err != nil {
+		return nil, &FileError{File: path, Err: err}
+	}
+	return m, nil
+}
+
+// Decode reads a model from the bytes of a .grove file.
+func Decode(b []byte) (*Model, error) {
+	if len(b) < len(magic) || string(b[:len(magic)]) != magic {
+		return nil, ErrFormat
+	}
+	if len(b) < headerSize {
+		return nil, fmt.Errorf("%w: %d-byte file ends inside the header", ErrTruncated, len(b))
+	}
+	if v := binary.LittleEndian.Uint32(b[8:]); v != Version {
+		return nil, fmt.Errorf("%w: file has version %d, this build reads version %d", ErrVersion, v, Version)
+	}
+	n := binary.LittleEndian.Uint64(b[16:])
+	payload := b[headerSize:]
+	if uint64(len(payload)) < n {
+		return nil, fmt.Errorf("%w: payload has %d of %d bytes", ErrTruncated, len(payload), n)
+	}
+	if uint64(len(payload)) > n {
+		return nil, fmt.Errorf("%w: %d bytes after the payload", ErrCorrupt, uint64(len(payload))-n)
+	}
+	sum := sha256.Sum256(payload)
+	if !bytes.Equal(sum[:], b[24:56]) {
+		return nil, fmt.Errorf("%w: checksum mismatch", ErrCorrupt)
+	}
+	m, err := decode(payload)
+	if err != nil {
+		return nil, fmt.Errorf("%w: %v", ErrCorrupt, err)
+	}
+	if err := m.Validate(); err != nil {
+		return nil, fmt.Errorf("%w: %v", ErrCorrupt, err)
+	}
+	m.sum, m.hasSum = sum, true
+	return m, nil
+}
+
+// meta is the gob-encoded part of the payload: small, and shaped by other
+// packages (terms.Options may gain fields).
+type meta struct {
+	Analyzer    terms.Options
+	Provenance  Provenance
+	SchemeIRI   string
+	Title       []concepts.Label
+	Collections []concepts.Collection
+	HasScheme   bool
+}
+
+// enc packs the flat arrays.
+type enc struct {
+	w   io.Writer
+	b   []byte
+	err error
+}
+
+func (e *enc) flush() {
+	if e.err == nil && len(e.b) > 0 {
+		_, e.err = e.w.Write(e.b)
+	}
+	e.b = e.b[:0]
+}
+
+func (e *enc) maybeFlush() {
+	if len(e.b) >= 64<<10 {
+		e.flush()
+	}
+}
+
+func (e *enc) uvarint(v uint64) { e.b = binary.AppendUvarint(e.b, v); e.maybeFlush() }
+func (e *enc) varint(v int64)   { e.b = binary.AppendVarint(e.b, v); e.maybeFlush() }
+func (e *enc) f64(v float64) {
+	e.b = binary.LittleEndian.AppendUint64(e.b, math.Float64bits(v))
+	e.maybeFlush()
+}
+func (e *enc) str(s string) {
+	e.b = binary.AppendUvarint(e.b, uint64(len(s)))
+	e.b = append(e.b, s...)
+	e.maybeFlush()
+}
+func (e *enc) labels(ls []concepts.Label) {
+	e.uvarint(uint64(len(ls)))
+	for _, l := range ls {
+		e.str(l.Lang)
+		e.str(l.Text)
+	}
+}
+func (e *enc) ints(xs []int) {
+	e.uvarint(uint64(len(xs)))
+	for _, x := range xs {
+		e.varint(int64(x))
+	}
+}
+
+func encode(w io.Writer, m *Model) error {
+	md := meta{Analyzer: m.Analyzer, Provenance: m.Provenance}
+	if m.Scheme != nil {
+		md.HasScheme = true
+		md.SchemeIRI, md.Title, md.Collections = m.Scheme.IRI, m.Scheme.Title, m.Scheme.Collections
+	}
+	var gb bytes.Buffer
+	if err := gob.NewEncoder(&gb).Encode(&md); err != nil {
+		return err
+	}
+	e := &enc{w: w, b: make([]byte, 0, 80<<10)}
+	e.uvarint(uint64(gb.Len()))
+	e.flush()
+	if e.err == nil {
+		_, e.err = w.Write(gb.Bytes())
+	}
+	e.uvarint(uint64(m.C))
+	e.uvarint(uint64(m.F))
+	e.uvarint(uint64(len(m.Words)))
+	for _, s := range m.Words {
+		e.str(s)
+	}
+	if m.Scheme != nil {
+		for i := range m.Scheme.Concepts {
+			c := &m.Scheme.Concepts[i]
+			e.str(c.IRI)
+			e.labels(c.Pref)
+			e.labels(c.Alt)
+			e.labels(c.Hidden)
+			e.uvarint(uint64(len(c.Notation)))
+			for _, s := range c.Notation {
+				e.str(s)
+			}
+			e.labels(c.Definition)
+			e.labels(c.ScopeNote)
+			e.ints(c.Broader)
+			e.ints(c.Narrower)
+			var fl uint64
+			if c.Top {
+				fl |= 1
+			}
+			if c.Deprecated {
+				fl |= 2
+			}
+			e.uvarint(fl)
+		}
+	}
+	for _, a := range m.Alpha {
+		e.f64(a)
+	}
+	e.f64(m.Beta0)
+	e.f64(m.Lambda)
+	e.uvarint(uint64(len(m.Prior)))
+	for _, row := range m.Prior {
+		e.uvarint(uint64(len(row)))
+		prev := int32(0)
+		for _, x := range row {
+			e.uvarint(uint64(x.Word - prev))
+			prev = x.Word
+			e.f64(x.Weight)
+		}
+	}
+	var total uint64
+	for _, row := range m.Counts {
+		total += uint64(len(row))
+	}
+	e.uvarint(total)
+	for _, row := range m.Counts {
+		e.uvarint(uint64(len(row)))
+		prev := int32(0)
+		for _, x := range row {
+			e.uvarint(uint64(x.Word - prev))
+			prev = x.Word
+			e.uvarint(uint64(x.Count))
+		}
+	}
+	for _, t := range m.Totals {
+		e.varint(t)
+	}
+	e.uvarint(uint64(len(m.DocCounts)))
+	for _, d := range m.DocCounts {
+		e.varint(int64(d))
+	}
+	e.flush()
+	return e.err
+}
+
+// dec unpacks the flat arrays; the first error sticks and later reads
+// return zeros, so decode checks once per section.
+type dec struct {
+	b   []byte
+	off int
+	err error
+}
+
+var errShort = errors.New("payload ends early")
+
+func (d *dec) uvarint() uint64 {
+	if d.err != nil {
+		return 0
+	}
+	v, n := binary.Uvarint(d.b[d.off:])
+	if n <= 0 {
+		d.err = errShort
+		return 0
+	}
+	d.off += n
+	return v
+}
+
+func (d *dec) varint() int64 {
+	if d.err != nil {
+		return 0
+	}
+	v, n := binary.Varint(d.b[d.off:])
+	if n <= 0 {
+		d.err = errShort
+		return 0
+	}
+	d.off += n
+	return v
+}
+
+// count reads a length and checks that at least min bytes per item remain.
+func (d *dec) count(min int) int {
+	v := d.uvarint()
+	if d.err == nil && v > uint64(len(d.b)-d.off)/uint64(min) {
+		d.err = fmt.Errorf("length %d exceeds the payload at byte %d", v, d.off)
+		return 0
+	}
+	return int(v)
+}
+
+func (d *dec) f64() float64 {
+	if d.err != nil {
+		return 0
+	}
+	if len(d.b)-d.off < 8 {
+		d.err = errShort
+		return 0
+	}
+	v := math.Float64frombits(binary.LittleEndian.Uint64(d.b[d.off:]))
+	d.off += 8
+	return v
+}
+
+func (d *dec) str() string {
+	n := d.count(1)
+	if d.err != nil {
+		return ""
+	}
+	s := string(d.b[d.off : d.off+n])
+	d.off += n
+	return s
+}
+
+func (d *dec) labels() []concepts.Label {
+	n := d.count(2)
+	if n == 0 {
+		return nil
+	}
+	ls := make([]concepts.Label, n)
+	for i := range ls {
+		ls[i] = concepts.Label{Lang: d.str(), Text: d.str()}
+	}
+	return ls
+}
+
+func (d *dec) ints() []int {
+	n := d.count(1)
+	if n == 0 {
+		return nil
+	}
+	xs := make([]int, n)
+	for i := range xs {
+		xs[i] = int(d.varint())
+	}
+	return xs
+}
+
+func decode(b []byte) (*Model, error) {
+	d := &dec{b: b}
+	gn := d.count(1)
+	if d.err != nil {
+		return nil, d.err
+	}
+	var md meta
+	if err := gob.NewDecoder(bytes.NewReader(b[d.off : d.off+gn])).Decode(&md); err != nil {
+		return nil, fmt.Errorf("header: %v", err)
+	}
+	d.off += gn
+	m := &Model{Analyzer: md.Analyzer, Provenance: md.Provenance}
+	m.C = d.count(1)
+	m.F = d.count(1)
+	if d.err == nil && m.C+m.F > len(b) {
+		return nil, fmt.Errorf("K = %d exceeds the payload", m.C+m.F)
+	}
+	W := d.count(1)
+	m.Words = make([]string, W)
+	for i := range m.Words {
+		m.Words[i] = d.str()
+	}
+	if d.err != nil {
+		return nil, d.err
+	}
+	if md.HasScheme {
+		s := &concepts.Scheme{IRI: md.SchemeIRI, Title: md.Title, Collections: md.Collections}
+		s.Concepts = make([]concepts.Concept, m.C)
+		for i := range s.Concepts {
+			c := &s.Concepts[i]
+			c.IRI = d.str()
+			c.Pref = d.labels()
+			c.Alt = d.labels()
+			c.Hidden = d.labels()
+			if n := d.count(1); n > 0 {
+				c.Notation = make([]string, n)
+				for j := range c.Notation {
+					c.Notation[j] = d.str()
+				}
+			}
+			c.Definition = d.labels()
+			c.ScopeNote = d.labels()
+			c.Broader = d.ints()
+			c.Narrower = d.ints()
+			fl := d.uvarint()
+			c.Top, c.Deprecated = fl&1 != 0, fl&2 != 0
+			if d.err != nil {
+				return nil, fmt.Errorf("concept %d: %v", i, d.err)
+			}
+		}
+		s.Reindex()
+		m.Scheme = s
+	}
+	K := m.K()
+	if K > (len(b)-d.off)/8 {
+		return nil, fmt.Errorf("K = %d exceeds the payload", K)
+	}
+	m.Alpha = make([]float64, K)
+	for k := range m.Alpha {
+		m.Alpha[k] = d.f64()
+	}
+	m.Beta0 = d.f64()
+	m.Lambda = d.f64()
+	np := d.count(1)
+	if np > 0 {
+		m.Prior = make([][]WordWeight, np)
+	}
+	for k := range m.Prior {
+		n := d.count(9)
+		if n == 0 {
+			continue
+		}
+		row := make([]WordWeight, n)
+		w := uint64(0)
+		for i := range row {
+			w += d.uvarint()
+			row[i] = WordWeight{Word: clampWord(w), Weight: d.f64()}
+		}
+		m.Prior[k] = row
+	}
+	total := d.count(2)
+	if d.err != nil {
+		return nil, d.err
+	}
+	flat := make([]WordCount, total)
+	m.Counts = make([][]WordCount, K)
+	for k := range m.Counts {
+		n := d.count(2)
+		if n > len(flat) {
+			return nil, fmt.Errorf("count row %d longer than the declared total", k)
+		}
+		row := flat[:n:n]
+		flat = flat[n:]
+		w := uint64(0)
+		for i := range row {
+			w += d.uvarint()
+			c := d.uvarint()
+			if c > math.MaxInt32 {
+				c = 0 // rejected by Validate
+			}
+			row[i] = WordCount{Word: clampWord(w), Count: int32(c)}
+		}
+		m.Counts[k] = row
+	}
+	m.Totals = make([]int64, K)
+	for k := range m.Totals {
+		m.Totals[k] = d.varint()
+	}
+	if n := d.count(1); n > 0 {
+		m.DocCounts = make([]int32, n)
+		for k := range m.DocCounts {
+			m.DocCounts[k] = int32(d.varint())
+		}
+	}
+	if d.err != nil {
+		return nil, d.err
+	}
+	if d.off != len(b) {
+		return nil, fmt.Errorf("%d bytes left after the payload", len(b)-d.off)
+	}
+	return m, nil
+}
+
+// clampWord maps an out-of-range decoded id to -1 so that Validate rejects it.
+func clampWord(w uint64) int32 {
+	if w > math.MaxInt32 {
+		return -1
+	}
+	return int32(w)
+}
