@@ -1,0 +1,305 @@
+package rdf
+
+import (
+	"errors"
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
+	"testing"
+)
+
+// readXMLLines parses doc and returns its triples as sorted N-Triples lines.
+// Generated blank nodes are labelled b0, b1, ... in document order, so the
+// expected lines below can name them.
+func readXMLLines(t *testing.T, doc, base string) ([]string, error) {
+	t.Helper()
+	var got []string
+	err := ReadRDFXML(strings.NewReader(doc), Options{Base: base, File: "t.rdf"}, func(tr Triple) error {
+		got = append(got, tr.String())
+		return nil
+	})
+	sort.Strings(got)
+	return got, err
+}
+
+const xmlHead = `<rdf:RDF xmlns:rdf="http://www.w3.org/1999/02/22-rdf-syntax-ns#" xmlns:ex="http://ex.org/" xmlns:skos="http://www.w3.org/2004/02/skos/core#">` + "\n"
+
+func TestReadRDFXMLForms(t *testing.T) {
+	const (
+		rdf = "http://www.w3.org/1999/02/22-rdf-syntax-ns#"
+		ty  = "<" + rdf + "type>"
+	)
+	tests := []struct {
+		name string
+		body string // inside rdf:RDF
+		want []string
+	}{
+		{
+			// Source: RDF 1.1 XML Syntax §2.2-2.3 (node and property elements, xml:lang).
+			name: "description with literal and resource",
+			body: `<rdf:Description rdf:about="http://ex.org/a">
+  <skos:prefLabel xml:lang="EN">cat</skos:prefLabel>
+  <skos:broader rdf:resource="b"/>
+</rdf:Description>`,
+			want: []string{
+				`<http://ex.org/a> <http://www.w3.org/2004/02/skos/core#broader> <http://base.org/dir/b> .`,
+				`<http://ex.org/a> <http://www.w3.org/2004/02/skos/core#prefLabel> "cat"@en .`,
+			},
+		},
+		{
+			// Source: RDF 1.1 XML Syntax §2.13 (typed node element) and §2.5 (property attributes).
+			name: "typed node, property attribute, rdf:ID",
+			body: `<skos:Concept rdf:ID="c1" skos:notation="001" xml:lang="fr"/>`,
+			want: []string{
+				`<http://base.org/dir/doc#c1> <http://www.w3.org/2004/02/skos/core#notation> "001"@fr .`,
+				`<http://base.org/dir/doc#c1> ` + ty + ` <http://www.w3.org/2004/02/skos/core#Concept> .`,
+			},
+		},
+		{
+			// Source: RDF 1.1 XML Syntax §2.14 (xml:base) with RFC 3986 §5.2 resolution.
+			name: "xml:base",
+			body: `<rdf:Description xml:base="http://other.org/x/y" rdf:about="../z"><ex:p rdf:resource=""/></rdf:Description>`,
+			want: []string{`<http://other.org/z> <http://ex.org/p> <http://other.org/x/y> .`},
+		},
+		{
+			// Source: RDF 1.1 XML Syntax §2.9 (datatyped literals).
+			name: "rdf:datatype and empty typed literal",
+			body: `<rdf:Description rdf:about="http://ex.org/a" xml:lang="en"><ex:n rdf:datatype="http://www.w3.org/2001/XMLSchema#int">7</ex:n><ex:e rdf:datatype="http://www.w3.org/2001/XMLSchema#string"/></rdf:Description>`,
+			want: []string{
+				`<http://ex.org/a> <http://ex.org/e> "" .`,
+				`<http://ex.org/a> <http://ex.org/n> "7"^^<http://www.w3.org/2001/XMLSchema#int> .`,
+			},
+		},
+		{
+			// Source: RDF 1.1 XML Syntax §2.10 (nodeID) and §2.11 (parseType="Resource").
+			name: "nodeID and parseType Resource",
+			body: `<rdf:Description rdf:nodeID="x"><ex:p rdf:parseType="Resource"><ex:q>v</ex:q></ex:p></rdf:Description>`,
+			want: []string{
+				`_:b0 <http://ex.org/q> "v" .`,
+				`_:x <http://ex.org/p> _:b0 .`,
+			},
+		},
+		{
+			// Source: RDF 1.1 XML Syntax §2.15 (rdf:li containers).
+			name: "container with rdf:li",
+			body: `<rdf:Seq rdf:about="http://ex.org/s"><rdf:li>one</rdf:li><rdf:li rdf:resource="http://ex.org/two"/></rdf:Seq>`,
+			want: []string{
+				`<http://ex.org/s> <` + rdf + `_1> "one" .`,
+				`<http://ex.org/s> <` + rdf + `_2> <http://ex.org/two> .`,
+				`<http://ex.org/s> ` + ty + ` <` + rdf + `Seq> .`,
+			},
+		},
+		{
+			// Source: RDF 1.1 XML Syntax §2.16 (parseType="Collection").
+			name: "collection",
+			body: `<rdf:Description rdf:about="http://ex.org/a"><ex:l rdf:parseType="Collection"><rdf:Description rdf:about="http://ex.org/1"/><rdf:Description rdf:about="http://ex.org/2"/></ex:l><ex:m rdf:parseType="Collection"/></rdf:Description>`,
+			want: []string{
+				`<http://ex.org/a> <http://ex.org/l> _:b0 .`,
+				`<http://ex.org/a> <http://ex.org/m> <` + rdf + `nil> .`,
+				`_:b0 <` + rdf + `first> <http://ex.org/1> .`,
+				`_:b0 <` + rdf + `rest> _:b1 .`,
+				`_:b1 <` + rdf + `first> <http://ex.org/2> .`,
+				`_:b1 <` + rdf + `rest> <` + rdf + `nil> .`,
+			},
+		},
+		{
+			// Source: RDF 1.1 XML Syntax §2.17 (reifying statements with rdf:ID).
+			name: "reification",
+			body: `<rdf:Description rdf:about="http://ex.org/a"><ex:p rdf:ID="r">v</ex:p></rdf:Description>`,
+			want: []string{
+				`<http://base.org/dir/doc#r> <` + rdf + `object> "v" .`,
+				`<http://base.org/dir/doc#r> <` + rdf + `predicate> <http://ex.org/p> .`,
+				`<http://base.org/dir/doc#r> <` + rdf + `subject> <http://ex.org/a> .`,
+				`<http://base.org/dir/doc#r> ` + ty + ` <` + rdf + `Statement> .`,
+				`<http://ex.org/a> <http://ex.org/p> "v" .`,
+			},
+		},
+		{
+			// Source: Exclusive XML Canonicalization 1.0 §3 (visibly used
+			// namespaces only), as in the suite's rdfms-xml-literal-namespaces tests.
+			name: "parseType Literal canonical form",
+			body: `<rdf:Description rdf:about="http://ex.org/a"><ex:x rdf:parseType="Literal"><b xmlns="http://h/" z="1" a="&lt;&#10;"/> &amp; <ex:i/><!--c--></ex:x></rdf:Description>`,
+			want: []string{
+				`<http://ex.org/a> <http://ex.org/x> "<b xmlns=\"http://h/\" a=\"&lt;&#xA;\" z=\"1\"></b> &amp; <ex:i xmlns:ex=\"http://ex.org/\"></ex:i><!--c-->"^^<` + rdf + `XMLLiteral> .`,
+			},
+		},
+		{
+			// Source: RDF 1.1 XML Syntax §2.12 (empty property element with
+			// property attributes describes a new blank node).
+			name: "empty property element with property attributes",
+			body: `<rdf:Description rdf:about="http://ex.org/a"><ex:p ex:q="v" rdf:type="http://ex.org/T"/></rdf:Description>`,
+			want: []string{
+				`<http://ex.org/a> <http://ex.org/p> _:b0 .`,
+				`_:b0 <http://ex.org/q> "v" .`,
+				`_:b0 ` + ty + ` <http://ex.org/T> .`,
+			},
+		},
+		{
+			// Source: RDF 1.1 XML Syntax §2.10: an rdf:nodeID names one blank
+			// node in the document, never a generated one.
+			name: "nodeID that looks generated stays distinct",
+			body: `<rdf:Description rdf:nodeID="b0"><ex:p><rdf:Description/></ex:p></rdf:Description>`,
+			want: []string{`_:b0_ <http://ex.org/p> _:b0 .`},
+		},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			got, err := readXMLLines(t, xmlHead+tc.body+"\n</rdf:RDF>\n", "http://base.org/dir/doc")
+			if err != nil {
+				t.Fatal(err)
+			}
+			want := append([]string(nil), tc.want...)
+			sort.Strings(want)
+			if strings.Join(got, "\n") != strings.Join(want, "\n") {
+				t.Errorf("got\n%s\nwant\n%s", strings.Join(got, "\n"), strings.Join(want, "\n"))
+			}
+		})
+	}
+}
+
+func TestReadRDFXMLDoctypeEntities(t *testing.T) {
+	// Common practice, no source: OWL and SKOS files written by hand declare
+	// namespace IRIs as internal DTD entities.
+	doc := `<?xml version="1.0"?>
+<!DOCTYPE rdf:RDF [
+  <!ENTITY ex "http://ex.org/">
+]>
+<rdf:RDF xmlns:rdf="http://www.w3.org/1999/02/22-rdf-syntax-ns#" xmlns:ex="&ex;">
+  <rdf:Description rdf:about="&ex;a"><ex:p>x</ex:p></rdf:Description>
+</rdf:RDF>`
+	got, err := readXMLLines(t, doc, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := `<http://ex.org/a> <http://ex.org/p> "x" .`; len(got) != 1 || got[0] != want {
+		t.Errorf("got %q, want %q", got, want)
+	}
+}
+
+func TestReadRDFXMLLatin1(t *testing.T) {
+	// Source: XML 1.0 §4.3.3 (encoding declaration); 0xE9 is é in ISO-8859-1.
+	doc := "<?xml version=\"1.0\" encoding=\"ISO-8859-1\"?>\n" + xmlHead +
+		"<rdf:Description rdf:about=\"http://ex.org/a\"><ex:p>caf\xe9</ex:p></rdf:Description></rdf:RDF>"
+	got, err := readXMLLines(t, doc, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := `<http://ex.org/a> <http://ex.org/p> "café" .`; len(got) != 1 || got[0] != want {
+		t.Errorf("got %q, want %q", got, want)
+	}
+}
+
+func TestReadRDFXMLBadInput(t *testing.T) {
+	tests := []struct {
+		name      string
+		doc       string
+		line, col int
+		msg       string // part of the message
+	}{
+		{
+			name: "truncated inside an element",
+			doc:  xmlHead + "<rdf:Description rdf:about=\"http://ex.org/a\">\n  <ex:p>x</ex:p>\n",
+			line: 4, col: 1, msg: "not closed",
+		},
+		{
+			name: "truncated inside a tag",
+			doc:  xmlHead + "<rdf:Description rdf:ab",
+			line: 2, col: 24, msg: "unexpected end of input",
+		},
+		{
+			name: "not XML at all",
+			doc:  "@prefix ex: <http://ex.org/> .\nex:a ex:p ex:b .\n",
+			line: 1, col: 1, msg: "text outside the root element",
+		},
+		{
+			name: "invalid UTF-8 in text",
+			doc:  xmlHead + "<rdf:Description rdf:about=\"http://ex.org/a\">\n  <ex:p>ab\xffc</ex:p></rdf:Description></rdf:RDF>",
+			line: 3, col: 11, msg: "invalid UTF-8",
+		},
+		{
+			name: "invalid UTF-8 after a multi-byte character",
+			doc:  xmlHead + "<rdf:Description rdf:about=\"http://ex.org/é\xc3\">",
+			line: 2, col: 44, msg: "invalid UTF-8",
+		},
+		{
+			name: "mismatched end tag",
+			doc:  xmlHead + "<rdf:Description>\n</ex:p>",
+			line: 3, col: 1, msg: "does not match",
+		},
+		{
+			name: "undeclared prefix",
+			doc:  xmlHead + "  <foo:Bar/>",
+			line: 2, col: 3, msg: `undeclared namespace prefix "foo"`,
+		},
+		{
+			name: "rdf:li as node element",
+			doc:  xmlHead + "\n  <rdf:li/>",
+			line: 3, col: 3, msg: "rdf:li is not allowed as a node element",
+		},
+		{
+			name: "text mixed with a node element",
+			doc:  xmlHead + "<rdf:Description><ex:p>x<rdf:Description/></ex:p></rdf:Description></rdf:RDF>",
+			line: 2, col: 25, msg: "after text",
+		},
+		{
+			name: "empty file",
+			doc:  "",
+			line: 1, col: 1, msg: "no RDF/XML root element",
+		},
+		{
+			name: "unsupported encoding",
+			doc:  `<?xml version="1.0" encoding="EBCDIC"?><rdf:RDF/>`,
+			line: 1, col: 1, msg: "unsupported encoding",
+		},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			_, err := readXMLLines(t, tc.doc, "")
+			var pe *ParseError
+			if !errors.As(err, &pe) {
+				t.Fatalf("error %v (%T), want *ParseError", err, err)
+			}
+			if !errors.Is(err, ErrSyntax) {
+				t.Errorf("error %v does not match ErrSyntax", err)
+			}
+			if pe.File != "t.rdf" || pe.Line != tc.line || pe.Col != tc.col || !strings.Contains(pe.Msg, tc.msg) {
+				t.Errorf("got %v, want t.rdf:%d:%d: ...%s...", err, tc.line, tc.col, tc.msg)
+			}
+		})
+	}
+}
+
+func TestReadRDFXMLCallbackError(t *testing.T) {
+	stop := errors.New("stop")
+	n := 0
+	err := ReadRDFXML(strings.NewReader(xmlHead+`<ex:A rdf:about="http://ex.org/a" ex:p="1" ex:q="2"/></rdf:RDF>`), Options{}, func(Triple) error {
+		n++
+		return stop
+	})
+	if err != stop || n != 1 {
+		t.Errorf("got %v after %d triples, want the callback's error after 1", err, n)
+	}
+}
+
+// FuzzRDFXML checks that no input panics and every failure is a *ParseError.
+func FuzzRDFXML(f *testing.F) {
+	// Source: W3C RDF 1.1 RDF/XML test suite inputs as seeds.
+	seeds, _ := filepath.Glob(filepath.Join(conformanceXMLDir, "*", "*.rdf"))
+	for _, s := range seeds {
+		if b, err := os.ReadFile(s); err == nil {
+			f.Add(b)
+		}
+	}
+	f.Add([]byte(xmlHead + "<rdf:Description/></rdf:RDF>"))
+	f.Fuzz(func(t *testing.T, b []byte) {
+		err := ReadRDFXML(strings.NewReader(string(b)), Options{Base: "http://ex.org/d"}, func(Triple) error { return nil })
+		var pe *ParseError
+		if err != nil && !errors.As(err, &pe) {
+			t.Fatalf("error %v (%T) is not a *ParseError", err, err)
+		}
+	})
+}
+
+// conformanceXMLDir is the W3C RDF/XML suite shared by the project.
+const conformanceXMLDir = "../../../shared/conformance/rdf11/rdf-xml"
