@@ -1,2 +1,18 @@
-// Package report builds gap reports and scores annotations against human indexing.
+// Package report shows where a vocabulary and a collection part ways (the
+// gap report) and how good termgrove's suggestions are against human
+// indexing (scoring).
+//
+// The gap report has five sections, all read off a fitted model and,
+// optionally, the records it was fitted on:
+//
+//	unused      concepts whose fitted token mass and record count fall below thresholds
+//	themes      free topics: what the records share that no concept covers
+//	candidates  corpus terms tied to a concept (lift over its prior) that are none of its labels
+//	dead        label terms never seen in the corpus
+//	trends      per concept, share of tokens per year (records with dates only)
+//
+//	g, err := report.Gaps(m, annotator, recs, report.GapOptions{})
+//	report.WriteHTML(w, g)
+//
+// Scoring follows DESIGN.md "Scoring definitions"; see Evaluate.
 package report

@@ -1,0 +1,701 @@
+package report
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"sort"
+	"strconv"
+	"strings"
+
+	"termgrove/annotate"
+	"termgrove/concepts"
+	"termgrove/internal/records"
+	"termgrove/model"
+	"termgrove/terms"
+)
+
+// Annotator is what the report needs of annotate.Annotator.
+type Annotator interface {
+	Annotate(id, text string, opt annotate.Options) (*annotate.Result, error)
+}
+
+// GapOptions tune the gap report; zero values mean the defaults in brackets.
+type GapOptions struct {
+	// A concept counts as unused when its share of fitted tokens is below
+	// MinShare [0.0005] or fewer than MinRecords [2] records use it.
+	MinShare   float64
+	MinRecords int
+	// TopWords per free topic [12]; Examples records per free topic [3].
+	TopWords int
+	Examples int
+	// Candidates per concept [5], each seen at least MinCount [3] times
+	// with lift at least MinLift [5].
+	Candidates int
+	MinCount   int
+	MinLift    float64
+	// Lang picks labels shown ["en"].
+	Lang string
+	// Fields are the record fields read [title, text].
+	Fields []string
+	// RecordThreshold is the concept score from which a record counts as
+	// using a concept in the trends [0.05].
+	RecordThreshold float64
+}
+
+func (o *GapOptions) defaults() {
+	if o.MinShare == 0 {
+		o.MinShare = 0.0005
+	}
+	if o.MinRecords == 0 {
+		o.MinRecords = 2
+	}
+	if o.TopWords == 0 {
+		o.TopWords = 12
+	}
+	if o.Examples == 0 {
+		o.Examples = 3
+	}
+	if o.Candidates == 0 {
+		o.Candidates = 5
+	}
+	if o.MinCount == 0 {
+		o.MinCount = 3
+	}
+	if o.MinLift == 0 {
+		o.MinLift = 5
+	}
+	if o.Lang == "" {
+		o.Lang = "en"
+	}
+	if o.RecordThreshold == 0 {
+		o.RecordThreshold = 0.05
+	}
+}
+
+// GapReport is the whole report. JSON names are part of the output format.
+type GapReport struct {
+	Scheme       string        `json:"scheme"`
+	Concepts     int           `json:"concepts"`
+	FreeTopics   int           `json:"free_topics"`
+	Tokens       int64         `json:"tokens"`
+	Records      int           `json:"records"`
+	Tree         []*TreeNode   `json:"tree"`
+	Unused       []UnusedGroup `json:"unused"`
+	UnusedShare  float64       `json:"unused_share"` // of the vocabulary's concepts
+	Themes       []Theme       `json:"themes"`
+	Candidates   []Candidate   `json:"candidates"`
+	DeadLabels   []DeadLabel   `json:"dead_labels"`
+	Trends       *Trends       `json:"trends,omitempty"`
+	TrendsAbsent string        `json:"trends_absent,omitempty"` // why there is no trends section
+}
+
+// TreeNode is one concept in the hierarchy with its use. Children are
+// shown under every broader concept (a poly-hierarchy repeats them).
+type TreeNode struct {
+	IRI      string      `json:"iri"`
+	Label    string      `json:"label"`
+	Share    float64     `json:"share"`   // own fitted token share
+	Subtree  float64     `json:"subtree"` // share of the concept and all below it
+	Records  int         `json:"records"` // records whose tokens it took
+	Unused   bool        `json:"unused"`  // below the thresholds
+	Children []*TreeNode `json:"children,omitempty"`
+}
+
+// UnusedGroup lists the unused concepts under one top concept.
+type UnusedGroup struct {
+	Top      string          `json:"top"`
+	TopLabel string          `json:"top_label"`
+	Concepts []UnusedConcept `json:"concepts"`
+}
+
+// UnusedConcept is a concept the collection never or hardly uses.
+type UnusedConcept struct {
+	IRI     string  `json:"iri"`
+	Label   string  `json:"label"`
+	Share   float64 `json:"share"`
+	Records int     `json:"records"`
+}
+
+// Theme is one free topic.
+type Theme struct {
+	Topic    int         `json:"topic"`
+	Share    float64     `json:"share"` // of all fitted tokens
+	Words    []WordShare `json:"words"`
+	Examples []Example   `json:"examples,omitempty"`
+	// Nearest is the concept whose learned word distribution is closest
+	// (Hellinger distance): a place the theme might go.
+	Nearest      string  `json:"nearest"`
+	NearestLabel string  `json:"nearest_label"`
+	Hellinger    float64 `json:"hellinger"`
+}
+
+// WordShare is a term and its probability in a topic.
+type WordShare struct {
+	Term string  `json:"term"`
+	P    float64 `json:"p"`
+}
+
+// Example is a record that a free topic explains well.
+type Example struct {
+	ID      string  `json:"id"`
+	Title   string  `json:"title"`
+	Weight  float64 `json:"weight"` // share of the record's tokens the theme explains
+	Snippet string  `json:"snippet"`
+}
+
+// Candidate is a corpus term strongly tied to a concept that is none of its labels.
+type Candidate struct {
+	IRI   string  `json:"iri"`
+	Label string  `json:"label"`
+	Term  string  `json:"term"`
+	Count int32   `json:"count"`     // tokens of the term the concept took
+	Lift  float64 `json:"lift"`      // φ_cw over the prior's β_cw/B_c
+	PConc float64 `json:"p_concept"` // share of the term's tokens taken by the concept
+}
+
+// DeadLabel is a label term never seen in the corpus.
+type DeadLabel struct {
+	IRI   string `json:"iri"`
+	Label string `json:"label"`
+	Term  string `json:"term"`
+}
+
+// Trends is concept use over time.
+type Trends struct {
+	Years  []int         `json:"years"`
+	Series []TrendSeries `json:"series"` // the concepts that rose or fell most, and the busiest
+}
+
+// TrendSeries is one concept's share of tokens per year (same order as Years).
+type TrendSeries struct {
+	IRI    string    `json:"iri"`
+	Label  string    `json:"label"`
+	Shares []float64 `json:"shares"`
+	Slope  float64   `json:"slope"` // least-squares change of share per decade
+	Kind   string    `json:"kind"`  // "rising", "falling" or "busiest"
+}
+
+// ErrNoModel is returned for a nil or empty model.
+var ErrNoModel = errors.New("report: model has no topics")
+
+// Gaps builds the gap report from a model and, when recs is non-empty, the
+// records (with an annotator for per-record concept use). It does not
+// change the model.
+func Gaps(m *model.Model, a Annotator, recs []records.Record, opt GapOptions) (*GapReport, error) {
+	opt.defaults()
+	if m == nil || m.K() == 0 || len(m.Totals) != m.K() {
+		return nil, ErrNoModel
+	}
+	s := m.Scheme
+	if s == nil {
+		s = &concepts.Scheme{}
+	}
+	var total int64
+	for _, n := range m.Totals {
+		total += n
+	}
+	g := &GapReport{Scheme: s.IRI, Concepts: m.C, FreeTopics: m.F, Tokens: total, Records: len(recs)}
+	label := func(c int) string { return s.Concepts[c].PrefLabel(opt.Lang) }
+	share := func(k int) float64 {
+		if total == 0 {
+			return 0
+		}
+		return float64(m.Totals[k]) / float64(total)
+	}
+	docs := func(k int) int {
+		if k < len(m.DocCounts) {
+			return int(m.DocCounts[k])
+		}
+		return 0
+	}
+	unused := func(c int) bool { return share(c) < opt.MinShare || docs(c) < opt.MinRecords }
+
+	// (a) unused concepts, grouped under their top concepts, and the tree.
+	g.Tree = buildTree(s, m.C, label, share, docs, unused)
+	groups := map[int]*UnusedGroup{}
+	var order []int
+	nUnused := 0
+	for c := 0; c < m.C && c < len(s.Concepts); c++ {
+		if s.Concepts[c].Deprecated || !unused(c) {
+			continue
+		}
+		nUnused++
+		top := topOf(s, c)
+		grp := groups[top]
+		if grp == nil {
+			grp = &UnusedGroup{Top: s.Concepts[top].IRI, TopLabel: label(top)}
+			groups[top] = grp
+			order = append(order, top)
+		}
+		grp.Concepts = append(grp.Concepts, UnusedConcept{IRI: s.Concepts[c].IRI, Label: label(c), Share: share(c), Records: docs(c)})
+	}
+	sort.Slice(order, func(i, j int) bool { return label(order[i]) < label(order[j]) })
+	for _, t := range order {
+		g.Unused = append(g.Unused, *groups[t])
+	}
+	if m.C > 0 {
+		g.UnusedShare = float64(nUnused) / float64(m.C)
+	}
+
+	wordTotal := make([]int64, m.W())
+	for _, row := range m.Counts {
+		for _, wc := range row {
+			wordTotal[wc.Word] += int64(wc.Count)
+		}
+	}
+
+	// (b) free topics with their nearest concept.
+	for f := m.C; f < m.K(); f++ {
+		th := Theme{Topic: f - m.C, Share: share(f)}
+		for _, ww := range m.TopWords(f, opt.TopWords) {
+			th.Words = append(th.Words, WordShare{Term: m.Words[ww.Word], P: ww.Weight})
+		}
+		if c, h, ok := nearestConcept(m, f); ok {
+			th.Nearest, th.NearestLabel, th.Hellinger = s.Concepts[c].IRI, label(c), h
+		}
+		g.Themes = append(g.Themes, th)
+	}
+	sort.SliceStable(g.Themes, func(i, j int) bool { return g.Themes[i].Share > g.Themes[j].Share })
+
+	// (c) candidate labels and (d) dead labels.
+	for c := 0; c < m.C && c < len(m.Prior); c++ {
+		labelTerm := map[int32]bool{}
+		for _, e := range m.Prior[c] {
+			labelTerm[e.Word] = true
+			if wordTotal[e.Word] == 0 {
+				g.DeadLabels = append(g.DeadLabels, DeadLabel{IRI: s.Concepts[c].IRI, Label: label(c), Term: m.Words[e.Word]})
+			}
+		}
+		den := float64(m.Totals[c]) + m.BetaSum(c)
+		floor := m.Beta0 / m.BetaSum(c) // prior probability of a non-label word
+		var cands []Candidate
+		for _, wc := range m.Counts[c] {
+			if labelTerm[wc.Word] || wc.Count < int32(opt.MinCount) {
+				continue
+			}
+			phi := (float64(wc.Count) + m.Beta0) / den
+			lift := phi / floor
+			if lift < opt.MinLift {
+				continue
+			}
+			cands = append(cands, Candidate{IRI: s.Concepts[c].IRI, Label: label(c), Term: m.Words[wc.Word],
+				Count: wc.Count, Lift: lift, PConc: float64(wc.Count) / float64(wordTotal[wc.Word])})
+		}
+		// Rank by how much of the term the concept owns, then by count:
+		// a term every topic uses is no label for this one.
+		sort.Slice(cands, func(i, j int) bool {
+			si := cands[i].PConc * math.Log1p(float64(cands[i].Count))
+			sj := cands[j].PConc * math.Log1p(float64(cands[j].Count))
+			if si != sj {
+				return si > sj
+			}
+			return cands[i].Term < cands[j].Term
+		})
+		if len(cands) > opt.Candidates {
+			cands = cands[:opt.Candidates]
+		}
+		for _, cd := range cands {
+			if cd.PConc >= 0.3 {
+				g.Candidates = append(g.Candidates, cd)
+			}
+		}
+	}
+	sort.SliceStable(g.Candidates, func(i, j int) bool { return g.Candidates[i].Count > g.Candidates[j].Count })
+
+	// Per-record use: examples of themes and trends.
+	if len(recs) == 0 {
+		g.TrendsAbsent = "no records given: pass the records the model was fitted on (--records) for example records and use over time"
+		return g, nil
+	}
+	if err := perRecord(g, m, a, recs, opt, label); err != nil {
+		return nil, err
+	}
+	return g, nil
+}
+
+// topOf follows the first broader link up to a concept with none (cycle-safe).
+func topOf(s *concepts.Scheme, c int) int {
+	seen := map[int]bool{}
+	for len(s.Concepts[c].Broader) > 0 && !seen[c] {
+		seen[c] = true
+		c = s.Concepts[c].Broader[0]
+	}
+	return c
+}
+
+func buildTree(s *concepts.Scheme, C int, label func(int) string, share func(int) float64, docs func(int) int, unused func(int) bool) []*TreeNode {
+	n := len(s.Concepts)
+	if C < n {
+		n = C
+	}
+	subtree := make([]float64, n)
+	done := make([]int8, n) // 0 new, 1 in progress, 2 done
+	var sub func(c int) float64
+	sub = func(c int) float64 {
+		if done[c] == 2 {
+			return subtree[c]
+		}
+		if done[c] == 1 { // a cycle: count once
+			return 0
+		}
+		done[c] = 1
+		v := share(c)
+		for _, ch := range s.Concepts[c].Narrower {
+			if ch < n {
+				v += sub(ch)
+			}
+		}
+		subtree[c] = v
+		done[c] = 2
+		return v
+	}
+	var node func(c int, path map[int]bool) *TreeNode
+	node = func(c int, path map[int]bool) *TreeNode {
+		t := &TreeNode{IRI: s.Concepts[c].IRI, Label: label(c), Share: share(c), Subtree: sub(c), Records: docs(c), Unused: unused(c)}
+		path[c] = true
+		for _, ch := range s.Concepts[c].Narrower {
+			if ch < n && !path[ch] {
+				t.Children = append(t.Children, node(ch, path))
+			}
+		}
+		delete(path, c)
+		sort.Slice(t.Children, func(i, j int) bool { return t.Children[i].Label < t.Children[j].Label })
+		return t
+	}
+	var roots []*TreeNode
+	for c := 0; c < n; c++ {
+		if len(s.Concepts[c].Broader) == 0 && !s.Concepts[c].Deprecated {
+			roots = append(roots, node(c, map[int]bool{}))
+		}
+	}
+	sort.Slice(roots, func(i, j int) bool { return roots[i].Label < roots[j].Label })
+	return roots
+}
+
+// nearestConcept returns the concept topic c minimising the Hellinger
+// distance H(φ_f, φ_c) = sqrt(1 − Σ_w sqrt(φ_fw φ_cw)). φ_c is a floor
+// β0/(n_c+B_c) plus a sparse part, so the Bhattacharyya sum costs O(nnz):
+// Σ_w sqrt(φ_fw·floor) + Σ_{w sparse} (sqrt(φ_fw·φ_cw) − sqrt(φ_fw·floor)).
+func nearestConcept(m *model.Model, f int) (int, float64, bool) {
+	W := m.W()
+	if m.C == 0 || W == 0 {
+		return 0, 0, false
+	}
+	phiF := make([]float64, W)
+	sqrtF := 0.0
+	for w := 0; w < W; w++ {
+		phiF[w] = m.Phi(f, w)
+		sqrtF += math.Sqrt(phiF[w])
+	}
+	best, bestBC := -1, -1.0
+	for c := 0; c < m.C; c++ {
+		den := float64(m.Totals[c]) + m.BetaSum(c)
+		floor := m.Beta0 / den
+		bc := math.Sqrt(floor) * sqrtF
+		add := func(w int32, phi float64) {
+			bc += math.Sqrt(phiF[w]*phi) - math.Sqrt(phiF[w]*floor)
+		}
+		var pr []model.WordWeight
+		if c < len(m.Prior) {
+			pr = m.Prior[c]
+		}
+		cr := m.Counts[c]
+		i, j := 0, 0
+		for i < len(cr) || j < len(pr) {
+			switch {
+			case j >= len(pr) || (i < len(cr) && cr[i].Word < pr[j].Word):
+				add(cr[i].Word, (float64(cr[i].Count)+m.Beta0)/den)
+				i++
+			case i >= len(cr) || pr[j].Word < cr[i].Word:
+				add(pr[j].Word, (m.Beta0+m.Lambda*pr[j].Weight)/den)
+				j++
+			default:
+				add(cr[i].Word, (float64(cr[i].Count)+m.Beta0+m.Lambda*pr[j].Weight)/den)
+				i++
+				j++
+			}
+		}
+		if bc > bestBC {
+			best, bestBC = c, bc
+		}
+	}
+	return best, math.Sqrt(math.Max(0, 1-math.Min(1, bestBC))), true
+}
+
+// perRecord annotates every record once to find example records for the
+// themes and concept use per year.
+func perRecord(g *GapReport, m *model.Model, a Annotator, recs []records.Record, opt GapOptions, label func(int) string) error {
+	fields := opt.Fields
+	// Theme examples use the responsibility of each free topic for the
+	// record's known words under the model's document-independent prior,
+	// p(f | w) ∝ α_f φ_fw: cheap, and it names records by what they say.
+	an, err := m.NewAnalyzer()
+	if err != nil {
+		return err
+	}
+	type ex struct {
+		rec int
+		w   float64
+	}
+	examples := make([][]ex, m.F)
+	resp := freeResponsibility(m)
+	yearTok := map[int]float64{}
+	yearConcept := map[int]map[int]float64{}
+	dated := 0
+	var toks []terms.Token
+	for ri := range recs {
+		r := &recs[ri]
+		text := r.Join(fields)
+		toks, _ = an.Analyze(text, toks[:0], false)
+		if m.F > 0 {
+			acc := make([]float64, m.F)
+			n := 0
+			for _, t := range toks {
+				if t.ID < 0 {
+					continue
+				}
+				n++
+				row := resp[int(t.ID)*m.F : int(t.ID+1)*m.F]
+				for f, v := range row {
+					acc[f] += v
+				}
+			}
+			if n > 0 {
+				for f := range acc {
+					examples[f] = append(examples[f], ex{ri, acc[f] / float64(n)})
+				}
+			}
+		}
+		year, ok := parseYear(r.Date)
+		if !ok || a == nil {
+			continue
+		}
+		res, err := a.Annotate(r.ID, text, annotate.Options{Top: m.C, MinScore: opt.RecordThreshold / 10})
+		if err != nil {
+			return fmt.Errorf("record %s: %w", r.ID, err)
+		}
+		dated++
+		yearTok[year] += float64(res.Tokens)
+		yc := yearConcept[year]
+		if yc == nil {
+			yc = map[int]float64{}
+			yearConcept[year] = yc
+		}
+		for _, c := range res.Concepts {
+			if i, ok := m.ConceptIndex(c.IRI); ok {
+				yc[i] += c.Score * float64(res.Tokens)
+			}
+		}
+	}
+	for _, th := range g.Themes {
+		list := examples[th.Topic]
+		sort.Slice(list, func(i, j int) bool {
+			if list[i].w != list[j].w {
+				return list[i].w > list[j].w
+			}
+			return list[i].rec < list[j].rec
+		})
+		for i := 0; i < len(list) && i < opt.Examples; i++ {
+			r := &recs[list[i].rec]
+			g.Themes[indexOfTheme(g.Themes, th.Topic)].Examples = append(g.Themes[indexOfTheme(g.Themes, th.Topic)].Examples,
+				Example{ID: r.ID, Title: r.Title, Weight: list[i].w, Snippet: snippet(r.Join(fields), 160)})
+		}
+	}
+	if dated == 0 {
+		g.TrendsAbsent = "no record carries a date (field \"date\": YYYY or YYYY-MM-DD), so use over time cannot be shown"
+		return nil
+	}
+	g.Trends = trends(m, yearTok, yearConcept, label)
+	if g.Trends == nil {
+		g.TrendsAbsent = "records span a single year: use over time needs at least two"
+	}
+	return nil
+}
+
+func indexOfTheme(ts []Theme, topic int) int {
+	for i := range ts {
+		if ts[i].Topic == topic {
+			return i
+		}
+	}
+	return 0
+}
+
+// trends bins years into decades when they span more than 30 years, and
+// picks the concepts whose share rose and fell most (least-squares slope)
+// and the busiest ones.
+func trends(m *model.Model, yearTok map[int]float64, yearConcept map[int]map[int]float64, label func(int) string) *Trends {
+	bin := func(y int) int { return y }
+	var years []int
+	for y := range yearTok {
+		years = append(years, y)
+	}
+	sort.Ints(years)
+	if len(years) < 2 {
+		return nil
+	}
+	if years[len(years)-1]-years[0] > 30 {
+		bin = func(y int) int { return y / 10 * 10 }
+	}
+	tok := map[int]float64{}
+	conc := map[int]map[int]float64{}
+	for y, n := range yearTok {
+		b := bin(y)
+		tok[b] += n
+		if conc[b] == nil {
+			conc[b] = map[int]float64{}
+		}
+		for c, v := range yearConcept[y] {
+			conc[b][c] += v
+		}
+	}
+	var bins []int
+	for b := range tok {
+		bins = append(bins, b)
+	}
+	sort.Ints(bins)
+	if len(bins) < 2 {
+		return nil
+	}
+	type row struct {
+		c      int
+		shares []float64
+		slope  float64
+		mass   float64
+	}
+	var rows []row
+	for c := 0; c < m.C; c++ {
+		r := row{c: c, shares: make([]float64, len(bins))}
+		for i, b := range bins {
+			if tok[b] > 0 {
+				r.shares[i] = conc[b][c] / tok[b]
+			}
+			r.mass += conc[b][c]
+		}
+		if r.mass == 0 {
+			continue
+		}
+		r.slope = slope(bins, r.shares) * 10
+		rows = append(rows, r)
+	}
+	t := &Trends{Years: bins}
+	pick := func(kind string, less func(a, b row) bool, n int) {
+		sort.Slice(rows, func(i, j int) bool {
+			if less(rows[i], rows[j]) != less(rows[j], rows[i]) {
+				return less(rows[i], rows[j])
+			}
+			return rows[i].c < rows[j].c
+		})
+		taken := 0
+		for _, r := range rows {
+			if taken == n {
+				break
+			}
+			dup := false
+			for _, s := range t.Series {
+				if s.IRI == m.Scheme.Concepts[r.c].IRI {
+					dup = true
+				}
+			}
+			if dup || (kind == "rising" && r.slope <= 0) || (kind == "falling" && r.slope >= 0) {
+				continue
+			}
+			t.Series = append(t.Series, TrendSeries{IRI: m.Scheme.Concepts[r.c].IRI, Label: label(r.c), Shares: r.shares, Slope: r.slope, Kind: kind})
+			taken++
+		}
+	}
+	pick("rising", func(a, b row) bool { return a.slope > b.slope }, 5)
+	pick("falling", func(a, b row) bool { return a.slope < b.slope }, 5)
+	pick("busiest", func(a, b row) bool { return a.mass > b.mass }, 5)
+	return t
+}
+
+func slope(xs []int, ys []float64) float64 {
+	n := float64(len(xs))
+	var sx, sy, sxx, sxy float64
+	for i, x := range xs {
+		fx := float64(x)
+		sx += fx
+		sy += ys[i]
+		sxx += fx * fx
+		sxy += fx * ys[i]
+	}
+	d := n*sxx - sx*sx
+	if d == 0 {
+		return 0
+	}
+	return (n*sxy - sx*sy) / d
+}
+
+// parseYear reads the year of "1923", "1923-04" or "1923-04-17".
+func parseYear(date string) (int, bool) {
+	date = strings.TrimSpace(date)
+	if len(date) < 4 {
+		return 0, false
+	}
+	y, err := strconv.Atoi(date[:4])
+	if err != nil || y < 1 {
+		return 0, false
+	}
+	if len(date) > 4 && date[4] != '-' {
+		return 0, false
+	}
+	return y, true
+}
+
+func snippet(s string, n int) string {
+	s = strings.Join(strings.Fields(s), " ")
+	if len(s) <= n {
+		return s
+	}
+	cut := n
+	for cut > 0 && (s[cut]&0xC0) == 0x80 {
+		cut--
+	}
+	if i := strings.LastIndexByte(s[:cut], ' '); i > n/2 {
+		cut = i
+	}
+	return s[:cut] + "…"
+}
+
+// freeResponsibility returns, flat by word then free topic, p(f | w) =
+// α_f φ_fw / Σ_k α_k φ_kw. The denominator is a dense floor Σ_k α_k β0/(n_k+B_k)
+// plus sparse terms over each topic's counted and prior words, so it costs
+// O(W·F + nnz), not O(W·K).
+func freeResponsibility(m *model.Model) []float64 {
+	W, K := m.W(), m.K()
+	den := make([]float64, W)
+	base := 0.0
+	for k := 0; k < K; k++ {
+		d := float64(m.Totals[k]) + m.BetaSum(k)
+		base += m.Alpha[k] * m.Beta0 / d
+		for _, wc := range m.Counts[k] {
+			den[wc.Word] += m.Alpha[k] * float64(wc.Count) / d
+		}
+		if k < len(m.Prior) {
+			for _, e := range m.Prior[k] {
+				den[e.Word] += m.Alpha[k] * m.Lambda * e.Weight / d
+			}
+		}
+	}
+	out := make([]float64, W*m.F)
+	for f := 0; f < m.F; f++ {
+		k := m.C + f
+		d := float64(m.Totals[k]) + m.BetaSum(k)
+		floor := m.Alpha[k] * m.Beta0 / d
+		for w := 0; w < W; w++ {
+			out[w*m.F+f] = floor
+		}
+		for _, wc := range m.Counts[k] {
+			out[int(wc.Word)*m.F+f] += m.Alpha[k] * float64(wc.Count) / d
+		}
+	}
+	for w := 0; w < W; w++ {
+		z := base + den[w]
+		for f := 0; f < m.F; f++ {
+			out[w*m.F+f] /= z
+		}
+	}
+	return out
+}

@@ -1,0 +1,328 @@
+package report
+
+import (
+	"bytes"
+	"encoding/csv"
+	"encoding/json"
+	"math"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"golang.org/x/net/html"
+
+	"termgrove/annotate"
+	"termgrove/concepts"
+	"termgrove/internal/records"
+	"termgrove/model"
+	"termgrove/terms"
+)
+
+// gapModel is a hand-built model (common practice, no source: the numbers
+// are chosen so that each section has one known answer):
+//
+//	0 Trades (top)        labels: trade          takes "trade", "mill", "grinding"
+//	1   Milling  ⊂ 0      labels: mill           takes "mill", "millstone" (candidate), "grinding"
+//	2   Mining   ⊂ 0      labels: mine, shaft    takes nothing          → unused; "shaft" dead
+//	3 Transport (top)     labels: railway        takes "railway", "station"
+//	free topic 0                                 takes "honey", "bees", "hive"
+func gapModel() *model.Model {
+	words := []string{"trade", "mill", "mine", "shaft", "railway", "station", "millstone", "grinding", "honey", "bees", "hive"}
+	s := &concepts.Scheme{IRI: "http://ex.org/s", Concepts: []concepts.Concept{
+		{IRI: "http://ex.org/trades", Pref: []concepts.Label{{Lang: "en", Text: "Trades"}}, Narrower: []int{1, 2}, Top: true},
+		{IRI: "http://ex.org/milling", Pref: []concepts.Label{{Lang: "en", Text: "Milling"}}, Broader: []int{0}},
+		{IRI: "http://ex.org/mining", Pref: []concepts.Label{{Lang: "en", Text: "Mining"}}, Broader: []int{0}},
+		{IRI: "http://ex.org/transport", Pref: []concepts.Label{{Lang: "en", Text: "Transport"}}, Top: true},
+	}}
+	s.Reindex()
+	wc := func(pairs ...int32) []model.WordCount {
+		var out []model.WordCount
+		for i := 0; i < len(pairs); i += 2 {
+			out = append(out, model.WordCount{Word: pairs[i], Count: pairs[i+1]})
+		}
+		return out
+	}
+	m := &model.Model{
+		Scheme:   s,
+		Analyzer: terms.Options{Languages: []string{"en"}},
+		Words:    words,
+		C:        4, F: 1,
+		Alpha:  []float64{0.5, 0.5, 0.5, 0.5, 0.5},
+		Beta0:  0.01,
+		Lambda: 10,
+		Prior: [][]model.WordWeight{
+			{{Word: 0, Weight: 1}},
+			{{Word: 1, Weight: 1}},
+			{{Word: 2, Weight: 0.5}, {Word: 3, Weight: 0.5}},
+			{{Word: 4, Weight: 1}},
+		},
+		Counts: [][]model.WordCount{
+			wc(0, 40, 1, 5, 7, 5),
+			wc(1, 60, 6, 30, 7, 25),
+			nil,
+			wc(4, 80, 5, 40),
+			wc(8, 50, 9, 40, 10, 30),
+		},
+		DocCounts: []int32{20, 30, 0, 40, 15},
+	}
+	for _, row := range m.Counts {
+		var n int64
+		for _, c := range row {
+			n += int64(c.Count)
+		}
+		m.Totals = append(m.Totals, n)
+	}
+	return m
+}
+
+// fakeAnnotator scores records by keyword so the trends have a known shape.
+type fakeAnnotator struct{}
+
+func (fakeAnnotator) Annotate(id, text string, opt annotate.Options) (*annotate.Result, error) {
+	r := &annotate.Result{ID: id, Tokens: 10}
+	if strings.Contains(text, "mill") {
+		r.Concepts = append(r.Concepts, annotate.Concept{IRI: "http://ex.org/milling", Score: 0.8})
+	}
+	if strings.Contains(text, "railway") {
+		r.Concepts = append(r.Concepts, annotate.Concept{IRI: "http://ex.org/transport", Score: 0.8})
+	}
+	return r, nil
+}
+
+func gapRecords() []records.Record {
+	return []records.Record{
+		{ID: "r1", Text: "the mill and the millstone", Date: "1900"},
+		{ID: "r2", Text: "grinding at the mill", Date: "1910-05-01"},
+		{ID: "r3", Text: "railway station opened", Date: "1950"},
+		{ID: "r4", Text: "railway station closed, mill shut", Date: "1960"},
+		{ID: "r5", Text: "honey bees hive honey", Date: "1990"},
+		{ID: "r6", Text: "railway railway", Date: "1995"},
+	}
+}
+
+func TestGapsSections(t *testing.T) {
+	m := gapModel()
+	g, err := Gaps(m, fakeAnnotator{}, gapRecords(), GapOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// (a) unused: only Mining, grouped under Trades; 1 of 4 concepts.
+	if len(g.Unused) != 1 || g.Unused[0].TopLabel != "Trades" || len(g.Unused[0].Concepts) != 1 || g.Unused[0].Concepts[0].Label != "Mining" {
+		t.Errorf("unused = %+v", g.Unused)
+	}
+	if g.UnusedShare != 0.25 {
+		t.Errorf("unused share = %v, want 0.25", g.UnusedShare)
+	}
+	// (b) the free topic: its top words and an example record.
+	if len(g.Themes) != 1 || g.Themes[0].Words[0].Term != "honey" {
+		t.Fatalf("themes = %+v", g.Themes)
+	}
+	if ex := g.Themes[0].Examples; len(ex) == 0 || ex[0].ID != "r5" {
+		t.Errorf("theme examples = %+v, want r5 first", ex)
+	}
+	// (c) "millstone" is Milling's and no label of it; "grinding" is split
+	// between two concepts but Milling still owns most of it.
+	var cands []string
+	for _, c := range g.Candidates {
+		cands = append(cands, c.Label+":"+c.Term)
+	}
+	if !contains2(cands, "Milling:millstone") || contains2(cands, "Milling:mill") {
+		t.Errorf("candidates = %v, want Milling:millstone and no label term", cands)
+	}
+	if contains2(cands, "Trades:grinding") {
+		t.Errorf("candidates = %v: Trades owns only 1/6 of grinding", cands)
+	}
+	// (d) "mine" and "shaft" never occur.
+	var dead []string
+	for _, d := range g.DeadLabels {
+		dead = append(dead, d.Term)
+	}
+	if strings.Join(dead, ",") != "mine,shaft" {
+		t.Errorf("dead labels = %v, want mine,shaft", dead)
+	}
+	// (e) milling falls, transport rises over the decades.
+	if g.Trends == nil {
+		t.Fatalf("no trends: %s", g.TrendsAbsent)
+	}
+	kinds := map[string]string{}
+	for _, s := range g.Trends.Series {
+		if _, ok := kinds[s.Label]; !ok {
+			kinds[s.Label] = s.Kind
+		}
+	}
+	if kinds["Milling"] != "falling" || kinds["Transport"] != "rising" {
+		t.Errorf("trend kinds = %v", kinds)
+	}
+	// Tree: two roots, Trades with two children; the subtree of Trades sums
+	// its own and its children's shares.
+	if len(g.Tree) != 2 || g.Tree[1].Label != "Transport" || len(g.Tree[0].Children) != 2 {
+		t.Fatalf("tree = %+v", g.Tree)
+	}
+	tr := g.Tree[0]
+	if d := tr.Subtree - (tr.Share + tr.Children[0].Share + tr.Children[1].Share); math.Abs(d) > 1e-12 {
+		t.Errorf("subtree share off by %v", d)
+	}
+}
+
+func contains2(xs []string, x string) bool {
+	for _, y := range xs {
+		if y == x {
+			return true
+		}
+	}
+	return false
+}
+
+func TestGapsWithoutDates(t *testing.T) {
+	recs := gapRecords()
+	for i := range recs {
+		recs[i].Date = ""
+	}
+	g, err := Gaps(gapModel(), fakeAnnotator{}, recs, GapOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if g.Trends != nil || !strings.Contains(g.TrendsAbsent, "date") {
+		t.Errorf("trends = %+v, absent = %q; want absent with a reason naming the date", g.Trends, g.TrendsAbsent)
+	}
+	g, _ = Gaps(gapModel(), nil, nil, GapOptions{})
+	if g.TrendsAbsent == "" {
+		t.Error("no records: the time section must say why it is absent")
+	}
+	if _, err := Gaps(&model.Model{}, nil, nil, GapOptions{}); err == nil {
+		t.Error("empty model: want an error")
+	}
+}
+
+func TestGapOutputs(t *testing.T) {
+	g, err := Gaps(gapModel(), fakeAnnotator{}, gapRecords(), GapOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var js bytes.Buffer
+	if err := WriteJSON(&js, g); err != nil {
+		t.Fatal(err)
+	}
+	var back map[string]any
+	if err := json.Unmarshal(js.Bytes(), &back); err != nil {
+		t.Fatalf("json: %v", err)
+	}
+	for _, k := range []string{"unused", "themes", "candidates", "dead_labels", "trends", "tree"} {
+		if _, ok := back[k]; !ok {
+			t.Errorf("json lacks %q", k)
+		}
+	}
+	var cs bytes.Buffer
+	if err := WriteCSV(&cs, g); err != nil {
+		t.Fatal(err)
+	}
+	rows, err := csv.NewReader(&cs).ReadAll()
+	if err != nil {
+		t.Fatalf("csv: %v", err)
+	}
+	sections := map[string]bool{}
+	for _, r := range rows[1:] {
+		sections[r[0]] = true
+	}
+	for _, s := range []string{"unused", "theme", "candidate", "dead", "trend"} {
+		if !sections[s] {
+			t.Errorf("csv lacks section %q", s)
+		}
+	}
+	var tx bytes.Buffer
+	if err := WriteText(&tx, g); err != nil {
+		t.Fatal(err)
+	}
+	for _, s := range []string{"UNUSED CONCEPTS", "Mining", "honey", "millstone", "USE OVER TIME"} {
+		if !strings.Contains(tx.String(), s) {
+			t.Errorf("text view lacks %q", s)
+		}
+	}
+}
+
+// The page must parse as HTML (golang.org/x/net/html) with its tree,
+// tables and charts, and hold no reference to the network.
+func TestGapHTML(t *testing.T) {
+	g, err := Gaps(gapModel(), fakeAnnotator{}, gapRecords(), GapOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var buf bytes.Buffer
+	if err := WriteHTML(&buf, g); err != nil {
+		t.Fatal(err)
+	}
+	page := buf.String()
+	doc, err := html.Parse(strings.NewReader(page))
+	if err != nil {
+		t.Fatal(err)
+	}
+	count := map[string]int{}
+	ids := map[string]bool{}
+	var walk func(n *html.Node)
+	walk = func(n *html.Node) {
+		if n.Type == html.ElementNode {
+			count[n.Data]++
+			for _, a := range n.Attr {
+				if a.Key == "id" {
+					ids[a.Val] = true
+				}
+				if (a.Key == "src" || a.Key == "href") && strings.Contains(a.Val, "//") {
+					t.Errorf("page refers to the network: <%s %s=%q>", n.Data, a.Key, a.Val)
+				}
+			}
+		}
+		for c := n.FirstChild; c != nil; c = c.NextSibling {
+			walk(c)
+		}
+	}
+	walk(doc)
+	for _, id := range []string{"hierarchy", "unused-table", "themes-table", "candidates-table", "dead-table", "trend-charts"} {
+		if !ids[id] {
+			t.Errorf("page lacks #%s", id)
+		}
+	}
+	if count["details"] == 0 || count["svg"] == 0 || count["polyline"] == 0 {
+		t.Errorf("page lacks tree or charts: %v", count)
+	}
+	chromiumCheck(t, page, []string{"hierarchy", "themes-table", "trend-charts"})
+}
+
+// chromiumCheck opens the page in Debian's headless Chromium and looks for
+// the ids in the DOM it renders; it saves a screenshot under build/ when
+// TERMGROVE_ARTIFACTS is set. Skipped without chromium.
+func chromiumCheck(t *testing.T, page string, ids []string) {
+	t.Helper()
+	bin, err := exec.LookPath("chromium")
+	if err != nil {
+		t.Log("chromium not installed (apt-get install chromium): skipping the browser check")
+		return
+	}
+	dir := t.TempDir()
+	file := filepath.Join(dir, "report.html")
+	if err := os.WriteFile(file, []byte(page), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	args := []string{"--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+		"--disable-background-networking", "--disable-component-update", "--disable-sync",
+		"--user-data-dir=" + filepath.Join(dir, "profile"), "--dump-dom", "file://" + file}
+	out, err := exec.Command(bin, args...).Output()
+	if err != nil {
+		t.Fatalf("chromium: %v", err)
+	}
+	for _, id := range ids {
+		if !bytes.Contains(out, []byte(`id="`+id+`"`)) {
+			t.Errorf("chromium's DOM lacks #%s", id)
+		}
+	}
+	if art := os.Getenv("TERMGROVE_ARTIFACTS"); art != "" {
+		_ = os.MkdirAll(art, 0o755)
+		shot := filepath.Join(art, "gap-report.png")
+		args[len(args)-2] = "--screenshot=" + shot
+		args = append(args[:len(args)-1], "--window-size=1200,1600", "file://"+file)
+		if err := exec.Command(bin, args...).Run(); err != nil {
+			t.Logf("screenshot: %v", err)
+		}
+	}
+}
