@@ -27,8 +27,9 @@ type Concept struct {
 	ScopeNote  []Label
 	Broader    []int
 	Narrower   []int
-	Top        bool // skos:topConceptOf / skos:hasTopConcept of this scheme
-	Deprecated bool // owl:deprecated true
+	Top        bool  // skos:topConceptOf / skos:hasTopConcept of this scheme
+	Deprecated bool  // owl:deprecated true
+	Related    []int // skos:related, both directions merged, sorted
 }
 
 // Scheme is one skos:ConceptScheme and its concepts, in a stable order
@@ -40,6 +41,16 @@ type Scheme struct {
 	Concepts    []Concept
 	Collections []Collection
 	index       map[string]int // IRI -> index in Concepts, e.g. "http://ex.org/c/42" -> 17
+
+	depth []int32  // longest broader chain to a root per concept; built by Reindex
+	info  LoadInfo // what Load read; zero for a decoded scheme
+	facts *facts   // raw facts Check needs beyond the fields above; nil when decoded
+}
+
+// facts keeps what Load saw that the Scheme's fields do not carry.
+type facts struct {
+	problems []Problem  // S9, S12, S37, S46 found while loading
+	broaderT [][2]int32 // skos:broaderTransitive links between concepts, {narrower, broader}
 }
 
 // Collection is a skos:Collection, kept apart from concepts.
@@ -47,6 +58,7 @@ type Collection struct {
 	IRI     string
 	Labels  []Label
 	Members []string // member IRIs (concepts or collections)
+	Ordered bool     // skos:OrderedCollection: Members is in list order
 }
 
 // PrefLabel returns the prefLabel in lang, falling back to an untagged one,
@@ -74,6 +86,7 @@ func (s *Scheme) Reindex() {
 	for i := range s.Concepts {
 		s.index[s.Concepts[i].IRI] = i
 	}
+	s.depth = s.computeDepth()
 }
 
 // Lookup returns the index of the concept with this IRI.
