@@ -6,14 +6,14 @@ import (
 )
 
 // Digamma is ψ(x) = d/dx ln Γ(x) for x > 0: the recurrence
-// ψ(x) = ψ(x+1) − 1/x up to x ≥ 6, then the asymptotic series
+// ψ(x) = ψ(x+1) − 1/x up to x ≥ 10, then the asymptotic series
 // ψ(x) ≈ ln x − 1/(2x) − Σ B_2n/(2n x^2n) (Abramowitz & Stegun 6.3.18).
 func Digamma(x float64) float64 {
 	if x <= 0 || math.IsNaN(x) {
 		return math.NaN()
 	}
 	var acc float64
-	for x < 6 {
+	for x < 10 {
 		acc -= 1 / x
 		x++
 	}
