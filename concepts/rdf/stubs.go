@@ -17,6 +17,3 @@ func ReadNQuads(r io.Reader, opt Options, fn func(Triple) error) error { return 
 
 // ReadTurtle reads Turtle, calling fn per triple.
 func ReadTurtle(r io.Reader, opt Options, fn func(Triple) error) error { return errTODO }
-
-// ReadJSONLD reads JSON-LD (expanded to RDF by json-gold), calling fn per triple.
-func ReadJSONLD(r io.Reader, opt Options, fn func(Triple) error) error { return errTODO }
