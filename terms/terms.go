@@ -1,5 +1,18 @@
 // Package terms is the text analysis shared by vocabulary labels and records.
 //
+// A text is cut into words by Unicode word segmentation (UAX #29, Unicode
+// Standard Annex #29), each word is normalised (NFKC, then Unicode case
+// folding), apostrophes are handled ("l'église" -> "église", "John's" ->
+// "john"), stopwords of the text's language are dropped and the rest is
+// stemmed by the language's Snowball stemmer (de en es fi fr it nl pt ru sv;
+// other languages are analysed language-neutrally: no stopwords, no
+// stemming). Numbers stay terms ("1848"); a hyphenated word gives both parts
+// ("screen-reading" -> "screen", "read"). Finally the longest multi-word
+// label phrases are found (Aho–Corasick over word terms) and each becomes one
+// token spanning its words:
+//
+//	"The Screen-Readers of 1848" -> [4:18 "screen reader"] [22:26 "1848"]
+//
 // CONTRACT (other packages code against these signatures; keep them):
 //
 //	a, err := terms.New(terms.Options{Languages: []string{"en", "fr"}}, terms.NewDictionary())
@@ -15,6 +28,9 @@ package terms
 type Options struct {
 	// Languages are BCP 47 tags; the first is the main language of records.
 	Languages []string
+	// MaxWordBytes: longer word terms are skipped (counted in Stats.Long);
+	// 0 means DefaultMaxWordBytes.
+	MaxWordBytes int
 }
 
 // Token is one analysed word or phrase of a text.
@@ -32,6 +48,7 @@ type Stats struct {
 	Invalid  int  // invalid UTF-8 sequences replaced by U+FFFD
 	Words    int  // word tokens before stopword removal
 	Fallback bool // language not supported: language-neutral analysis used
+	Long     int  // words skipped for being longer than Options.MaxWordBytes
 }
 
 // Dictionary maps term strings to dense ids 0..Len()-1.

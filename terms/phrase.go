@@ -1,0 +1,198 @@
+package terms
+
+import (
+	"slices"
+	"strings"
+)
+
+// automaton is an Aho–Corasick matcher (Aho & Corasick 1975, "Efficient
+// string matching: an aid to bibliographic search", CACM 18(6)) whose
+// alphabet is word terms: each distinct word of a phrase gets a symbol, and
+// a phrase is a sequence of symbols. It is immutable once built, so any
+// number of goroutines may match with it.
+type automaton struct {
+	gen     uint32           // build generation, to validate cached symbols
+	syms    map[string]int32 // word term -> symbol, e.g. "screen" -> 17
+	root    []int32          // symbol -> state after the root (0 = none)
+	next    map[uint64]int32 // state<<32|symbol -> state, for states other than the root
+	fail    []int32          // state -> longest proper suffix state
+	out     []int32          // state -> phrase ending exactly here, -1 if none
+	outLink []int32          // state -> nearest suffix state with out >= 0, 0 if none
+	depth   []int32          // state -> words from the root
+	phrases []phraseDef
+}
+
+// phraseDef is one compiled phrase.
+type phraseDef struct {
+	id   int32  // dictionary id of the phrase term
+	term string // e.g. "screen reader"
+}
+
+// buildAutomaton compiles phrases (terms whose words are separated by one
+// space, at least two words each).
+func buildAutomaton(phrases []phraseDef, gen uint32) *automaton {
+	a := &automaton{
+		gen:     gen,
+		syms:    map[string]int32{},
+		next:    map[uint64]int32{},
+		fail:    []int32{0},
+		out:     []int32{-1},
+		outLink: []int32{0},
+		depth:   []int32{0},
+		phrases: phrases,
+	}
+	var words []string
+	for pi, ph := range phrases {
+		words = strings.Split(ph.term, " ")
+		s := int32(0)
+		for _, w := range words {
+			sym, ok := a.syms[w]
+			if !ok {
+				sym = int32(len(a.syms))
+				a.syms[w] = sym
+				a.root = append(a.root, 0)
+			}
+			nx := a.step0(s, sym)
+			if nx == 0 {
+				nx = int32(len(a.fail))
+				a.fail = append(a.fail, 0)
+				a.out = append(a.out, -1)
+				a.outLink = append(a.outLink, 0)
+				a.depth = append(a.depth, a.depth[s]+1)
+				if s == 0 {
+					a.root[sym] = nx
+				} else {
+					a.next[uint64(s)<<32|uint64(sym)] = nx
+				}
+			}
+			s = nx
+		}
+		if a.out[s] < 0 {
+			a.out[s] = int32(pi)
+		}
+	}
+	// Failure links in breadth-first order; children lists are rebuilt
+	// from the edge map once.
+	children := make([][2]int32, 0, len(a.next)+len(a.root)) // (parent, child) in BFS-able order
+	for sym, c := range a.root {
+		if c != 0 {
+			children = append(children, [2]int32{0, c})
+			_ = sym
+		}
+	}
+	kids := make(map[int32][][2]int32, len(a.fail)) // state -> (symbol, child)
+	for k, c := range a.next {
+		p := int32(k >> 32)
+		kids[p] = append(kids[p], [2]int32{int32(uint32(k)), c})
+	}
+	queue := make([]int32, 0, len(a.fail))
+	for _, pc := range children {
+		queue = append(queue, pc[1])
+	}
+	for qi := 0; qi < len(queue); qi++ {
+		s := queue[qi]
+		for _, sc := range kids[s] {
+			sym, c := sc[0], sc[1]
+			f := a.fail[s]
+			for {
+				if nx := a.step0(f, sym); nx != 0 {
+					a.fail[c] = nx
+					break
+				}
+				if f == 0 {
+					a.fail[c] = 0
+					break
+				}
+				f = a.fail[f]
+			}
+			fc := a.fail[c]
+			if a.out[fc] >= 0 {
+				a.outLink[c] = fc
+			} else {
+				a.outLink[c] = a.outLink[fc]
+			}
+			queue = append(queue, c)
+		}
+	}
+	return a
+}
+
+// step0 is the goto function without failure (0 = no edge).
+func (a *automaton) step0(s, sym int32) int32 {
+	if s == 0 {
+		return a.root[sym]
+	}
+	return a.next[uint64(s)<<32|uint64(sym)]
+}
+
+// match is a phrase occurrence over window positions [start, start+n).
+type match struct {
+	start, n int32
+	phrase   int32
+}
+
+// findAll appends every phrase occurrence in the symbol sequence syms
+// (-1 = a word in no phrase) to dst.
+func (a *automaton) findAll(syms []int32, dst []match) []match {
+	s := int32(0)
+	for i, sym := range syms {
+		if sym < 0 {
+			s = 0
+			continue
+		}
+		for {
+			if nx := a.step0(s, sym); nx != 0 {
+				s = nx
+				break
+			}
+			if s == 0 {
+				break
+			}
+			s = a.fail[s]
+		}
+		o := s
+		if a.out[o] < 0 {
+			o = a.outLink[o]
+		}
+		for o != 0 {
+			n := a.depth[o]
+			dst = append(dst, match{start: int32(i) - n + 1, n: n, phrase: a.out[o]})
+			o = a.outLink[o]
+		}
+	}
+	return dst
+}
+
+// selectLongest keeps the longest occurrences that do not overlap a longer
+// (or, for equal length, an earlier) kept one, and returns them sorted by
+// start. taken is scratch space of len(syms).
+func selectLongest(ms []match, taken []bool) []match {
+	if len(ms) <= 1 {
+		return ms
+	}
+	slices.SortFunc(ms, func(x, y match) int {
+		if x.n != y.n {
+			return int(y.n - x.n)
+		}
+		return int(x.start - y.start)
+	})
+	kept := ms[:0]
+	for _, m := range ms {
+		free := true
+		for j := m.start; j < m.start+m.n; j++ {
+			if taken[j] {
+				free = false
+				break
+			}
+		}
+		if !free {
+			continue
+		}
+		for j := m.start; j < m.start+m.n; j++ {
+			taken[j] = true
+		}
+		kept = append(kept, m)
+	}
+	slices.SortFunc(kept, func(x, y match) int { return int(x.start - y.start) })
+	return kept
+}
