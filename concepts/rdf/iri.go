@@ -117,7 +117,7 @@ func mergePaths(b *iriRef, ref string) string {
 }
 
 // hasDotSegment reports whether a path has a "." or ".." segment.
-func hasDotSegment(p string) bool {
+func hasDotSegment[T string | []byte](p T) bool {
 	for i := 0; i < len(p); i++ {
 		if p[i] != '.' || (i > 0 && p[i-1] != '/') {
 			continue
@@ -189,7 +189,7 @@ func IsAbsoluteIRI(s string) bool {
 
 // hasScheme reports whether s starts with scheme ":" where
 // scheme = ALPHA *( ALPHA / DIGIT / "+" / "-" / "." ) (RFC 3986 §3.1).
-func hasScheme(s string) bool {
+func hasScheme[T string | []byte](s T) bool {
 	for i := 0; i < len(s); i++ {
 		c := s[i]
 		switch {
