@@ -5,7 +5,50 @@
 //
 //	a, err := annotate.New(m)
 //	res, err := a.Annotate("rec-1", text, annotate.Options{Top: 10})
+//
+// # Sampler
+//
+// With φ fixed, token i of word w takes topic k with probability
+//
+//	p(z_i = k | z_¬i) ∝ (n_dk + α_k) · φ_kw,   φ_kw = φ⁰_k + s_kw,
+//
+// where φ⁰_k = β0/(n_k + B_k) is topic k's smoothing floor and
+// s_kw = (n_kw + λ·π_kw)/(n_k + B_k) is non-zero only for the few topics
+// that used w or name it in a label. The product splits into
+//
+//	α_k·φ_kw   the same for every occurrence of w: its total A_w is cached;
+//	           α_k·φ⁰_k is one alias table per model (Walker 1977, Vose 1991),
+//	           α_k·s_kw one small alias table per word;
+//	n_dk·φ_kw  sparse in the record: summed over its current topics only.
+//
+// so a draw costs O(topics in the record), whatever K is. Several burn-in
+// sweeps are followed by sampling sweeps in which each token's exact
+// conditional (not just its draw) is accumulated (Rao–Blackwellised), per
+// word type: occurrences of one word in one text are exchangeable, so they
+// share a posterior. Scores are the record's topic proportions
+// θ_k = (1/N) Σ_i p(z_i = k), so concept scores plus the uncovered share
+// (free topics) sum to 1.
+//
+// The random seed is a hash of the model's checksum, the text and the
+// options, so the same model and text always give the same result, whatever
+// runs beside them.
 package annotate
+
+import (
+	"crypto/sha256"
+	"encoding/binary"
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"slices"
+	"sort"
+	"strings"
+	"sync"
+
+	"termgrove/model"
+	"termgrove/terms"
+)
 
 // SubjectMode says how known subjects in a request are used.
 type SubjectMode int
@@ -17,14 +60,41 @@ const (
 	Boost
 )
 
+// Defaults for zero Options fields.
+const (
+	DefaultTop      = 10
+	DefaultMaxBytes = 1 << 20 // 1 MiB
+	DefaultBurnIn   = 12
+	DefaultSamples  = 24
+	DefaultBoost    = 20.0
+	// pathPool: aggregated path scores count the descendants among this many
+	// best-ranked concepts (or Top, when larger).
+	pathPool = 100
+	// maxSupport is the most supporting terms listed per concept; terms
+	// carrying less than minSupport of a concept's mass are left out.
+	maxSupport = 10
+	minSupport = 0.01
+)
+
+// ErrTooLarge is returned for a text longer than Options.MaxBytes.
+var ErrTooLarge = errors.New("text too large")
+
 // Options for one annotation; zero values mean defaults.
 type Options struct {
-	Top          int     // concepts returned (default 10)
+	Top          int     // concepts returned (default 10; negative: all)
 	MinScore     float64 // drop concepts scoring below
 	Subjects     []string
 	SubjectMode  SubjectMode
 	IncludeWords bool
 	Language     string // BCP 47 tag of the text; "" = the model's main language
+
+	// MaxBytes refuses longer texts with ErrTooLarge (default 1 MiB;
+	// negative: no limit). Memory grows with distinct words times topics met.
+	MaxBytes int
+	// BurnIn and Samples are the sweeps discarded and averaged (defaults 12, 24).
+	BurnIn, Samples int
+	// BoostFactor multiplies known subjects' α in Boost mode (default 20).
+	BoostFactor float64
 }
 
 // Result is the annotation of one text. JSON names are part of the CLI format.
@@ -37,6 +107,11 @@ type Result struct {
 	Language  string    `json:"language,omitempty"`
 	Fallback  bool      `json:"fallback,omitempty"` // language-neutral analysis used
 	Invalid   int       `json:"invalid_utf8,omitempty"`
+	// Unknown counts tokens whose term the model has never seen; they are
+	// left out of Tokens, Words and the scores.
+	Unknown int `json:"unknown,omitempty"`
+	// UnknownSubjects are known-subject IRIs that are not concepts of the model.
+	UnknownSubjects []string `json:"unknown_subjects,omitempty"`
 }
 
 // Concept is one ranked concept with its hierarchy path and supporting terms.
@@ -55,13 +130,16 @@ type PathNode struct {
 	Score float64 `json:"score"`
 }
 
-// Support is a term supporting a concept with its weight.
+// Support is a term supporting a concept with its weight: the share of the
+// concept's score that the term's occurrences carry.
 type Support struct {
 	Term   string  `json:"term"`
 	Weight float64 `json:"weight"`
 }
 
 // Word is one analysed occurrence with the concept it most supports.
+// Concept is "" when the free topics together take more of the word than any
+// one concept; P is then their summed probability.
 type Word struct {
 	Start   int     `json:"start"`
 	End     int     `json:"end"`
@@ -69,4 +147,806 @@ type Word struct {
 	Term    string  `json:"term"`
 	Concept string  `json:"concept"` // IRI, or "" when a free topic wins
 	P       float64 `json:"p"`
+}
+
+// Annotator annotates texts with one model. It is safe for concurrent use.
+type Annotator struct {
+	m      *model.Model
+	an     *terms.Analyzer
+	langs  map[string]bool // the model's languages, lower-case, with their base tags
+	seed   [32]byte
+	K, C   int
+	alpha  []float64
+	phi0   []float64 // φ⁰_k
+	dense  alias     // over α_k·φ⁰_k
+	q      float64   // Σ_k α_k·φ⁰_k
+	qFree  float64   // Σ_{k ≥ C} α_k·φ⁰_k
+	order  []int32   // topics by α_k·φ⁰_k, largest first
+	labels []string  // concept prefLabels in the main language
+
+	// Per word w, entries off[w]..off[w+1] list the topics with s_kw > 0,
+	// sorted by topic, e.g. topic [3 17] s [0.01 0.2] for a word that concept
+	// 3 names in a label and topic 17 used.
+	off   []int32
+	topic []int32
+	s     []float64
+	wal   []alias   // per word, over α_k·s_kw; views into shared storage
+	aw    []float64 // A_w = q + Σ_k α_k·s_kw
+	awF   []float64 // Σ_{k ≥ C} α_k·φ_kw
+	best  []int32   // argmax_k α_k·φ_kw
+	bestV []float64
+
+	pool sync.Pool // *state
+}
+
+// New prepares an annotator for m: the alias tables and per-word topic lists.
+// m must not change afterwards.
+func New(m *model.Model) (*Annotator, error) {
+	if err := m.Validate(); err != nil {
+		return nil, fmt.Errorf("annotate: %w", err)
+	}
+	an, err := m.NewAnalyzer()
+	if err != nil {
+		return nil, fmt.Errorf("annotate: %w", err)
+	}
+	sum, err := m.Sum()
+	if err != nil {
+		return nil, fmt.Errorf("annotate: %w", err)
+	}
+	K, C, W := m.K(), m.C, len(m.Words)
+	a := &Annotator{m: m, an: an, seed: sum, K: K, C: C, alpha: m.Alpha,
+		phi0: make([]float64, K), langs: map[string]bool{}}
+	for _, l := range m.Analyzer.Languages {
+		l = strings.ToLower(l)
+		a.langs[l] = true
+		a.langs[baseTag(l)] = true
+	}
+	if len(m.Analyzer.Languages) == 0 {
+		a.langs["en"] = true
+	}
+	den := make([]float64, K)
+	dw := make([]float64, K)
+	for k := 0; k < K; k++ {
+		den[k] = float64(m.Totals[k]) + m.BetaSum(k)
+		a.phi0[k] = m.Beta0 / den[k]
+		dw[k] = a.alpha[k] * a.phi0[k]
+		a.q += dw[k]
+		if k >= C {
+			a.qFree += dw[k]
+		}
+	}
+	a.dense = newAlias(dw, nil, nil)
+	a.order = make([]int32, K)
+	for k := range a.order {
+		a.order[k] = int32(k)
+	}
+	sort.SliceStable(a.order, func(i, j int) bool { return dw[a.order[i]] > dw[a.order[j]] })
+	lang := ""
+	if len(m.Analyzer.Languages) > 0 {
+		lang = strings.ToLower(m.Analyzer.Languages[0])
+	}
+	a.labels = make([]string, C)
+	for k := 0; k < C; k++ {
+		a.labels[k] = m.Scheme.Concepts[k].PrefLabel(lang)
+	}
+
+	// Invert the topic rows into per-word lists: count, then fill.
+	a.off = make([]int32, W+1)
+	for k := 0; k < K; k++ {
+		for _, e := range m.Counts[k] {
+			a.off[e.Word+1]++
+		}
+	}
+	// Prior words without counts add entries too.
+	for k := range m.Prior {
+		for _, e := range m.Prior[k] {
+			if e.Weight > 0 && m.Count(k, int(e.Word)) == 0 {
+				a.off[e.Word+1]++
+			}
+		}
+	}
+	var total int64
+	for w := 1; w <= W; w++ {
+		total += int64(a.off[w])
+		if total > math.MaxInt32 {
+			return nil, errors.New("annotate: model too large (over 2^31 non-zero entries)")
+		}
+		a.off[w] = int32(total)
+	}
+	a.topic = make([]int32, total)
+	a.s = make([]float64, total)
+	fill := slices.Clone(a.off[:W])
+	for k := 0; k < K; k++ {
+		var pr []model.WordWeight
+		if k < len(m.Prior) {
+			pr = m.Prior[k]
+		}
+		cr := m.Counts[k]
+		put := func(w int32, num float64) {
+			i := fill[w]
+			fill[w]++
+			a.topic[i] = int32(k)
+			a.s[i] = num / den[k]
+		}
+		i, j := 0, 0
+		for i < len(cr) || j < len(pr) {
+			switch {
+			case j >= len(pr) || (i < len(cr) && cr[i].Word < pr[j].Word):
+				put(cr[i].Word, float64(cr[i].Count))
+				i++
+			case i >= len(cr) || pr[j].Word < cr[i].Word:
+				if pr[j].Weight > 0 {
+					put(pr[j].Word, m.Lambda*pr[j].Weight)
+				}
+				j++
+			default:
+				put(cr[i].Word, float64(cr[i].Count)+m.Lambda*pr[j].Weight)
+				i++
+				j++
+			}
+		}
+	}
+	// Topics were visited in increasing order, so each list is sorted.
+	a.wal = make([]alias, W)
+	a.aw = make([]float64, W)
+	a.awF = make([]float64, W)
+	a.best = make([]int32, W)
+	a.bestV = make([]float64, W)
+	prob := make([]float64, total)
+	al := make([]int32, total)
+	var buf []float64
+	for w := 0; w < W; w++ {
+		lo, hi := a.off[w], a.off[w+1]
+		buf = buf[:0]
+		sumW, free := 0.0, a.qFree
+		bk, bv := int32(-1), -1.0
+		for i := lo; i < hi; i++ {
+			k := a.topic[i]
+			v := a.alpha[k] * a.s[i]
+			buf = append(buf, v)
+			sumW += v
+			if k >= int32(C) {
+				free += v
+			}
+			if f := v + dw[k]; f > bv || (f == bv && k < bk) {
+				bk, bv = k, f
+			}
+		}
+		// Topics off the list weigh α_k·φ⁰_k; the largest of those is among
+		// the first hi-lo+1 of order, since list topics weigh more still.
+		for _, k := range a.order[:min(int(hi-lo)+1, K)] {
+			if f := dw[k]; f > bv || (f == bv && k < bk) {
+				if !a.inList(w, k) {
+					bk, bv = k, f
+				}
+			}
+		}
+		a.wal[w] = newAlias(buf, prob[lo:hi:hi], al[lo:hi:hi])
+		a.aw[w] = a.q + sumW
+		a.awF[w] = free
+		a.best[w], a.bestV[w] = bk, bv
+	}
+	return a, nil
+}
+
+// Model returns the annotator's model.
+func (a *Annotator) Model() *model.Model { return a.m }
+
+// inList reports whether topic k has s_kw > 0.
+func (a *Annotator) inList(w int, k int32) bool {
+	_, ok := a.find(w, k)
+	return ok
+}
+
+// find returns s_kw's index in the word's list.
+func (a *Annotator) find(w int, k int32) (int32, bool) {
+	lo, hi := a.off[w], a.off[w+1]
+	for lo < hi {
+		mid := int32(uint32(lo+hi) >> 1)
+		if a.topic[mid] < k {
+			lo = mid + 1
+		} else {
+			hi = mid
+		}
+	}
+	return lo, lo < a.off[w+1] && a.topic[lo] == k
+}
+
+// sv returns s_kw.
+func (a *Annotator) sv(w int, k int32) float64 {
+	if i, ok := a.find(w, k); ok {
+		return a.s[i]
+	}
+	return 0
+}
+
+// Annotate analyses text and infers its concepts. Empty text gives an empty
+// result; a text over Options.MaxBytes gives ErrTooLarge.
+func (a *Annotator) Annotate(id, text string, opt Options) (*Result, error) {
+	max := opt.MaxBytes
+	if max == 0 {
+		max = DefaultMaxBytes
+	}
+	if max > 0 && len(text) > max {
+		return nil, fmt.Errorf("%s: %w: %d bytes, limit %d", id, ErrTooLarge, len(text), max)
+	}
+	res := &Result{ID: id, Concepts: []Concept{}}
+	an, fallback := a.an, false
+	if opt.Language != "" {
+		l := strings.ToLower(opt.Language)
+		res.Language = opt.Language
+		if !a.langs[l] && !a.langs[baseTag(l)] {
+			fallback = true
+		}
+	}
+	st := a.get()
+	defer a.put(st)
+	var ts terms.Stats
+	if la, ok := any(an).(langAnalyzer); ok && opt.Language != "" {
+		st.toks, ts = la.AnalyzeLang(text, opt.Language, st.toks[:0], false)
+	} else {
+		st.toks, ts = an.Analyze(text, st.toks[:0], false)
+	}
+	res.Invalid = ts.Invalid
+	res.Fallback = fallback || ts.Fallback
+	return a.infer(res, text, st.toks, opt, st)
+}
+
+// langAnalyzer is the per-language entry of terms.Analyzer, used when present.
+type langAnalyzer interface {
+	AnalyzeLang(text, lang string, dst []terms.Token, grow bool) ([]terms.Token, terms.Stats)
+}
+
+// AnnotateTokens is Annotate for a text already analysed with the model's
+// analyzer (Model().NewAnalyzer()): toks index into text.
+func (a *Annotator) AnnotateTokens(id, text string, toks []terms.Token, opt Options) (*Result, error) {
+	res := &Result{ID: id, Concepts: []Concept{}}
+	st := a.get()
+	defer a.put(st)
+	return a.infer(res, text, toks, opt, st)
+}
+
+func baseTag(l string) string {
+	if i := strings.IndexAny(l, "-_"); i > 0 {
+		return l[:i]
+	}
+	return l
+}
+
+// state is the scratch space of one annotation, reused through a pool.
+// Dense per-topic arrays are cleared through the lists of touched topics.
+type state struct {
+	toks []terms.Token
+	ndk  []int32   // K: tokens of the record on topic k
+	ext  []float64 // K: extra α of topic k routed through the record part
+	slot []int32   // K: k's slot, -1 when none
+	th   []float64 // K: θ accumulation
+
+	slotTopic []int32     // slot → topic
+	pos       []int32     // slot → position in act, -1 when inactive
+	act       []int32     // active slots: ndk > 0 or ext > 0
+	sval      [][]float64 // slot → per word type s_kw (NaN: not looked up yet)
+	acc       [][]float64 // slot → per word type Σ p(z = k)
+	touched   []int32
+
+	uw    []int32   // word type u → word id
+	ucnt  []int32   // occurrences of u
+	cacc  []float64 // u → Σ A_w/Z
+	tu    []int32   // token → u
+	z     []int32   // token → topic
+	uOf   map[int32]int32
+	buf   []float64
+	allow bool // restricted: no α·φ part
+}
+
+func (a *Annotator) get() *state {
+	if st, ok := a.pool.Get().(*state); ok {
+		return st
+	}
+	st := &state{ndk: make([]int32, a.K), ext: make([]float64, a.K), slot: make([]int32, a.K),
+		th: make([]float64, a.K), uOf: map[int32]int32{}}
+	for k := range st.slot {
+		st.slot[k] = -1
+	}
+	return st
+}
+
+func (a *Annotator) put(st *state) {
+	for _, k := range st.slotTopic {
+		st.ndk[k], st.ext[k], st.slot[k] = 0, 0, -1
+	}
+	for _, k := range st.touched {
+		st.th[k] = 0
+	}
+	st.touched = st.touched[:0]
+	st.slotTopic, st.pos, st.act = st.slotTopic[:0], st.pos[:0], st.act[:0]
+	st.sval, st.acc = st.sval[:0], st.acc[:0]
+	st.uw, st.ucnt, st.cacc, st.tu, st.z = st.uw[:0], st.ucnt[:0], st.cacc[:0], st.tu[:0], st.z[:0]
+	clear(st.uOf)
+	if cap(st.toks) > 1<<16 {
+		st.toks = nil // do not keep a huge record's buffers
+	}
+	a.pool.Put(st)
+}
+
+// slotOf returns k's slot, creating it.
+func (a *Annotator) slotOf(st *state, k int32) int32 {
+	if s := st.slot[k]; s >= 0 {
+		return s
+	}
+	s := int32(len(st.slotTopic))
+	st.slot[k] = s
+	st.slotTopic = append(st.slotTopic, k)
+	st.pos = append(st.pos, -1)
+	U := len(st.uw)
+	sv := make([]float64, U)
+	for i := range sv {
+		sv[i] = math.NaN()
+	}
+	st.sval = append(st.sval, sv)
+	st.acc = append(st.acc, make([]float64, U))
+	return s
+}
+
+func (st *state) activate(s int32) {
+	if st.pos[s] < 0 {
+		st.pos[s] = int32(len(st.act))
+		st.act = append(st.act, s)
+	}
+}
+
+func (st *state) deactivate(s int32) {
+	p := st.pos[s]
+	if p < 0 {
+		return
+	}
+	last := st.act[len(st.act)-1]
+	st.act[p] = last
+	st.pos[last] = p
+	st.act = st.act[:len(st.act)-1]
+	st.pos[s] = -1
+}
+
+// s returns s_kw for slot s and word type u, looking it up once.
+func (a *Annotator) sOf(st *state, s, u int32) float64 {
+	v := st.sval[s][u]
+	if v != v { // NaN: not looked up yet
+		v = a.sv(int(st.uw[u]), st.slotTopic[s])
+		st.sval[s][u] = v
+	}
+	return v
+}
+
+// infer runs the sampler over toks and fills res.
+func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Options, st *state) (*Result, error) {
+	// Word types of the known tokens.
+	W := int32(len(a.m.Words))
+	for i := range toks {
+		w := toks[i].ID
+		if w < 0 || w >= W {
+			res.Unknown++
+			continue
+		}
+		u, ok := st.uOf[w]
+		if !ok {
+			u = int32(len(st.uw))
+			st.uOf[w] = u
+			st.uw = append(st.uw, w)
+			st.ucnt = append(st.ucnt, 0)
+			st.cacc = append(st.cacc, 0)
+		}
+		st.ucnt[u]++
+		st.tu = append(st.tu, u)
+	}
+	N := len(st.tu)
+	res.Tokens = N
+
+	// Known subjects.
+	var subj []int32
+	for _, iri := range opt.Subjects {
+		if k, ok := a.m.ConceptIndex(iri); ok {
+			subj = append(subj, int32(k))
+		} else {
+			res.UnknownSubjects = append(res.UnknownSubjects, iri)
+		}
+	}
+	st.allow = false
+	if len(subj) > 0 {
+		switch opt.SubjectMode {
+		case Boost:
+			f := opt.BoostFactor
+			if f == 0 {
+				f = DefaultBoost
+			}
+			for _, k := range subj {
+				s := a.slotOf(st, k)
+				st.ext[k] = (f - 1) * a.alpha[k]
+				if st.ext[k] > 0 {
+					st.activate(s)
+				}
+			}
+		default:
+			st.allow = true
+			for _, k := range subj {
+				st.ext[k] = a.alpha[k]
+				st.activate(a.slotOf(st, k))
+			}
+			for k := a.C; k < a.K; k++ {
+				st.ext[k] = a.alpha[k]
+				st.activate(a.slotOf(st, int32(k)))
+			}
+		}
+	}
+	if N == 0 {
+		res.Uncovered = 0
+		return res, nil
+	}
+
+	// Seed: model checksum, text, and the options that change sampling.
+	h := sha256.New()
+	h.Write(a.seed[:])
+	var nb [8]byte
+	binary.LittleEndian.PutUint64(nb[:], uint64(len(text)))
+	h.Write(nb[:])
+	h.Write([]byte(text))
+	fmt.Fprintf(h, "\x00%d\x00%v\x00%d\x00%d", opt.SubjectMode, opt.BoostFactor, opt.BurnIn, opt.Samples)
+	for _, k := range subj {
+		binary.LittleEndian.PutUint32(nb[:], uint32(k))
+		h.Write(nb[:4])
+	}
+	var seed [32]byte
+	h.Sum(seed[:0])
+	rng := rand.New(rand.NewPCG(binary.LittleEndian.Uint64(seed[:8]), binary.LittleEndian.Uint64(seed[8:16])))
+
+	burn, samples := opt.BurnIn, opt.Samples
+	if burn <= 0 {
+		burn = DefaultBurnIn
+	}
+	if samples <= 0 {
+		samples = DefaultSamples
+	}
+	if cap(st.z) < N {
+		st.z = make([]int32, N)
+	}
+	st.z = st.z[:N]
+	// Sweep 0 adds tokens one by one (sequential initialisation); the others
+	// remove and redraw each token.
+	for sweep := 0; sweep <= burn+samples; sweep++ {
+		record := sweep > burn
+		for i, u := range st.tu {
+			if sweep > 0 {
+				k := st.z[i]
+				st.ndk[k]--
+				if st.ndk[k] == 0 && st.ext[k] == 0 {
+					st.deactivate(st.slot[k])
+				}
+			}
+			st.z[i] = a.draw(st, u, rng, record)
+			k := st.z[i]
+			st.ndk[k]++
+			st.activate(a.slotOf(st, k))
+		}
+	}
+	a.summarise(res, text, toks, opt, st, float64(samples))
+	return res, nil
+}
+
+// draw samples a topic for one occurrence of word type u given the other
+// tokens; with record it adds the exact conditional to the accumulators.
+func (a *Annotator) draw(st *state, u int32, rng *rand.Rand, record bool) int32 {
+	w := st.uw[u]
+	st.buf = st.buf[:0]
+	bt := 0.0
+	for _, s := range st.act {
+		k := st.slotTopic[s]
+		v := (float64(st.ndk[k]) + st.ext[k]) * (a.phi0[k] + a.sOf(st, s, u))
+		st.buf = append(st.buf, v)
+		bt += v
+	}
+	aw := 0.0
+	if !st.allow {
+		aw = a.aw[w]
+	}
+	z := bt + aw
+	if record {
+		inv := 1 / z
+		for j, s := range st.act {
+			st.acc[s][u] += st.buf[j] * inv
+		}
+		st.cacc[u] += aw * inv
+	}
+	x := rng.Float64() * z
+	if x < bt {
+		for j, v := range st.buf {
+			if x < v {
+				return st.slotTopic[st.act[j]]
+			}
+			x -= v
+		}
+		// Rounding left x at the top end: take the last positive entry.
+		for j := len(st.buf) - 1; j >= 0; j-- {
+			if st.buf[j] > 0 {
+				return st.slotTopic[st.act[j]]
+			}
+		}
+	}
+	if x-bt < a.q || a.off[w] == a.off[w+1] {
+		return a.dense.draw(rng)
+	}
+	return a.topic[a.off[w]+a.wal[w].draw(rng)]
+}
+
+// post returns word type u's posterior of topic k (slot s, or -1).
+func (a *Annotator) post(st *state, u int32, k int32, samples float64) float64 {
+	n := float64(st.ucnt[u]) * samples
+	w := int(st.uw[u])
+	p := 0.0
+	sk := 0.0
+	if s := st.slot[k]; s >= 0 {
+		p = st.acc[s][u] / n
+		sk = a.sOf(st, s, u)
+	} else {
+		sk = a.sv(w, k)
+	}
+	return p + st.cacc[u]/n*a.alpha[k]*(a.phi0[k]+sk)/a.aw[w]
+}
+
+// freePost returns word type u's posterior mass on all free topics.
+func (a *Annotator) freePost(st *state, u int32, samples float64) float64 {
+	n := float64(st.ucnt[u]) * samples
+	p := 0.0
+	for s, k := range st.slotTopic {
+		if int(k) >= a.C {
+			p += st.acc[s][u]
+		}
+	}
+	return p/n + st.cacc[u]/n*a.awF[st.uw[u]]/a.aw[st.uw[u]]
+}
+
+// summarise turns the accumulators into scores, paths, supports and words.
+func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt Options, st *state, samples float64) {
+	N := float64(len(st.tu))
+	touch := func(k int32) {
+		if st.th[k] == 0 {
+			st.touched = append(st.touched, k)
+		}
+	}
+	// Record part: Σ_u acc[s][u] / (N·samples).
+	for s, k := range st.slotTopic {
+		t := 0.0
+		for _, v := range st.acc[s] {
+			t += v
+		}
+		if t > 0 {
+			touch(k)
+			st.th[k] += t / (N * samples)
+		}
+	}
+	// α·φ part: Σ_u g_u α_k (φ⁰_k + s_kw) with g_u = cacc_u / (A_w·N·samples).
+	G := 0.0
+	if !st.allow {
+		for u, w := range st.uw {
+			g := st.cacc[u] / (a.aw[w] * N * samples)
+			if g == 0 {
+				continue
+			}
+			G += g
+			for i := a.off[w]; i < a.off[w+1]; i++ {
+				k := a.topic[i]
+				touch(k)
+				st.th[k] += g * a.alpha[k] * a.s[i]
+			}
+		}
+	}
+	score := func(k int32) float64 { return st.th[k] + G*a.alpha[k]*a.phi0[k] }
+	unc := G * a.qFree
+	for _, k := range st.touched {
+		if int(k) >= a.C {
+			unc += st.th[k]
+		}
+	}
+	res.Uncovered = unc
+
+	// Rank: touched concepts, plus the untouched ones in the order of
+	// α_k·φ⁰_k (their score is exactly G·α_k·φ⁰_k).
+	top := opt.Top
+	if top == 0 {
+		top = DefaultTop
+	}
+	if top < 0 || top > a.C {
+		top = a.C
+	}
+	want := max(top, min(pathPool, a.C))
+	var cand []int32
+	for _, k := range st.touched {
+		if int(k) < a.C && st.th[k] > 0 {
+			cand = append(cand, k)
+		}
+	}
+	extra := 0
+	if G > 0 {
+		for _, k := range a.order {
+			if extra >= want {
+				break
+			}
+			if int(k) < a.C && st.th[k] == 0 {
+				cand = append(cand, k)
+				extra++
+			}
+		}
+	}
+	sc := make(map[int32]float64, len(cand))
+	for _, k := range cand {
+		sc[k] = score(k)
+	}
+	sort.Slice(cand, func(i, j int) bool {
+		si, sj := sc[cand[i]], sc[cand[j]]
+		if si != sj {
+			return si > sj
+		}
+		return cand[i] < cand[j]
+	})
+	if len(cand) > want {
+		cand = cand[:want]
+	}
+	pool := cand
+	shown := cand[:min(top, len(cand))]
+	n := 0
+	for _, k := range shown {
+		if sc[k] >= opt.MinScore {
+			shown[n] = k
+			n++
+		}
+	}
+	shown = shown[:n]
+
+	// Aggregated scores: own plus the descendants among pool.
+	agg := map[int32]float64{}
+	ownOf := func(k int32) float64 {
+		if v, ok := sc[k]; ok {
+			return v
+		}
+		v := score(k)
+		sc[k] = v
+		return v
+	}
+	seen := map[int32]bool{}
+	var stack []int32
+	for _, c := range pool {
+		clear(seen)
+		stack = append(stack[:0], c)
+		seen[c] = true
+		for len(stack) > 0 {
+			x := stack[len(stack)-1]
+			stack = stack[:len(stack)-1]
+			if x != c {
+				agg[x] += sc[c]
+			}
+			for _, p := range a.m.Scheme.Concepts[x].Broader {
+				if !seen[int32(p)] {
+					seen[int32(p)] = true
+					stack = append(stack, int32(p))
+				}
+			}
+		}
+	}
+	aggOf := func(k int32) float64 { return ownOf(k) + agg[k] }
+
+	for _, k := range shown {
+		c := Concept{IRI: a.m.Scheme.Concepts[k].IRI, Label: a.labels[k], Score: sc[k]}
+		// Walk up through the broader concept with most aggregated mass.
+		var path []PathNode
+		clear(seen)
+		for x := k; ; {
+			seen[x] = true
+			path = append(path, PathNode{IRI: a.m.Scheme.Concepts[x].IRI, Label: a.labels[x], Score: aggOf(x)})
+			bp, bv := int32(-1), -1.0
+			for _, p := range a.m.Scheme.Concepts[x].Broader {
+				if seen[int32(p)] {
+					continue
+				}
+				if v := aggOf(int32(p)); v > bv || (v == bv && int32(p) < bp) {
+					bp, bv = int32(p), v
+				}
+			}
+			if bp < 0 {
+				break
+			}
+			x = bp
+		}
+		slices.Reverse(path)
+		c.Path = path
+		c.Support = a.support(st, k, sc[k]*N, samples)
+		res.Concepts = append(res.Concepts, c)
+	}
+
+	if opt.IncludeWords {
+		a.words(res, text, toks, st, samples)
+	}
+}
+
+// support lists the terms carrying most of concept k's mass (mass = θ_k·N).
+func (a *Annotator) support(st *state, k int32, mass, samples float64) []Support {
+	if mass <= 0 {
+		return nil
+	}
+	var out []Support
+	for u, w := range st.uw {
+		wt := float64(st.ucnt[u]) * a.post(st, int32(u), k, samples) / mass
+		if wt >= minSupport {
+			out = append(out, Support{Term: a.m.Words[w], Weight: wt})
+		}
+	}
+	sort.Slice(out, func(i, j int) bool {
+		if out[i].Weight != out[j].Weight {
+			return out[i].Weight > out[j].Weight
+		}
+		return out[i].Term < out[j].Term
+	})
+	if len(out) > maxSupport {
+		out = out[:maxSupport]
+	}
+	return out
+}
+
+// words fills res.Words: per occurrence the concept its word type most
+// supports, or "" when the free topics together weigh more.
+func (a *Annotator) words(res *Result, text string, toks []terms.Token, st *state, samples float64) {
+	type choice struct {
+		iri string
+		p   float64
+	}
+	ch := make([]choice, len(st.uw))
+	for u := range st.uw {
+		u := int32(u)
+		w := int(st.uw[u])
+		bk, bp := int32(-1), -1.0
+		try := func(k int32) {
+			if int(k) >= a.C {
+				return
+			}
+			if p := a.post(st, u, k, samples); p > bp || (p == bp && k < bk) {
+				bk, bp = k, p
+			}
+		}
+		for s, k := range st.slotTopic {
+			if st.acc[s][u] > 0 {
+				try(k)
+			}
+		}
+		try(a.best[w])
+		// The best concept by α_k·φ_kw alone, when a free topic leads that list.
+		if int(a.best[w]) >= a.C {
+			for i := a.off[w]; i < a.off[w+1]; i++ {
+				try(a.topic[i])
+			}
+			for _, k := range a.order {
+				if int(k) < a.C {
+					try(k)
+					break
+				}
+			}
+		}
+		pf := a.freePost(st, u, samples)
+		if pf > bp || bk < 0 {
+			ch[u] = choice{"", pf}
+		} else {
+			ch[u] = choice{a.m.Scheme.Concepts[bk].IRI, bp}
+		}
+	}
+	W := int32(len(a.m.Words))
+	res.Words = make([]Word, 0, len(st.tu))
+	for i := range toks {
+		t := &toks[i]
+		if t.ID < 0 || t.ID >= W {
+			continue
+		}
+		u := st.uOf[t.ID]
+		surface := ""
+		if 0 <= t.Start && t.Start <= t.End && t.End <= len(text) {
+			surface = text[t.Start:t.End]
+		}
+		res.Words = append(res.Words, Word{Start: t.Start, End: t.End, Text: surface, Term: t.Term,
+			Concept: ch[u].iri, P: ch[u].p})
+	}
 }

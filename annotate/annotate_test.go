@@ -1,0 +1,659 @@
+package annotate
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"reflect"
+	"strings"
+	"sync"
+	"testing"
+
+	"termgrove/concepts"
+	"termgrove/model"
+	"termgrove/model/modeltest"
+	"termgrove/terms"
+)
+
+// barsModel builds a model whose topics are the ten "bars" of a 5×5 word
+// grid (Griffiths & Steyvers 2004, PNAS 101, "Finding scientific topics"),
+// given directly as counts of the true distributions: each bar topic holds
+// scale tokens spread evenly over its 5 words. The first C bars are
+// concepts (a small tree: concept 0 on top, 1..C-1 below it, concept C-1
+// below 1 and 2 instead), the rest free topics. Word i is "w<i>".
+func barsModel(C int, scale int32) (*model.Model, [][]float64) {
+	var bars [][]float64
+	for i := 0; i < 5; i++ {
+		h, v := make([]float64, 25), make([]float64, 25)
+		for j := 0; j < 5; j++ {
+			h[i*5+j] = 0.2
+			v[j*5+i] = 0.2
+		}
+		bars = append(bars, h, v)
+	}
+	return topicsModel(C, bars, scale), bars
+}
+
+// blocksModel is barsModel with ten disjoint topics of 5 words each
+// (topic k owns words 5k..5k+4), so that only the record's length limits
+// how well proportions can be recovered.
+func blocksModel(C int, scale int32) (*model.Model, [][]float64) {
+	var blocks [][]float64
+	for k := 0; k < 10; k++ {
+		b := make([]float64, 50)
+		for j := 0; j < 5; j++ {
+			b[5*k+j] = 0.2
+		}
+		blocks = append(blocks, b)
+	}
+	return topicsModel(C, blocks, scale), blocks
+}
+
+func topicsModel(C int, bars [][]float64, scale int32) *model.Model {
+	K, W := len(bars), len(bars[0])
+	m := &model.Model{C: C, F: K - C, Beta0: 0.01, Lambda: 0, Analyzer: terms.Options{Languages: []string{"en"}}}
+	for w := 0; w < W; w++ {
+		m.Words = append(m.Words, fmt.Sprintf("w%d", w))
+	}
+	s := &concepts.Scheme{IRI: "http://example.org/bars"}
+	for k := 0; k < C; k++ {
+		c := concepts.Concept{IRI: fmt.Sprintf("http://example.org/bar/%d", k),
+			Pref: []concepts.Label{{Lang: "en", Text: fmt.Sprintf("bar %d", k)}}}
+		if k == 0 {
+			c.Top = true
+		} else {
+			c.Broader = []int{0}
+		}
+		s.Concepts = append(s.Concepts, c)
+	}
+	if C > 3 {
+		s.Concepts[C-1].Broader = []int{1, 2}
+	}
+	for i := range s.Concepts {
+		for _, p := range s.Concepts[i].Broader {
+			s.Concepts[p].Narrower = append(s.Concepts[p].Narrower, i)
+		}
+	}
+	m.Scheme = s
+	m.Prior = make([][]model.WordWeight, C)
+	for _, b := range bars {
+		var row []model.WordCount
+		for w, p := range b {
+			if p > 0 {
+				row = append(row, model.WordCount{Word: int32(w), Count: int32(float64(scale) * p)})
+			}
+		}
+		m.Counts = append(m.Counts, row)
+		m.Totals = append(m.Totals, int64(scale))
+		m.Alpha = append(m.Alpha, 0.1)
+		m.DocCounts = append(m.DocCounts, 1)
+	}
+	return m
+}
+
+// tokens turns word ids into tokens over a text "w3 w7 ...".
+func tokens(ids []int32, words []string) (string, []terms.Token) {
+	var b strings.Builder
+	var toks []terms.Token
+	for _, id := range ids {
+		if b.Len() > 0 {
+			b.WriteByte(' ')
+		}
+		start := b.Len()
+		term := "zzz"
+		if id >= 0 {
+			term = words[id]
+		}
+		b.WriteString(term)
+		toks = append(toks, terms.Token{Start: start, End: b.Len(), Term: term, ID: id})
+	}
+	return b.String(), toks
+}
+
+// conditional returns the distribution draw samples from for word type u in
+// the current state, from the alias tables' exact probabilities.
+func (a *Annotator) conditional(st *state, u int32) []float64 {
+	w := int(st.uw[u])
+	p := make([]float64, a.K)
+	bt := 0.0
+	for _, s := range st.act {
+		k := st.slotTopic[s]
+		v := (float64(st.ndk[k]) + st.ext[k]) * (a.phi0[k] + a.sOf(st, s, u))
+		p[k] += v
+		bt += v
+	}
+	aw := 0.0
+	if !st.allow {
+		aw = a.aw[w]
+		for k, d := range a.dense.pmf() {
+			p[k] += a.q * d
+		}
+		lo := a.off[w]
+		for i, d := range a.wal[w].pmf() {
+			p[a.topic[lo+int32(i)]] += (aw - a.q) * d
+		}
+	}
+	for k := range p {
+		p[k] /= bt + aw
+	}
+	return p
+}
+
+// pmf returns the exact distribution an alias table draws from.
+func (t alias) pmf() []float64 {
+	n := float64(len(t.prob))
+	p := make([]float64, len(t.prob))
+	for i, q := range t.prob {
+		p[i] += q / n
+		p[t.alias[i]] += (1 - q) / n
+	}
+	return p
+}
+
+func TestAliasExact(t *testing.T) {
+	r := rand.New(rand.NewPCG(1, 2))
+	for _, n := range []int{1, 2, 7, 100} {
+		w := make([]float64, n)
+		sum := 0.0
+		for i := range w {
+			w[i] = r.ExpFloat64()
+			if i%5 == 3 {
+				w[i] = 0
+			}
+			sum += w[i]
+		}
+		if sum == 0 {
+			w[0], sum = 1, 1
+		}
+		for i, p := range newAlias(w, nil, nil).pmf() {
+			// The alias method is exact by construction (Walker 1977).
+			if math.Abs(p-w[i]/sum) > 1e-12 {
+				t.Errorf("n=%d: p[%d] = %v, want %v", n, i, p, w[i]/sum)
+			}
+		}
+	}
+}
+
+// TestConditionalEqualsDense: the split sampler draws from exactly
+// p(k) ∝ (n_dk + α_k)·φ_kw, with φ from model.Phi (DESIGN.md, "The model").
+func TestConditionalEqualsDense(t *testing.T) {
+	m := modeltest.Synthetic(modeltest.Options{Concepts: 60, Free: 5, Words: 300, WordsPerConcept: 20, Seed: 5})
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := rand.New(rand.NewPCG(3, 4))
+	for _, mode := range []string{"plain", "restrict", "boost"} {
+		st := a.get()
+		ids := make([]int32, 40)
+		for i := range ids {
+			ids[i] = int32(r.IntN(m.W()))
+		}
+		_, toks := tokens(ids, m.Words)
+		opt := Options{}
+		switch mode {
+		case "restrict":
+			opt = Options{Subjects: []string{m.Scheme.Concepts[3].IRI, m.Scheme.Concepts[9].IRI}, SubjectMode: Restrict}
+		case "boost":
+			opt = Options{Subjects: []string{m.Scheme.Concepts[3].IRI}, SubjectMode: Boost, BoostFactor: 7}
+		}
+		res := &Result{}
+		if _, err := a.infer(res, "", toks, opt, st); err != nil {
+			t.Fatal(err)
+		}
+		// Take one token out, as draw sees it, and compare.
+		for i := 0; i < 5; i++ {
+			k := st.z[i]
+			st.ndk[k]--
+			if st.ndk[k] == 0 && st.ext[k] == 0 {
+				st.deactivate(st.slot[k])
+			}
+			u := st.tu[i]
+			w := int(st.uw[u])
+			got := a.conditional(st, u)
+			want := make([]float64, a.K)
+			sum := 0.0
+			for k := 0; k < a.K; k++ {
+				al := m.Alpha[k]
+				switch {
+				case mode == "restrict" && k < m.C && k != 3 && k != 9:
+					al = 0
+				case mode == "boost" && k == 3:
+					al *= 7
+				}
+				want[k] = (float64(st.ndk[k]) + al) * m.Phi(k, w)
+				sum += want[k]
+			}
+			for k := range want {
+				if d := math.Abs(got[k] - want[k]/sum); d > 1e-9 {
+					t.Fatalf("%s: token %d topic %d: sampler %v, dense %v", mode, i, k, got[k], want[k]/sum)
+				}
+			}
+			st.ndk[k]++
+			st.activate(st.slot[k])
+		}
+		a.put(st)
+	}
+}
+
+// TestDistributions (outside check b): concept scores plus the uncovered
+// share sum to 1, and so does each word type's posterior over all topics.
+// Source: definition of θ and of a posterior (DESIGN.md "Annotation result").
+func TestDistributions(t *testing.T) {
+	m := modeltest.Synthetic(modeltest.Options{Concepts: 80, Free: 6, Words: 400, WordsPerConcept: 25, Seed: 9})
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := rand.New(rand.NewPCG(8, 8))
+	for _, opt := range []Options{
+		{Top: -1},
+		{Top: -1, Subjects: []string{m.Scheme.Concepts[2].IRI}, SubjectMode: Restrict},
+		{Top: -1, Subjects: []string{m.Scheme.Concepts[2].IRI}, SubjectMode: Boost},
+	} {
+		ids := make([]int32, 150)
+		for i := range ids {
+			ids[i] = int32(r.IntN(m.W()))
+		}
+		text, toks := tokens(ids, m.Words)
+		st := a.get()
+		res, err := a.infer(&Result{Concepts: []Concept{}}, text, toks, opt, st)
+		if err != nil {
+			t.Fatal(err)
+		}
+		sum := res.Uncovered
+		for _, c := range res.Concepts {
+			sum += c.Score
+		}
+		if len(res.Concepts) != m.C && opt.SubjectMode != Restrict {
+			t.Errorf("Top -1 gave %d of %d concepts", len(res.Concepts), m.C)
+		}
+		if math.Abs(sum-1) > 1e-9 {
+			t.Errorf("%+v: scores + uncovered = %.15f", opt, sum)
+		}
+		samples := float64(DefaultSamples)
+		for u := range st.uw {
+			p := 0.0
+			for k := 0; k < a.K; k++ {
+				p += a.post(st, int32(u), int32(k), samples)
+			}
+			if math.Abs(p-1) > 1e-9 {
+				t.Errorf("word type %d: posterior sums to %.15f", u, p)
+			}
+			// The free share used for "" attributions is the free topics' sum.
+			pf := 0.0
+			for k := a.C; k < a.K; k++ {
+				pf += a.post(st, int32(u), int32(k), samples)
+			}
+			if d := math.Abs(pf - a.freePost(st, int32(u), samples)); d > 1e-12 {
+				t.Errorf("free share off by %v", d)
+			}
+		}
+		a.put(st)
+	}
+}
+
+// TestKnownProportions (outside check a): 100 documents generated from
+// known topics with known proportions θ ~ Dirichlet(1), 150 words each
+// (six concept topics, four free ones compared by their total); the mean L1
+// distance between inferred and true proportions (concepts + uncovered) is
+// within the stated tolerance.
+//
+// bars: every word is shared by two topics, so even the exact posterior mean
+// stays about 0.26 from θ (measured with 2,000 sampling sweeps); tolerance
+// 0.30. blocks (disjoint topics): the tokens' own topic shares are about
+// 0.13 from θ; tolerance 0.18.
+// Source: Griffiths & Steyvers 2004, PNAS 101, synthetic "bars" data.
+func TestKnownProportions(t *testing.T) {
+	for _, c := range []struct {
+		name  string
+		build func(int, int32) (*model.Model, [][]float64)
+		tol   float64
+	}{{"bars", barsModel, 0.30}, {"blocks", blocksModel, 0.18}} {
+		t.Run(c.name, func(t *testing.T) {
+			m, topics := c.build(6, 10000)
+			knownProportions(t, m, topics, c.tol)
+		})
+	}
+}
+
+func knownProportions(t *testing.T, m *model.Model, bars [][]float64, tol float64) {
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := rand.New(rand.NewPCG(11, 12))
+	const docs, n = 100, 150
+	var l1, l1emp, worst float64
+	for d := 0; d < docs; d++ {
+		theta := make([]float64, len(bars))
+		s := 0.0
+		for k := range theta {
+			theta[k] = r.ExpFloat64() // Dirichlet(1) by normalised Exp(1)
+			s += theta[k]
+		}
+		for k := range theta {
+			theta[k] /= s
+		}
+		ids := make([]int32, n)
+		emp := make([]float64, len(bars))
+		for i := range ids {
+			k := pick(r, theta)
+			emp[k] += 1.0 / n
+			ids[i] = int32(pick(r, bars[k]))
+		}
+		text, toks := tokens(ids, m.Words)
+		res, err := a.AnnotateTokens(fmt.Sprint(d), text, toks, Options{Top: -1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		got := make([]float64, len(bars))
+		free := 0.0
+		for _, c := range res.Concepts {
+			k, _ := m.ConceptIndex(c.IRI)
+			got[k] = c.Score
+		}
+		// Free topics are exchangeable, so compare their total.
+		for k := m.C; k < m.K(); k++ {
+			free += theta[k]
+		}
+		e, ee := math.Abs(free-res.Uncovered), 0.0
+		fe := 0.0
+		for k := 0; k < m.C; k++ {
+			e += math.Abs(got[k] - theta[k])
+			ee += math.Abs(emp[k] - theta[k])
+		}
+		for k := m.C; k < m.K(); k++ {
+			fe += emp[k]
+		}
+		ee += math.Abs(fe - free)
+		l1 += e / docs
+		l1emp += ee / docs
+		worst = max(worst, e)
+	}
+	t.Logf("mean L1 %.3f (empirical shares %.3f), worst %.3f", l1, l1emp, worst)
+	if l1 > tol {
+		t.Errorf("mean L1 error %.3f > %.2f", l1, tol)
+	}
+}
+
+func pick(r *rand.Rand, p []float64) int {
+	x := r.Float64()
+	for i, v := range p {
+		if x < v {
+			return i
+		}
+		x -= v
+	}
+	return len(p) - 1
+}
+
+// TestWordsAndSupport: a text of bar-1 words and bar-3 words attributes each
+// word to its bar and lists its words as support.
+func TestWordsAndSupport(t *testing.T) {
+	m, bars := barsModel(6, 10000)
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ids []int32
+	for i := 0; i < 20; i++ {
+		// Words of bar 1 (column 0: 0,5,10,15,20) and bar 3 (column 1: 1,6,...),
+		// avoiding the crossing cells shared with row bars.
+		ids = append(ids, int32(5*(1+i%4)), int32(5*(1+i%4)+1))
+	}
+	_ = bars
+	text, toks := tokens(ids, m.Words)
+	res, err := a.AnnotateTokens("r", text, toks, Options{IncludeWords: true, Top: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(res.Concepts) < 2 {
+		t.Fatalf("concepts %+v", res.Concepts)
+	}
+	top := map[string]bool{res.Concepts[0].IRI: true, res.Concepts[1].IRI: true}
+	if !top["http://example.org/bar/1"] || !top["http://example.org/bar/3"] {
+		t.Errorf("top concepts %s, %s", res.Concepts[0].IRI, res.Concepts[1].IRI)
+	}
+	if len(res.Words) != len(ids) {
+		t.Fatalf("%d words", len(res.Words))
+	}
+	for i, w := range res.Words {
+		want := "http://example.org/bar/1"
+		if ids[i]%5 == 1 {
+			want = "http://example.org/bar/3"
+		}
+		if w.Concept != want || w.P < 0.9 || text[w.Start:w.End] != w.Text || w.Term != m.Words[ids[i]] {
+			t.Errorf("word %d: %+v, want %s", i, w, want)
+		}
+	}
+	for _, c := range res.Concepts[:2] {
+		sum := 0.0
+		for _, s := range c.Support {
+			sum += s.Weight
+		}
+		if len(c.Support) != 4 || sum < 0.99 || sum > 1+1e-9 {
+			t.Errorf("%s support %+v", c.IRI, c.Support)
+		}
+	}
+}
+
+// TestPaths: concept 5 sits below 1 and below 2 (bars 0..5 are concepts);
+// with bar 1 and bar 5 in the text, 5's path runs through 1, the broader
+// concept carrying more of the record.
+func TestPaths(t *testing.T) {
+	m, _ := barsModel(6, 10000)
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ids []int32
+	for i := 0; i < 15; i++ {
+		ids = append(ids, int32(5*(1+i%4)), int32(20+i%4)) // bar 1: column 0; bar 5: row 4 (minus the crossing)
+	}
+	text, toks := tokens(ids, m.Words)
+	res, err := a.AnnotateTokens("r", text, toks, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var c5 *Concept
+	for i := range res.Concepts {
+		if res.Concepts[i].IRI == "http://example.org/bar/5" {
+			c5 = &res.Concepts[i]
+		}
+	}
+	if c5 == nil {
+		t.Fatalf("bar 5 not found: %+v", res.Concepts)
+	}
+	var iris []string
+	for _, p := range c5.Path {
+		iris = append(iris, p.IRI)
+	}
+	want := []string{"http://example.org/bar/0", "http://example.org/bar/1", "http://example.org/bar/5"}
+	if !reflect.DeepEqual(iris, want) {
+		t.Errorf("path %v, want %v", iris, want)
+	}
+	// Aggregated scores grow towards the top.
+	for i := 1; i < len(c5.Path); i++ {
+		if c5.Path[i].Score > c5.Path[i-1].Score+1e-12 {
+			t.Errorf("path scores %+v", c5.Path)
+		}
+	}
+	if c5.Path[2].Score != c5.Score {
+		t.Errorf("leaf aggregated %v, own %v", c5.Path[2].Score, c5.Score)
+	}
+}
+
+func TestSubjects(t *testing.T) {
+	m, _ := barsModel(6, 10000)
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ids []int32
+	for i := 0; i < 30; i++ {
+		ids = append(ids, int32(5*(1+i%4))) // bar 1
+	}
+	text, toks := tokens(ids, m.Words)
+	b2 := "http://example.org/bar/2"
+	res, err := a.AnnotateTokens("r", text, toks, Options{Top: -1, Subjects: []string{b2, "http://nowhere/x"}, SubjectMode: Restrict})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(res.UnknownSubjects, []string{"http://nowhere/x"}) {
+		t.Errorf("unknown subjects %v", res.UnknownSubjects)
+	}
+	for _, c := range res.Concepts {
+		if c.IRI != b2 && c.Score != 0 {
+			t.Errorf("restricted result scores %s = %v", c.IRI, c.Score)
+		}
+	}
+	plain, _ := a.AnnotateTokens("r", text, toks, Options{Top: -1})
+	boost, _ := a.AnnotateTokens("r", text, toks, Options{Top: -1, Subjects: []string{b2}, SubjectMode: Boost})
+	score := func(r *Result, iri string) float64 {
+		for _, c := range r.Concepts {
+			if c.IRI == iri {
+				return c.Score
+			}
+		}
+		return 0
+	}
+	if !(score(boost, b2) > score(plain, b2)) || plain.Concepts[0].IRI != "http://example.org/bar/1" {
+		t.Errorf("boost %v, plain %v (top %s)", score(boost, b2), score(plain, b2), plain.Concepts[0].IRI)
+	}
+}
+
+func TestDeterministicAndConcurrent(t *testing.T) {
+	m := modeltest.Synthetic(modeltest.Options{Concepts: 200, Free: 10, Words: 2000, Seed: 2})
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := rand.New(rand.NewPCG(1, 1))
+	type in struct {
+		text string
+		toks []terms.Token
+	}
+	var ins []in
+	for d := 0; d < 12; d++ {
+		ids := make([]int32, 50+r.IntN(100))
+		for i := range ids {
+			ids[i] = int32(r.IntN(m.W()))
+		}
+		text, toks := tokens(ids, m.Words)
+		ins = append(ins, in{text, toks})
+	}
+	opt := Options{IncludeWords: true}
+	want := make([]*Result, len(ins))
+	for i, x := range ins {
+		want[i], _ = a.AnnotateTokens("r", x.text, x.toks, opt)
+	}
+	// A second annotator over the same model, many goroutines, shuffled order.
+	b, _ := New(m)
+	var wg sync.WaitGroup
+	errs := make(chan string, 100)
+	for g := 0; g < 4; g++ {
+		wg.Add(1)
+		go func(g int) {
+			defer wg.Done()
+			for j := range ins {
+				i := (j*7 + g*5) % len(ins)
+				got, _ := b.AnnotateTokens("r", ins[i].text, ins[i].toks, opt)
+				if !reflect.DeepEqual(got, want[i]) {
+					errs <- fmt.Sprintf("goroutine %d text %d differs", g, i)
+				}
+			}
+		}(g)
+	}
+	wg.Wait()
+	close(errs)
+	for e := range errs {
+		t.Error(e)
+	}
+}
+
+func TestEdgeCases(t *testing.T) {
+	m, _ := barsModel(6, 10000)
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := a.Annotate("e", "", Options{})
+	if err != nil || len(res.Concepts) != 0 || res.Tokens != 0 || res.Uncovered != 0 {
+		t.Errorf("empty text: %+v %v", res, err)
+	}
+	text, toks := tokens([]int32{-1, 3, -1, 3}, m.Words)
+	res, err = a.AnnotateTokens("u", text, toks, Options{IncludeWords: true})
+	if err != nil || res.Unknown != 2 || res.Tokens != 2 || len(res.Words) != 2 {
+		t.Errorf("unknown words: %+v %v", res, err)
+	}
+	text, toks = tokens([]int32{-1}, m.Words)
+	res, err = a.AnnotateTokens("u", text, toks, Options{})
+	if err != nil || res.Unknown != 1 || len(res.Concepts) != 0 {
+		t.Errorf("only unknown words: %+v %v", res, err)
+	}
+	_, err = a.Annotate("big", strings.Repeat("w1 ", 1<<20), Options{})
+	if !errors.Is(err, ErrTooLarge) || !strings.HasPrefix(err.Error(), "big: ") {
+		t.Errorf("10 MB: %v", err)
+	}
+	res, err = a.Annotate("fr", "w1 w2", Options{Language: "xx-notalanguage"})
+	if err != nil || !res.Fallback || res.Language != "xx-notalanguage" {
+		t.Errorf("unknown language: %+v %v", res, err)
+	}
+	// MinScore and Top cut.
+	text, toks = tokens([]int32{5, 10, 15, 20, 1, 6}, m.Words)
+	res, _ = a.AnnotateTokens("c", text, toks, Options{Top: 2, MinScore: 0.5})
+	if len(res.Concepts) > 1 || (len(res.Concepts) == 1 && res.Concepts[0].Score < 0.5) {
+		t.Errorf("cut: %+v", res.Concepts)
+	}
+}
+
+// TestAnnotateText goes through the model's analyzer: words of the model's
+// vocabulary made from analysed English text.
+func TestAnnotateText(t *testing.T) {
+	an, err := terms.New(terms.Options{Languages: []string{"en"}}, terms.NewDictionary())
+	if err != nil {
+		t.Fatal(err)
+	}
+	const text = "Rivers and bridges. The river flooded the bridge; libraries keep catalogues and library records."
+	toks, _ := an.Analyze(text, nil, true)
+	if len(toks) == 0 {
+		t.Skip("the terms analyzer is a stub")
+	}
+	words := an.Dict().Terms()
+	// Concept 0 "water" holds the river/flood terms, concept 1 the rest.
+	m := topicsModel(2, [][]float64{make([]float64, len(words)), make([]float64, len(words))}, 0)
+	m.Words = slicesClone(words)
+	m.Counts = make([][]model.WordCount, m.K())
+	m.Totals = make([]int64, m.K())
+	for id := range words {
+		k := 1
+		if strings.HasPrefix(words[id], "river") || strings.HasPrefix(words[id], "flood") || strings.HasPrefix(words[id], "bridg") {
+			k = 0
+		}
+		m.Counts[k] = append(m.Counts[k], model.WordCount{Word: int32(id), Count: 50})
+		m.Totals[k] += 50
+	}
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := a.Annotate("t", text, Options{IncludeWords: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Tokens != len(toks) || len(res.Words) != len(toks) {
+		t.Fatalf("tokens %d words %d, analysed %d", res.Tokens, len(res.Words), len(toks))
+	}
+	for _, w := range res.Words {
+		if text[w.Start:w.End] != w.Text {
+			t.Errorf("span %d:%d %q", w.Start, w.End, w.Text)
+		}
+		if strings.HasPrefix(strings.ToLower(w.Text), "river") && w.Concept != "http://example.org/bar/0" {
+			t.Errorf("%q → %q", w.Text, w.Concept)
+		}
+	}
+}
+
+func slicesClone(s []string) []string { return append([]string(nil), s...) }
