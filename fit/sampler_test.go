@@ -4,6 +4,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"reflect"
+	"strconv"
 	"testing"
 
 	"termgrove/prior"
@@ -316,5 +317,36 @@ func TestReproducible(t *testing.T) {
 		if !(a > 0) {
 			t.Fatalf("α_%d = %v", k, a)
 		}
+	}
+}
+
+// TestHoldoutShare: the id hash keeps about the asked share of records out,
+// also for ids that differ only in their last digits.
+// Common practice, no source.
+func TestHoldoutShare(t *testing.T) {
+	n := 0
+	for i := 0; i < 10000; i++ {
+		if holdout("hv-"+strconv.Itoa(i), 0.1) {
+			n++
+		}
+	}
+	if n < 900 || n > 1100 {
+		t.Fatalf("%d of 10000 ids held out at 0.1", n)
+	}
+}
+
+// TestReproducibleHeldOut checks the held-out figure is computed and finite.
+func TestHeldOutComputed(t *testing.T) {
+	p, c := randomSetup(9, 12, 30, 120, 30)
+	res, err := RunContext(t.Context(), p, c, Options{FreeTopics: 3, Sweeps: 20, Seed: 1, Workers: 1, HoldoutFraction: 0.2, HoldoutParticles: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.HeldOutDocs == 0 || !(res.HeldOutLLPerWord < 0) || math.IsInf(res.HeldOutLLPerWord, 0) {
+		t.Fatalf("held-out: %d records, %v per token", res.HeldOutDocs, res.HeldOutLLPerWord)
+	}
+	// A uniform model over 30 words scores log(1/30); the fitted one must not be far worse.
+	if res.HeldOutLLPerWord < math.Log(1.0/30)-0.5 {
+		t.Fatalf("held-out %v per token, uniform %v", res.HeldOutLLPerWord, math.Log(1.0/30))
 	}
 }

@@ -140,7 +140,15 @@ func holdout(id string, frac float64) bool {
 	}
 	h := fnv.New64a()
 	h.Write([]byte(id))
-	return float64(h.Sum64()>>11)*(1.0/(1<<53)) < frac
+	// FNV's high bits barely move for short ids that differ in their last
+	// characters; the splitmix64 finaliser spreads them.
+	x := h.Sum64()
+	x ^= x >> 30
+	x *= 0xbf58476d1ce4e5b9
+	x ^= x >> 27
+	x *= 0x94d049bb133111eb
+	x ^= x >> 31
+	return float64(x>>11)*(1.0/(1<<53)) < frac
 }
 
 func (st *state) buildDocs() error {

@@ -1,12 +1,331 @@
 package main
 
 import (
+	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"flag"
 	"fmt"
+	"io"
+	"io/fs"
+	"math"
 	"os"
+	"os/signal"
+	"path/filepath"
+	"runtime"
+	"sort"
+	"strings"
+	"syscall"
+	"time"
+
+	"github.com/schollz/progressbar/v3"
+	"golang.org/x/term"
+
+	"termgrove/concepts"
+	"termgrove/fit"
+	"termgrove/internal/records"
+	"termgrove/model"
+	"termgrove/prior"
+	"termgrove/terms"
 )
 
-// STUB: replaced by the real command.
+const fitExample = `
+Example:
+  termgrove fit --vocab thesaurus.ttl --records catalogue.jsonl --out lib.grove \
+      --free-topics 50 --sweeps 300 --holdout 0.05 --checkpoint 5m
+
+  A killed or interrupted fit continues from its checkpoint (MODEL.checkpoint):
+  termgrove fit --vocab thesaurus.ttl --records catalogue.jsonl --out lib.grove --resume
+`
+
+// fitFlags are the options of "termgrove fit".
+type fitFlags struct {
+	vocab, recs, out  string
+	scheme            string
+	free, sweeps      int
+	burnIn, workers   int
+	seed              int64
+	lambda, holdout   float64
+	checkpoint        time.Duration
+	resume, skipBad   bool
+	langs, fields     string
+	quiet, noProgress bool
+}
+
 func cmdFit(args []string) int {
-	fmt.Fprintln(os.Stderr, "termgrove fit: not implemented yet")
-	return 2
+	var f fitFlags
+	fl := flag.NewFlagSet("termgrove fit", flag.ContinueOnError)
+	fl.SetOutput(os.Stderr)
+	fl.StringVar(&f.vocab, "vocab", "", "SKOS vocabulary `FILE` (Turtle, N-Triples, RDF/XML, JSON-LD)")
+	fl.StringVar(&f.recs, "records", "", "records: JSON Lines `FILE` or a DIR of .txt files")
+	fl.StringVar(&f.out, "out", "", "model file to write (`MODEL.grove`)")
+	fl.StringVar(&f.scheme, "scheme", "", "concept scheme `IRI` when the file holds several")
+	fl.IntVar(&f.free, "free-topics", 20, "free topics beside the concepts, for themes the vocabulary lacks")
+	fl.IntVar(&f.sweeps, "sweeps", 200, "Gibbs sweeps over all records")
+	fl.IntVar(&f.burnIn, "burn-in", 0, "sweeps before α is learned (0 = a quarter of --sweeps)")
+	fl.Int64Var(&f.seed, "seed", 1, "random seed (one worker + the same seed = the same model)")
+	fl.IntVar(&f.workers, "workers", runtime.NumCPU(), "sampling threads")
+	fl.Float64Var(&f.lambda, "lambda", 0, "prior strength λ in pseudo-counts per concept (0 = default)")
+	fl.Float64Var(&f.holdout, "holdout", 0, "share of records kept out and scored (left-to-right estimator)")
+	fl.DurationVar(&f.checkpoint, "checkpoint", 5*time.Minute, "write the sampler state this often (0 = never)")
+	fl.BoolVar(&f.resume, "resume", false, "continue from MODEL.checkpoint when it exists")
+	fl.StringVar(&f.langs, "lang", "en", "languages, comma-separated; the first is the records' main language")
+	fl.StringVar(&f.fields, "fields", "title,text", "record fields to read, comma-separated")
+	fl.BoolVar(&f.skipBad, "skip-bad", false, "skip records that are not JSON (counted) instead of stopping")
+	fl.BoolVar(&f.quiet, "quiet", false, "only the summary")
+	fl.BoolVar(&f.noProgress, "no-progress", false, "plain log lines even on a terminal")
+	fl.Usage = func() {
+		fmt.Fprintln(os.Stderr, "usage: termgrove fit --vocab FILE --records FILE|DIR --out MODEL.grove [options]")
+		fmt.Fprintln(os.Stderr, "\nFits the vocabulary's concepts (plus free topics) to the records and writes a model file.\n\nOptions:")
+		fl.PrintDefaults()
+		fmt.Fprint(os.Stderr, fitExample)
+	}
+	if err := fl.Parse(args); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return 0
+		}
+		return 2
+	}
+	if fl.NArg() > 0 {
+		fmt.Fprintf(os.Stderr, "termgrove fit: unexpected argument %q\n", fl.Arg(0))
+		return 2
+	}
+	var missing []string
+	for _, m := range []struct{ name, v string }{{"--vocab", f.vocab}, {"--records", f.recs}, {"--out", f.out}} {
+		if m.v == "" {
+			missing = append(missing, m.name)
+		}
+	}
+	if len(missing) > 0 {
+		fmt.Fprintf(os.Stderr, "termgrove fit: missing %s (see termgrove fit --help)\n", strings.Join(missing, ", "))
+		return 2
+	}
+	if f.free < 0 || f.sweeps < 1 || f.holdout < 0 || f.holdout >= 1 || f.lambda < 0 || f.workers < 1 {
+		fmt.Fprintln(os.Stderr, "termgrove fit: --free-topics ≥ 0, --sweeps ≥ 1, --workers ≥ 1, --lambda ≥ 0 and 0 ≤ --holdout < 1")
+		return 2
+	}
+	return runFit(&f)
+}
+
+func fitSplit(s string) []string {
+	var out []string
+	for _, p := range strings.Split(s, ",") {
+		if p = strings.TrimSpace(p); p != "" {
+			out = append(out, p)
+		}
+	}
+	return out
+}
+
+func runFit(f *fitFlags) int {
+	logf := func(format string, a ...any) {
+		if !f.quiet {
+			fmt.Fprintf(os.Stderr, format+"\n", a...)
+		}
+	}
+	warnf := func(format string, a ...any) { fmt.Fprintf(os.Stderr, "termgrove fit: warning: "+format+"\n", a...) }
+	fail := func(code int, format string, a ...any) int {
+		fmt.Fprintf(os.Stderr, "termgrove fit: "+format+"\n", a...)
+		return code
+	}
+
+	scheme, err := concepts.Load(f.vocab, concepts.LoadOptions{Scheme: f.scheme})
+	if err != nil {
+		return fail(2, "%v", fitFileErr(f.vocab, err))
+	}
+	langs := fitSplit(f.langs)
+	an, err := terms.New(terms.Options{Languages: langs}, terms.NewDictionary())
+	if err != nil {
+		return fail(2, "%v", err)
+	}
+	pr, err := prior.Build(scheme, an, prior.Options{Lambda: f.lambda})
+	if err != nil {
+		return fail(2, "%s: building the prior: %v", f.vocab, err)
+	}
+	logf("vocabulary %s: %d concepts, %d without terms", f.vocab, len(scheme.Concepts), len(pr.Report.NoTerms))
+
+	b := &fit.CorpusBuilder{Analyzer: an, Scheme: scheme}
+	fields := fitSplit(f.fields)
+	unknownShown := 0
+	ropt := records.Options{Fields: fields, SkipBad: f.skipBad, Bad: func(err error) { warnf("skipped: %v", err) }}
+	rstats, err := records.ReadStats(f.recs, ropt, func(r records.Record) error {
+		_, unknown := b.Add(r.ID, r.Join(fields), r.Subjects, r.Date)
+		for _, u := range unknown {
+			if unknownShown < 10 {
+				warnf("%s:%d: record %q: subject %q is not a concept of the vocabulary (ignored)", r.File, r.Line, r.ID, u)
+			}
+			unknownShown++
+		}
+		return nil
+	})
+	if err != nil {
+		return fail(2, "%v (use --skip-bad to skip bad lines)", err)
+	}
+	if unknownShown > 10 {
+		warnf("%d more unknown subjects", unknownShown-10)
+	}
+	corpus := b.Finish()
+	if b.Records == 0 {
+		return fail(2, "%s: no record with text (%d read, %d empty, %d skipped)", f.recs, rstats.Read, b.Empty, rstats.Skipped)
+	}
+	logf("records %s: %d with text, %d empty, %d skipped as bad, %d unknown subjects; %d tokens, %d word types",
+		f.recs, b.Records, b.Empty, rstats.Skipped, b.UnknownSubjects, corpus.Tokens(), corpus.W)
+
+	ckPath := f.out + ".checkpoint"
+	opt := fit.Options{
+		Sweeps: f.sweeps, BurnIn: f.burnIn, FreeTopics: f.free, Lambda: f.lambda, Seed: f.seed,
+		Workers: f.workers, HoldoutFraction: f.holdout,
+		Checkpoint: f.checkpoint, CheckpointPath: ckPath,
+	}
+	if f.checkpoint <= 0 {
+		opt.CheckpointPath = ""
+	}
+	tty := !f.noProgress && !f.quiet && term.IsTerminal(int(os.Stderr.Fd()))
+	var bar *progressbar.ProgressBar
+	if tty {
+		bar = progressbar.NewOptions(f.sweeps,
+			progressbar.OptionSetWriter(os.Stderr),
+			progressbar.OptionSetDescription("sweep"),
+			progressbar.OptionShowCount(),
+			progressbar.OptionSetPredictTime(true),
+			progressbar.OptionFullWidth(),
+			progressbar.OptionThrottle(200*time.Millisecond),
+		)
+	}
+	lastLog := time.Now()
+	opt.Progress = func(p fit.Progress) {
+		ll := "-"
+		if p.LogLik != 0 {
+			ll = fmt.Sprintf("%.4f", p.LogLik)
+		}
+		if bar != nil {
+			bar.Describe(fmt.Sprintf("sweep %d/%d  %.2fM tokens/s  log-lik/token %s", p.Sweep, p.Sweeps, p.TokensPerSec/1e6, ll))
+			bar.Set(p.Sweep)
+			return
+		}
+		if f.quiet {
+			return
+		}
+		if p.Sweep == p.Sweeps || p.Sweep == 1 || p.Checkpointed || time.Since(lastLog) >= 10*time.Second {
+			left := time.Duration(0)
+			if p.Sweep > 0 {
+				left = time.Duration(float64(p.Elapsed) / float64(p.Sweep) * float64(p.Sweeps-p.Sweep))
+			}
+			ck := ""
+			if p.Checkpointed {
+				ck = " checkpoint written"
+			}
+			logf("sweep %d/%d tokens/s=%.0f log-lik/token=%s left=%s%s", p.Sweep, p.Sweeps, p.TokensPerSec, ll, left.Round(time.Second), ck)
+			lastLog = time.Now()
+		}
+	}
+
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	var res *fit.Result
+	if _, statErr := os.Stat(ckPath); f.resume && statErr == nil {
+		logf("resuming from %s", ckPath)
+		res, err = fit.Resume(ctx, ckPath, pr, corpus, opt)
+	} else {
+		if f.resume {
+			logf("no checkpoint at %s: starting afresh", ckPath)
+		}
+		res, err = fit.RunContext(ctx, pr, corpus, opt)
+	}
+	if bar != nil {
+		bar.Finish()
+		fmt.Fprintln(os.Stderr)
+	}
+	if err != nil {
+		if errors.Is(err, context.Canceled) {
+			if opt.CheckpointPath != "" {
+				return fail(1, "interrupted; state saved in %s, continue with --resume", ckPath)
+			}
+			return fail(1, "interrupted")
+		}
+		if errors.Is(err, fit.ErrEmptyCorpus) {
+			return fail(2, "%s: no tokens to fit (holdout %.2f)", f.recs, f.holdout)
+		}
+		return fail(1, "%v", err)
+	}
+
+	m := res.Model
+	m.Provenance.TermgroveVersion = version
+	m.Provenance.Created = time.Now().UTC().Format(time.RFC3339)
+	m.Provenance.VocabFile = f.vocab
+	m.Provenance.VocabSHA256, _ = fitHashPath(f.vocab)
+	m.Provenance.CorpusFile = f.recs
+	m.Provenance.CorpusSHA256, _ = fitHashPath(f.recs)
+	m.Provenance.Options["lang"] = strings.Join(langs, ",")
+	m.Provenance.Options["fields"] = strings.Join(fields, ",")
+	if err := model.Save(f.out, m); err != nil {
+		return fail(1, "%v", err)
+	}
+	if opt.CheckpointPath != "" {
+		os.Remove(ckPath)
+	}
+
+	fmt.Fprintf(os.Stderr, "model %s: %d concepts used of %d, %d free topics, %.1f%% of tokens in free topics\n",
+		f.out, res.ConceptsUsed, m.C, m.F, 100*res.FreeShare)
+	if n := len(res.LogLik); n > 0 {
+		fmt.Fprintf(os.Stderr, "training log-likelihood per token: %.4f (sweep %d)\n", res.LogLik[n-1].PerToken, res.LogLik[n-1].Sweep)
+	}
+	if res.HeldOutDocs > 0 {
+		fmt.Fprintf(os.Stderr, "held-out log-likelihood per token: %.4f (perplexity %.1f) over %d records, %d tokens\n",
+			res.HeldOutLLPerWord, expNeg(res.HeldOutLLPerWord), res.HeldOutDocs, res.HeldOutTokens)
+	}
+	fmt.Println(res.String())
+	return 0
+}
+
+// expNeg is the perplexity of a per-token log-likelihood.
+func expNeg(x float64) float64 { return math.Exp(-x) }
+
+// fitFileErr keeps errors that already name the file and prefixes the others.
+func fitFileErr(path string, err error) error {
+	if strings.Contains(err.Error(), path) {
+		return err
+	}
+	return fmt.Errorf("%s: %w", path, err)
+}
+
+// fitHashPath is the SHA-256 of a file, or of a folder's .txt files in name
+// order (each name and content).
+func fitHashPath(path string) (string, error) {
+	h := sha256.New()
+	fi, err := os.Stat(path)
+	if err != nil {
+		return "", err
+	}
+	if !fi.IsDir() {
+		fh, err := os.Open(path)
+		if err != nil {
+			return "", err
+		}
+		defer fh.Close()
+		if _, err := io.Copy(h, fh); err != nil {
+			return "", err
+		}
+		return hex.EncodeToString(h.Sum(nil)), nil
+	}
+	var names []string
+	filepath.WalkDir(path, func(p string, d fs.DirEntry, err error) error {
+		if err == nil && !d.IsDir() && strings.HasSuffix(p, ".txt") {
+			names = append(names, p)
+		}
+		return nil
+	})
+	sort.Strings(names)
+	for _, n := range names {
+		h.Write([]byte(n))
+		h.Write([]byte{0})
+		fh, err := os.Open(n)
+		if err != nil {
+			return "", err
+		}
+		io.Copy(h, fh)
+		fh.Close()
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
 }
