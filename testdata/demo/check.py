@@ -29,10 +29,17 @@ UNUSED = ["mining", "coal-mining", "canals", "religious-houses",
           "higher-education", "fortifications"]
 DEPRECATED = "labourers"
 POLY = ("mill-races", {"milling", "water-management"})
+XL = ("village-halls", BASE + "label/salles-des-fetes", "Salles des fêtes")
 GAP_WORDS = ["bee", "bees", "beekeeper", "beekeepers", "beekeeping", "hive",
              "hives", "honey", "swarm", "apiary", "ruche", "ruches", "miel",
              "abeilles", "apiculteur", "apiculteurs"]
 GAP_MIN_RECORDS = 15
+# The records written on the gap theme (README.md); others mention it in passing.
+GAP_IDS = ["hv-0005", "hv-0016", "hv-0028", "hv-0034", "hv-0040", "hv-0053",
+           "hv-0064", "hv-0073", "hv-0084", "hv-0095", "hv-0120", "hv-0123",
+           "hv-0145", "hv-0149", "hv-0163", "hv-0170", "hv-0185", "hv-0196",
+           "hv-0199"]
+GAP_PASSING = ["hv-0213", "hv-0229", "hv-0243"]
 
 FIELDS = {"id", "title", "text", "date", "subjects", "lang"}
 ID_RE = re.compile(r"^hv-\d{4}$")
@@ -194,16 +201,39 @@ def main():
         problem("README", "%s should be the deprecated concept" % DEPRECATED)
     if used[DEPRECATED]:
         problem("README", "deprecated concept used")
+    vtext = open(vocab, encoding="utf-8").read()
+    m = re.search(r"^hv:%s a skos:Concept ;(.*?) \.\s*$" % XL[0], vtext, re.S | re.M)
+    if not m or "skosxl:prefLabel <%s>" % XL[1] not in m.group(1) or '"@fr' in m.group(1).split("skosxl:prefLabel")[0].split("skos:prefLabel", 1)[-1].split(";")[0]:
+        problem("README", "%s should have its French prefLabel only through SKOS-XL" % XL[0])
+    if not re.search(r"<%s> a skosxl:Label ;\s*skosxl:literalForm \"%s\"@fr" % (re.escape(XL[1]), XL[2]), vtext):
+        problem("README", "SKOS-XL label %s with literal form %r not found" % (XL[1], XL[2]))
+    if len(re.findall(r"skosxl:prefLabel", vtext)) != 1:
+        problem("README", "want exactly one skosxl:prefLabel")
     if broader.get(POLY[0]) != POLY[1]:
         problem("README", "%s broader = %s, want %s" % (POLY[0], broader.get(POLY[0]), POLY[1]))
     poly = sorted(c for c in concepts if len(broader.get(c, ())) > 1)
     if poly != [POLY[0]]:
         problem("README", "concepts with two broader: %s, want only %s" % (poly, POLY[0]))
-    labelwords = set(w.lower() for _, t in labels for w in WORD_RE.findall(t))
-    leak = sorted(set(GAP_WORDS) & labelwords)
+    vocabwords = set(w.lower() for t in re.findall(r'"([^"]*)"@\w+', open(vocab, encoding="utf-8").read())
+                     for w in WORD_RE.findall(t))
+    leak = sorted(set(GAP_WORDS) & vocabwords)
     if leak:
-        problem("README", "gap-theme words appear in vocabulary labels: %s" % leak)
+        problem("README", "gap-theme words appear in vocabulary labels or notes: %s" % leak)
+    # No text may speak of an unused concept in its own labels' words.
+    texts = [(r["id"], words(r)) for r in recs + hold]
+    for c in UNUSED:
+        for phrase in set(tuple(WORD_RE.findall(t.lower())) for cc, t in labels if cc == c):
+            n = len(phrase)
+            for rid, ws in texts:
+                if any(tuple(ws[i:i + n]) == phrase for i in range(len(ws) - n + 1)):
+                    problem(rid, "text uses label %r of unused concept %s" % (" ".join(phrase), c))
     gap = [r for r in recs if set(words(r)) & set(GAP_WORDS)]
+    gapids = sorted(r["id"] for r in gap)
+    if gapids != sorted(GAP_IDS + GAP_PASSING):
+        problem("README", "records on the gap theme are %s, README lists %s" % (gapids, sorted(GAP_IDS + GAP_PASSING)))
+    for r in gap:
+        if r["id"] in GAP_IDS and r.get("subjects"):
+            problem(r["id"], "gap-theme record carries subjects")
     if len(gap) < GAP_MIN_RECORDS:
         problem("README", "only %d records on the gap theme, want >= %d" % (len(gap), GAP_MIN_RECORDS))
 
