@@ -67,7 +67,7 @@ type wordCache struct {
 	all map[string]*entry
 }
 
-const hotSlots = 4096
+const hotSlots = 1 << 14
 
 type hotSlot struct {
 	key string

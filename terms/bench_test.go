@@ -93,14 +93,7 @@ func BenchmarkAnalyze(b *testing.B) {
 	compile(a, labels)
 	text := prose(defs, 8<<20)
 	a.Analyze(text, nil, true) // fill the dictionary, as fit does
-	var toks []Token
-	b.SetBytes(int64(len(text)))
-	b.ReportAllocs()
-	b.ResetTimer()
-	for b.Loop() {
-		toks, _ = a.Analyze(text, toks[:0], false)
-	}
-	b.ReportMetric(float64(a.Phrases()), "phrases")
+	measure(b, text, func() { a.Analyze(text, nil, false) }, a)
 }
 
 // BenchmarkAnalyzeNoPhrases is the same prose without a phrase matcher, as
@@ -110,12 +103,50 @@ func BenchmarkAnalyzeNoPhrases(b *testing.B) {
 	a, _ := New(Options{Languages: []string{"en"}}, nil)
 	text := prose(defs, 8<<20)
 	a.Analyze(text, nil, true)
+	measure(b, text, nil, a)
+}
+
+// BenchmarkReferenceFields is the reference measured in the same run:
+// strings.Fields over the same prose and a map lookup of each field, the
+// least a tokenizer does.
+func BenchmarkReferenceFields(b *testing.B) {
+	_, defs := readWordnet(b)
+	text := prose(defs, 8<<20)
+	seen := map[string]int32{}
+	for _, f := range strings.Fields(text) {
+		seen[f] = int32(len(seen))
+	}
+	b.SetBytes(int64(len(text)))
+	cpu0 := cpuSeconds()
+	var n int32
+	for b.Loop() {
+		for _, f := range strings.Fields(text) {
+			n += seen[f]
+		}
+	}
+	reportCPU(b, len(text), cpu0)
+}
+
+// measure runs a.Analyze over text (grow=false, tokens reused) and reports
+// MB/s per CPU second next to the usual wall-clock figure.
+func measure(b *testing.B, text string, _ func(), a *Analyzer) {
 	var toks []Token
+	toks, _ = a.Analyze(text, toks[:0], false)
 	b.SetBytes(int64(len(text)))
 	b.ReportAllocs()
 	b.ResetTimer()
+	cpu0 := cpuSeconds()
 	for b.Loop() {
 		toks, _ = a.Analyze(text, toks[:0], false)
+	}
+	reportCPU(b, len(text), cpu0)
+	b.ReportMetric(float64(a.Phrases()), "phrases")
+	b.ReportMetric(float64(len(toks)), "tokens")
+}
+
+func reportCPU(b *testing.B, size int, cpu0 float64) {
+	if d := cpuSeconds() - cpu0; d > 0 {
+		b.ReportMetric(float64(size)*float64(b.N)/1e6/d, "MB/cpu-s")
 	}
 }
 
@@ -126,14 +157,7 @@ func BenchmarkAnalyzeSynthetic(b *testing.B) {
 	a, _ := New(Options{Languages: []string{"en"}}, nil)
 	compile(a, labels)
 	a.Analyze(text, nil, true)
-	var toks []Token
-	b.SetBytes(int64(len(text)))
-	b.ReportAllocs()
-	b.ResetTimer()
-	for b.Loop() {
-		toks, _ = a.Analyze(text, toks[:0], false)
-	}
-	b.ReportMetric(float64(a.Phrases()), "phrases")
+	measure(b, text, func() { a.Analyze(text, nil, false) }, a)
 }
 
 // BenchmarkAnalyzeGrow measures the first pass over a corpus (grow=true,

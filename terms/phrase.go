@@ -1,6 +1,7 @@
 package terms
 
 import (
+	"math/bits"
 	"slices"
 	"strings"
 )
@@ -14,12 +15,13 @@ type automaton struct {
 	gen     uint32           // build generation, to validate cached symbols
 	syms    map[string]int32 // word term -> symbol, e.g. "screen" -> 17
 	root    []int32          // symbol -> state after the root (0 = none)
-	next    map[uint64]int32 // state<<32|symbol -> state, for states other than the root
+	next    edgeTable        // state<<32|symbol -> state, for states other than the root
 	fail    []int32          // state -> longest proper suffix state
 	out     []int32          // state -> phrase ending exactly here, -1 if none
 	outLink []int32          // state -> nearest suffix state with out >= 0, 0 if none
 	depth   []int32          // state -> words from the root
 	phrases []phraseDef
+	step0   func(s, sym int32) int32 // the goto function, through a map while building
 }
 
 // phraseDef is one compiled phrase.
@@ -34,12 +36,18 @@ func buildAutomaton(phrases []phraseDef, gen uint32) *automaton {
 	a := &automaton{
 		gen:     gen,
 		syms:    map[string]int32{},
-		next:    map[uint64]int32{},
 		fail:    []int32{0},
 		out:     []int32{-1},
 		outLink: []int32{0},
 		depth:   []int32{0},
 		phrases: phrases,
+	}
+	edges := map[uint64]int32{}
+	a.step0 = func(s, sym int32) int32 {
+		if s == 0 {
+			return a.root[sym]
+		}
+		return edges[uint64(s)<<32|uint64(sym)]
 	}
 	var words []string
 	for pi, ph := range phrases {
@@ -62,7 +70,7 @@ func buildAutomaton(phrases []phraseDef, gen uint32) *automaton {
 				if s == 0 {
 					a.root[sym] = nx
 				} else {
-					a.next[uint64(s)<<32|uint64(sym)] = nx
+					edges[uint64(s)<<32|uint64(sym)] = nx
 				}
 			}
 			s = nx
@@ -71,23 +79,17 @@ func buildAutomaton(phrases []phraseDef, gen uint32) *automaton {
 			a.out[s] = int32(pi)
 		}
 	}
-	// Failure links in breadth-first order; children lists are rebuilt
-	// from the edge map once.
-	children := make([][2]int32, 0, len(a.next)+len(a.root)) // (parent, child) in BFS-able order
-	for sym, c := range a.root {
-		if c != 0 {
-			children = append(children, [2]int32{0, c})
-			_ = sym
-		}
-	}
+	// Failure links in breadth-first order from the root's children.
 	kids := make(map[int32][][2]int32, len(a.fail)) // state -> (symbol, child)
-	for k, c := range a.next {
+	for k, c := range edges {
 		p := int32(k >> 32)
 		kids[p] = append(kids[p], [2]int32{int32(uint32(k)), c})
 	}
 	queue := make([]int32, 0, len(a.fail))
-	for _, pc := range children {
-		queue = append(queue, pc[1])
+	for _, c := range a.root {
+		if c != 0 {
+			queue = append(queue, c)
+		}
 	}
 	for qi := 0; qi < len(queue); qi++ {
 		s := queue[qi]
@@ -114,15 +116,61 @@ func buildAutomaton(phrases []phraseDef, gen uint32) *automaton {
 			queue = append(queue, c)
 		}
 	}
+	a.next = newEdgeTable(edges)
+	a.step0 = a.goTo
 	return a
 }
 
-// step0 is the goto function without failure (0 = no edge).
-func (a *automaton) step0(s, sym int32) int32 {
+// goTo is the goto function without failure (0 = no edge).
+func (a *automaton) goTo(s, sym int32) int32 {
 	if s == 0 {
 		return a.root[sym]
 	}
-	return a.next[uint64(s)<<32|uint64(sym)]
+	return a.next.get(uint64(s)<<32 | uint64(sym))
+}
+
+// edgeTable is an open-addressing hash table from uint64 keys to non-zero
+// int32 values (linear probing, load factor at most 1/2); it is built once
+// and then only read, so lookups need no locking.
+type edgeTable struct {
+	keys  []uint64
+	vals  []int32
+	shift uint
+}
+
+func newEdgeTable(m map[uint64]int32) edgeTable {
+	n := 16
+	for n < 2*len(m) {
+		n *= 2
+	}
+	t := edgeTable{keys: make([]uint64, n), vals: make([]int32, n), shift: uint(64 - bits.TrailingZeros(uint(n)))}
+	for k, v := range m {
+		i := t.slot(k)
+		for t.vals[i] != 0 {
+			i = (i + 1) & (n - 1)
+		}
+		t.keys[i], t.vals[i] = k, v
+	}
+	return t
+}
+
+func (t *edgeTable) slot(k uint64) int { return int((k * 0x9E3779B97F4A7C15) >> t.shift) }
+
+// get returns the value of k, 0 when absent.
+func (t *edgeTable) get(k uint64) int32 {
+	if len(t.keys) == 0 {
+		return 0
+	}
+	mask := len(t.keys) - 1
+	for i := t.slot(k); ; i = (i + 1) & mask {
+		v := t.vals[i]
+		if v == 0 {
+			return 0
+		}
+		if t.keys[i] == k {
+			return v
+		}
+	}
 }
 
 // match is a phrase occurrence over window positions [start, start+n).
@@ -141,7 +189,7 @@ func (a *automaton) findAll(syms []int32, dst []match) []match {
 			continue
 		}
 		for {
-			if nx := a.step0(s, sym); nx != 0 {
+			if nx := a.goTo(s, sym); nx != 0 {
 				s = nx
 				break
 			}
