@@ -148,10 +148,12 @@ type builder struct {
 	lastP     string
 	lastPred  pred
 	lastLang  string
+	lastO     string // last IRI object interned, e.g. the scheme of inScheme
+	lastOID   int32
 }
 
 func newBuilder() *builder {
-	return &builder{iris: make(map[string]int32, 1024), blanks: make(map[string]int32), lastSID: -1}
+	return &builder{iris: make(map[string]int32, 1024), blanks: make(map[string]int32), lastSID: -1, lastOID: -1}
 }
 
 func (b *builder) id(t rdf.Term) int32 {
@@ -217,7 +219,15 @@ func (b *builder) add(t rdf.Triple) error {
 		if t.O.Kind != rdf.IRI && t.O.Kind != rdf.Blank {
 			return nil
 		}
-		o := b.id(t.O) // may grow b.nodes: n is stale after this
+		var o int32
+		if t.O.Kind == rdf.IRI && t.O.Value == b.lastO && b.lastOID >= 0 {
+			o = b.lastOID
+		} else {
+			o = b.id(t.O) // may grow b.nodes: n is stale after this
+			if t.O.Kind == rdf.IRI {
+				b.lastO, b.lastOID = t.O.Value, o
+			}
+		}
 		b.nodes[s].links = append(b.nodes[s].links, linkFact{p: p, o: o})
 	}
 	return nil

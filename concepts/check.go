@@ -213,7 +213,8 @@ func (s *Scheme) checkRelated() []Problem {
 // concept in one language, comparing case-insensitively.
 func (s *Scheme) checkShared(opt CheckOptions) []Problem {
 	type key struct{ lang, text string }
-	groups := map[key][]int{}
+	first := make(map[key]int32, len(s.Concepts)) // first concept with the label
+	groups := map[key][]int{}                     // only labels held by several
 	for i := range s.Concepts {
 		c := &s.Concepts[i]
 		if c.Deprecated {
@@ -223,9 +224,20 @@ func (s *Scheme) checkShared(opt CheckOptions) []Problem {
 			if len(opt.Langs) > 0 && !slices.Contains(opt.Langs, l.Lang) {
 				continue
 			}
-			k := key{l.Lang, strings.ToLower(strings.TrimSpace(l.Text))}
-			if g := groups[k]; len(g) == 0 || g[len(g)-1] != i {
-				groups[k] = append(g, i)
+			k := key{l.Lang, foldLabel(l.Text)}
+			f, ok := first[k]
+			switch {
+			case !ok:
+				first[k] = int32(i)
+			case int(f) == i:
+			default:
+				g := groups[k]
+				if len(g) == 0 {
+					g = append(g, int(f))
+				}
+				if g[len(g)-1] != i {
+					groups[k] = append(g, i)
+				}
 			}
 		}
 	}
@@ -261,4 +273,16 @@ func langName(lang string) string {
 		return "(no language tag)"
 	}
 	return `"` + lang + `"`
+}
+
+// foldLabel is the form labels are compared in: trimmed and lower-cased
+// (without allocating for labels that already are).
+func foldLabel(t string) string {
+	for i := 0; i < len(t); i++ {
+		c := t[i]
+		if c >= 'A' && c <= 'Z' || c >= 0x80 || (i == 0 || i == len(t)-1) && c <= ' ' {
+			return strings.ToLower(strings.TrimSpace(t))
+		}
+	}
+	return t
 }

@@ -8,6 +8,7 @@ import (
 	"net/url"
 	"os"
 	"path/filepath"
+	"runtime"
 	"strings"
 
 	"termgrove/concepts/rdf"
@@ -79,7 +80,7 @@ func FileIRI(path string) string {
 // LoadReader is Load on a stream; opt.File names it in errors.
 func LoadReader(r io.Reader, opt LoadOptions) (*Scheme, error) {
 	b := newBuilder()
-	format, err := ReadTriples(r, opt, b.add)
+	format, err := readPipelined(r, opt, b.add)
 	if err != nil {
 		return nil, err
 	}
@@ -96,6 +97,50 @@ func LoadReader(r io.Reader, opt LoadOptions) (*Scheme, error) {
 		return nil, fmt.Errorf("%w in %s", ErrNoConcepts, name)
 	}
 	return s, nil
+}
+
+// readPipelined runs the parser and fn on two goroutines, handing triples
+// over in batches, so that building the scheme overlaps parsing on a
+// second core. fn sees the triples in document order.
+func readPipelined(r io.Reader, opt LoadOptions, fn func(rdf.Triple) error) (string, error) {
+	if runtime.GOMAXPROCS(0) < 2 {
+		return ReadTriples(r, opt, fn)
+	}
+	const nbuf, size = 4, 1024
+	full := make(chan []rdf.Triple, nbuf)
+	free := make(chan []rdf.Triple, nbuf)
+	for range nbuf {
+		free <- make([]rdf.Triple, 0, size)
+	}
+	var fnErr error
+	done := make(chan struct{})
+	go func() {
+		defer close(done)
+		for batch := range full {
+			for _, t := range batch {
+				if fnErr == nil {
+					fnErr = fn(t)
+				}
+			}
+			free <- batch[:0]
+		}
+	}()
+	cur := <-free
+	format, err := ReadTriples(r, opt, func(t rdf.Triple) error {
+		cur = append(cur, t)
+		if len(cur) == size {
+			full <- cur
+			cur = <-free
+		}
+		return nil
+	})
+	full <- cur
+	close(full)
+	<-done
+	if err == nil {
+		err = fnErr
+	}
+	return format, err
 }
 
 // Info says which file, format and how many triples the scheme came from

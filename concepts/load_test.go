@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
+	"os"
 	"path/filepath"
 	"reflect"
 	"strings"
@@ -225,5 +226,55 @@ func BenchmarkBuild(b *testing.B) {
 		if _, err := bl.build(""); err != nil {
 			b.Fatal(err)
 		}
+	}
+}
+
+// wordnetTTL is the large vocabulary scripts/loadbench.sh builds.
+const wordnetTTL = "../.cache/wordnet/vocabulary.ttl"
+
+// BenchmarkLoadWordNet loads the 117,661-concept WordNet vocabulary when
+// scripts/loadbench.sh (or the dataset's build.sh) has made it.
+func BenchmarkLoadWordNet(b *testing.B) {
+	if _, err := os.Stat(wordnetTTL); err != nil {
+		b.Skip("no WordNet vocabulary; run scripts/loadbench.sh")
+	}
+	for b.Loop() {
+		if _, err := Load(wordnetTTL, LoadOptions{}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkParseWordNet is the Turtle reader alone on the same file, the
+// floor for BenchmarkLoadWordNet.
+func BenchmarkParseWordNet(b *testing.B) {
+	if _, err := os.Stat(wordnetTTL); err != nil {
+		b.Skip("no WordNet vocabulary; run scripts/loadbench.sh")
+	}
+	for b.Loop() {
+		f, err := os.Open(wordnetTTL)
+		if err != nil {
+			b.Fatal(err)
+		}
+		n := 0
+		_, err = ReadTriples(f, LoadOptions{File: wordnetTTL}, func(rdf.Triple) error { n++; return nil })
+		f.Close()
+		if err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkCheckWordNet runs Check on the loaded WordNet vocabulary.
+func BenchmarkCheckWordNet(b *testing.B) {
+	if _, err := os.Stat(wordnetTTL); err != nil {
+		b.Skip("no WordNet vocabulary; run scripts/loadbench.sh")
+	}
+	s, err := Load(wordnetTTL, LoadOptions{})
+	if err != nil {
+		b.Fatal(err)
+	}
+	for b.Loop() {
+		s.Check(CheckOptions{Langs: []string{"en"}})
 	}
 }
