@@ -10,12 +10,16 @@ type iriRef struct {
 	hasScheme, hasAuthority, hasQuery, hasFrag bool
 }
 
-// splitIRI splits s as the regular expression of RFC 3986 Appendix B does:
+// splitIRI splits s as the regular expression of RFC 3986 Appendix B does,
 //
 //	^(([^:/?#]+):)?(//([^/?#]*))?([^?#]*)(\?([^#]*))?(#(.*))?
+//
+// except that a scheme must match the §3.1 grammar, so that "1a:b" is a
+// path as it is for hasScheme.
 func splitIRI(s string) iriRef {
 	var r iriRef
-	if i := strings.IndexAny(s, ":/?#"); i > 0 && s[i] == ':' {
+	if hasScheme(s) {
+		i := strings.IndexByte(s, ':')
 		r.scheme, r.hasScheme = s[:i], true
 		s = s[i+1:]
 	}

@@ -3,6 +3,7 @@ package rdf
 import (
 	"errors"
 	"fmt"
+	"hash/maphash"
 	"io"
 	"unicode/utf8"
 )
@@ -212,25 +213,29 @@ func (p *lineParser) skipEOL() {
 	p.r++
 }
 
-// interner returns one string per distinct byte sequence, so that the IRIs
-// repeated throughout a document share memory and cost one allocation.
-// It stops growing at maxInterned entries.
+// interner turns byte slices into strings, sharing one string between
+// equal values that recur close together (the predicates, datatypes and
+// language tags of every statement, a scheme IRI on every concept). It is a
+// direct-mapped cache of internSlots strings indexed by a hash of the bytes:
+// it never grows, and a miss costs only the allocation string(b) would.
 type interner struct {
-	m map[string]string // e.g. "http://www.w3.org/2004/02/skos/core#broader" -> the same string
+	seed  maphash.Seed
+	slots *[internSlots]string
 }
 
-const maxInterned = 1 << 20
+const internSlots = 4096
 
-func newInterner() interner { return interner{m: make(map[string]string, 1024)} }
+func newInterner() interner {
+	return interner{seed: maphash.MakeSeed(), slots: new([internSlots]string)}
+}
 
 func (in interner) get(b []byte) string {
-	if s, ok := in.m[string(b)]; ok {
-		return s
+	slot := &in.slots[maphash.Bytes(in.seed, b)&(internSlots-1)]
+	if *slot == string(b) {
+		return *slot
 	}
 	s := string(b)
-	if len(in.m) < maxInterned {
-		in.m[s] = s
-	}
+	*slot = s
 	return s
 }
 

@@ -599,6 +599,10 @@ func (p *turtleParser) readName() (prefix, local []byte, ok bool, err error) {
 		p.r += n
 		good := p.r - p.tok
 		for {
+			for p.r < p.w && p.buf[p.r] < 0x80 && pnCharsASCII[p.buf[p.r]] {
+				p.r++ // fast path for ASCII PN_CHARS
+				good = p.r - p.tok
+			}
 			c, n = p.peekRune()
 			if n == 0 {
 				break
@@ -632,6 +636,19 @@ func (p *turtleParser) readName() (prefix, local []byte, ok bool, err error) {
 	good := start // end of the name without trailing dots, relative to tok
 	escaped := false
 	for first := true; ; first = false {
+		if !first {
+			// Fast path: a run of ASCII PN_CHARS, ':' and '.'.
+			for p.r < p.w {
+				if c := p.buf[p.r]; c < 0x80 && (pnCharsASCII[c] || c == ':') {
+					p.r++
+					good = p.r - p.tok
+				} else if c == '.' {
+					p.r++
+				} else {
+					break
+				}
+			}
+		}
 		c, n := p.peekRune()
 		if n == 0 {
 			break
