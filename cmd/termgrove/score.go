@@ -1,12 +1,145 @@
 package main
 
 import (
+	"encoding/csv"
+	"encoding/json"
+	"flag"
 	"fmt"
+	"io"
 	"os"
+	"sort"
+	"strconv"
+
+	"termgrove/annotate"
+	"termgrove/model"
+	"termgrove/report"
 )
 
-// STUB: replaced by the real command.
 func cmdScore(args []string) int {
-	fmt.Fprintln(os.Stderr, "termgrove score: not implemented yet")
-	return 2
+	fs := flag.NewFlagSet("score", flag.ContinueOnError)
+	modelPath := fs.String("model", "", "fitted model file (.grove)")
+	recPath := fs.String("records", "", "gold records carrying human-assigned subjects (JSON Lines)")
+	format := fs.String("format", "text", "output: text or json")
+	perConcept := fs.String("per-concept", "", "also write per-concept figures to this file (.csv or .json)")
+	k := fs.Int("k", 5, "k of the per-concept figures")
+	fields := fs.String("fields", "title,text", "record fields to read")
+	lang := fs.String("lang", "en", "language of labels in per-concept figures")
+	skipBad := fs.Bool("skip-bad", false, "skip records that are not valid JSON (counted) instead of stopping")
+	fs.Usage = func() {
+		fmt.Fprint(os.Stderr, `usage: termgrove score --model M.grove --records GOLD.jsonl [--format text|json] [--per-concept FILE.csv]
+
+Annotates records that people already indexed and compares termgrove's
+ranked suggestions with their subjects: precision, recall and F1 at
+k = 1, 3, 5, 10 (micro and macro), NDCG, hierarchical precision/recall/F1
+(both sets extended with ancestors), and the min score that gives the best
+F1 on these records. Score a split the model was not fitted on.
+
+Example:
+  termgrove score --model demo.grove --records test.jsonl --per-concept concepts.csv
+
+Options:
+`)
+		fs.PrintDefaults()
+	}
+	if err := fs.Parse(args); err != nil {
+		if err == flag.ErrHelp {
+			return 0
+		}
+		return 2
+	}
+	if *modelPath == "" || *recPath == "" || fs.NArg() > 0 {
+		fs.Usage()
+		return 2
+	}
+	if *format != "text" && *format != "json" {
+		fmt.Fprintf(os.Stderr, "termgrove score: unknown --format %q (want text or json)\n", *format)
+		return 2
+	}
+	m, err := model.Load(*modelPath)
+	if err != nil {
+		fmt.Fprintf(os.Stderr, "termgrove score: %v\n", err)
+		return 2
+	}
+	a, err := annotate.New(m)
+	if err != nil {
+		fmt.Fprintf(os.Stderr, "termgrove score: %v\n", err)
+		return 2
+	}
+	recs, st, err := readAll(*recPath, splitList(*fields), *skipBad, "score")
+	if err != nil {
+		fmt.Fprintf(os.Stderr, "termgrove score: %v\n", err)
+		return 2
+	}
+	res, err := report.Score(m, a, recs, report.ScoreOptions{Fields: splitList(*fields), Lang: *lang, PerConceptK: *k})
+	if err != nil {
+		fmt.Fprintf(os.Stderr, "termgrove score: %v\n", err)
+		return 1
+	}
+	if res.UnknownSubjects > 0 {
+		fmt.Fprintf(os.Stderr, "termgrove score: warning: %d subjects are not concepts of the model's vocabulary (dropped), e.g. %v\n", res.UnknownSubjects, res.UnknownExamples)
+	}
+	if st.Skipped > 0 {
+		fmt.Fprintf(os.Stderr, "termgrove score: %d bad lines skipped\n", st.Skipped)
+	}
+	if res.Records == 0 {
+		fmt.Fprintf(os.Stderr, "termgrove score: no record of %s carries a known subject: nothing to score\n", *recPath)
+		return 1
+	}
+	if *perConcept != "" {
+		if err := writeOutput(*perConcept, func(w io.Writer) error { return writePerConcept(w, *perConcept, res) }); err != nil {
+			fmt.Fprintf(os.Stderr, "termgrove score: %v\n", err)
+			return 1
+		}
+	}
+	err = writeOutput("", func(w io.Writer) error {
+		if *format == "json" {
+			enc := json.NewEncoder(w)
+			enc.SetIndent("", "  ")
+			return enc.Encode(res)
+		}
+		return writeScoreText(w, res)
+	})
+	if err != nil {
+		fmt.Fprintf(os.Stderr, "termgrove score: %v\n", err)
+		return 1
+	}
+	return 0
+}
+
+func writeScoreText(w io.Writer, r *report.ScoreResult) error {
+	fmt.Fprintf(w, "%d records scored (%d without subjects left out; %d unknown subjects dropped)\n\n", r.Records, r.NoSubjects, r.UnknownSubjects)
+	fmt.Fprintf(w, "%-11s %8s %8s %8s %8s %8s %8s %8s %8s\n", "", "P micro", "P macro", "R micro", "R macro", "F1 micro", "F1 macro", "NDCG", "hF1")
+	for _, k := range report.Ks {
+		g := func(n string) report.Figure { return r.Metrics[n+"@"+strconv.Itoa(k)] }
+		fmt.Fprintf(w, "@%-10d %8.3f %8.3f %8.3f %8.3f %8.3f %8.3f %8.3f %8.3f\n", k,
+			g("precision").Micro, g("precision").Macro, g("recall").Micro, g("recall").Macro,
+			g("f1").Micro, g("f1").Macro, g("ndcg").Micro, g("hf1").Micro)
+	}
+	fmt.Fprintf(w, "\nbest --min-score on these records: %.4f (micro F1 %.3f over all suggestions)\n", r.Threshold, r.ThresholdF1)
+	pc := append([]report.ConceptFigure(nil), r.PerConcept...)
+	sort.SliceStable(pc, func(i, j int) bool { return pc[i].Gold > pc[j].Gold })
+	fmt.Fprintf(w, "\nmost-indexed concepts at k=%d:\n", r.PerConceptK)
+	for i, c := range pc {
+		if i == 10 {
+			break
+		}
+		fmt.Fprintf(w, "  %-40s gold %4d  P %.2f  R %.2f  F1 %.2f\n", c.Label, c.Gold, c.Precision, c.Recall, c.F1)
+	}
+	return nil
+}
+
+func writePerConcept(w io.Writer, path string, r *report.ScoreResult) error {
+	if len(path) > 5 && path[len(path)-5:] == ".json" {
+		enc := json.NewEncoder(w)
+		enc.SetIndent("", "  ")
+		return enc.Encode(r.PerConcept)
+	}
+	cw := csv.NewWriter(w)
+	f := func(x float64) string { return strconv.FormatFloat(x, 'f', 4, 64) }
+	cw.Write([]string{"iri", "label", "gold", "predicted", "correct", "precision", "recall", "f1"})
+	for _, c := range r.PerConcept {
+		cw.Write([]string{c.IRI, c.Label, strconv.Itoa(c.Gold), strconv.Itoa(c.Predicted), strconv.Itoa(c.Correct), f(c.Precision), f(c.Recall), f(c.F1)})
+	}
+	cw.Flush()
+	return cw.Error()
 }
