@@ -2,7 +2,6 @@ package rdf
 
 import (
 	"fmt"
-	"hash/fnv"
 	"sort"
 	"strings"
 )
@@ -20,145 +19,173 @@ import (
 // looks for the mapping. The search gives up, reporting false, after
 // isoMaxSteps steps, which only highly symmetric blank-node structures reach.
 func Isomorphic(a, b []Triple) (bool, string) {
-	ga, gb := newIsoGraph(a), newIsoGraph(b)
+	terms := &isoTerms{ids: make(map[Term]int32)}
+	ga, gb := terms.graph(a), terms.graph(b)
 	if len(ga.triples) != len(gb.triples) {
-		return false, fmt.Sprintf("%d distinct triples against %d%s", len(ga.triples), len(gb.triples), groundDiff(ga, gb))
+		return false, fmt.Sprintf("%d distinct triples against %d%s", len(ga.triples), len(gb.triples), groundDiff(terms, ga, gb))
 	}
-	if d := groundDiff(ga, gb); d != "" {
+	if d := groundDiff(terms, ga, gb); d != "" {
 		return false, strings.TrimPrefix(d, "; ")
 	}
 	if len(ga.blanks) != len(gb.blanks) {
 		return false, fmt.Sprintf("%d blank nodes against %d", len(ga.blanks), len(gb.blanks))
 	}
-	refine(ga, gb)
-	if !sameColours(ga, gb) {
-		return false, "no blank node mapping: the blank nodes' neighbourhoods differ" + blankDiff(ga, gb)
+	if len(ga.blanks) == 0 {
+		return true, "" // equal sizes and every triple of a is in b
 	}
-	s := isoSearch{a: ga, b: gb, fwd: make(map[string]string), used: make(map[string]bool)}
+	refine(terms, ga, gb)
+	if !sameColours(ga, gb) {
+		return false, "no blank node mapping: the blank nodes' neighbourhoods differ" + blankDiff(terms, ga, gb)
+	}
+	s := isoSearch{a: ga, b: gb, fwd: make([]int32, len(ga.blanks)), used: make([]bool, len(gb.blanks))}
 	s.order()
 	if !s.assign(0) {
 		if s.steps > isoMaxSteps {
 			return false, "gave up searching for a blank node mapping"
 		}
-		return false, "no blank node mapping makes the graphs equal" + blankDiff(ga, gb)
+		return false, "no blank node mapping makes the graphs equal" + blankDiff(terms, ga, gb)
 	}
 	return true, ""
 }
 
 const isoMaxSteps = 1_000_000
 
-// isoTerm is a term as compared: key is "_:label" for a blank node,
-// otherwise a form equal exactly when the terms are equal.
-type isoTerm struct {
-	key   string
-	blank bool
+// isoTerms numbers the terms that are not blank nodes, shared by both
+// graphs: id i ≥ 1 is list[i-1]. A blank node of a graph is -(1+its index in
+// that graph's blanks); 0 is the zero Term (default graph).
+type isoTerms struct {
+	ids  map[Term]int32 // term with lower-case language tag -> id
+	list []Term
 }
 
+func (ts *isoTerms) id(t Term) int32 {
+	if t.Kind == None {
+		return 0
+	}
+	if t.Lang != "" {
+		t.Lang = strings.ToLower(t.Lang)
+	}
+	if id, ok := ts.ids[t]; ok {
+		return id
+	}
+	ts.list = append(ts.list, t)
+	id := int32(len(ts.list))
+	ts.ids[t] = id
+	return id
+}
+
+func (ts *isoTerms) term(g *isoGraph, id int32) Term {
+	switch {
+	case id > 0:
+		return ts.list[id-1]
+	case id < 0:
+		return Term{Kind: Blank, Value: g.blanks[-id-1]}
+	}
+	return Term{}
+}
+
+func (ts *isoTerms) String(g *isoGraph, t isoTriple) string {
+	return Triple{S: ts.term(g, t[0]), P: ts.term(g, t[1]), O: ts.term(g, t[2]), G: ts.term(g, t[3])}.String()
+}
+
+// isoGraph is one graph with its terms numbered.
 type isoGraph struct {
 	triples []isoTriple
-	set     map[[4]string]bool   // keys of all triples
-	blanks  []string             // blank node keys, sorted
-	in      map[string][]int     // blank node key -> indices of its triples
-	colour  map[string]uint64    // blank node key -> current colour
-	orig    map[[4]string]Triple // for messages
+	set     map[isoTriple]struct{}
+	blanks  []string  // labels; blank node k has id -(k+1)
+	in      [][]int32 // blank node k -> indices of its triples
+	colour  []uint64  // blank node k -> current colour
 }
 
-type isoTriple [4]isoTerm
+type isoTriple [4]int32
 
-func isoKey(t Term) isoTerm {
-	switch t.Kind {
-	case Blank:
-		return isoTerm{key: "_:" + t.Value, blank: true}
-	case IRI:
-		return isoTerm{key: "<" + t.Value}
-	case Literal:
-		return isoTerm{key: "\"" + t.Value + "\x00" + t.Datatype + "\x00" + strings.ToLower(t.Lang)}
-	}
-	return isoTerm{key: ""}
-}
+func blankIndex(id int32) int { return int(-id - 1) }
 
-func newIsoGraph(ts []Triple) *isoGraph {
-	g := &isoGraph{set: make(map[[4]string]bool, len(ts)), in: make(map[string][]int),
-		colour: make(map[string]uint64), orig: make(map[[4]string]Triple)}
-	for _, t := range ts {
-		it := isoTriple{isoKey(t.S), isoKey(t.P), isoKey(t.O), isoKey(t.G)}
-		k := it.keys()
-		if g.set[k] {
-			continue
-		}
-		g.set[k] = true
-		g.orig[k] = t
-		i := len(g.triples)
-		g.triples = append(g.triples, it)
-		for j, x := range it {
-			if !x.blank || (j > 0 && repeats(it, j)) {
+func (ts *isoTerms) graph(triples []Triple) *isoGraph {
+	g := &isoGraph{set: make(map[isoTriple]struct{}, len(triples))}
+	blankIDs := map[string]int32{}
+	for _, t := range triples {
+		var it isoTriple
+		for j, x := range [4]Term{t.S, t.P, t.O, t.G} {
+			if x.Kind != Blank {
+				it[j] = ts.id(x)
 				continue
 			}
-			if _, seen := g.in[x.key]; !seen {
-				g.blanks = append(g.blanks, x.key)
+			id, ok := blankIDs[x.Value]
+			if !ok {
+				g.blanks = append(g.blanks, x.Value)
+				g.in = append(g.in, nil)
+				id = -int32(len(g.blanks))
+				blankIDs[x.Value] = id
 			}
-			g.in[x.key] = append(g.in[x.key], i)
+			it[j] = id
+		}
+		if _, dup := g.set[it]; dup {
+			continue
+		}
+		g.set[it] = struct{}{}
+		i := int32(len(g.triples))
+		g.triples = append(g.triples, it)
+		for j, x := range it {
+			if x < 0 && !repeats(it, j) {
+				g.in[blankIndex(x)] = append(g.in[blankIndex(x)], i)
+			}
 		}
 	}
-	sort.Strings(g.blanks)
+	g.colour = make([]uint64, len(g.blanks))
 	return g
 }
 
 // repeats reports whether it[j] already occurs before position j.
 func repeats(it isoTriple, j int) bool {
 	for i := 0; i < j; i++ {
-		if it[i].key == it[j].key {
+		if it[i] == it[j] {
 			return true
 		}
 	}
 	return false
 }
 
-func (t *isoTriple) keys() [4]string {
-	return [4]string{t[0].key, t[1].key, t[2].key, t[3].key}
-}
-
-func (t *isoTriple) ground() bool {
-	return !t[0].blank && !t[1].blank && !t[2].blank && !t[3].blank
-}
+func (t isoTriple) ground() bool { return t[0] >= 0 && t[1] >= 0 && t[2] >= 0 && t[3] >= 0 }
 
 // groundDiff names a triple without blank nodes that one graph has and the
 // other lacks, or returns "".
-func groundDiff(a, b *isoGraph) string {
+func groundDiff(ts *isoTerms, a, b *isoGraph) string {
 	for _, x := range []struct {
 		g, h       *isoGraph
 		name, than string
 	}{{a, b, "first", "second"}, {b, a, "second", "first"}} {
-		for i := range x.g.triples {
-			t := &x.g.triples[i]
-			if k := t.keys(); t.ground() && !x.h.set[k] {
-				return fmt.Sprintf("; the %s graph has %s, the %s does not", x.name, x.g.orig[k], x.than)
+		for _, t := range x.g.triples {
+			if _, ok := x.h.set[t]; t.ground() && !ok {
+				return fmt.Sprintf("; the %s graph has %s, the %s does not", x.name, ts.String(x.g, t), x.than)
 			}
 		}
 	}
 	return ""
 }
 
-func blankDiff(a, b *isoGraph) string {
-	ca, cb := map[uint64]int{}, map[uint64]int{}
-	for _, k := range a.blanks {
-		ca[a.colour[k]]++
+func blankDiff(ts *isoTerms, a, b *isoGraph) string {
+	cb := map[uint64]int{}
+	for _, c := range b.colour {
+		cb[c]++
 	}
-	for _, k := range b.blanks {
-		cb[b.colour[k]]++
-	}
-	for _, k := range a.blanks {
-		if ca[a.colour[k]] != cb[a.colour[k]] {
-			return fmt.Sprintf("; first differing blank node of the first graph is in %s", a.orig[a.triples[a.in[k][0]].keys()])
+	for k, c := range a.colour {
+		if cb[c] == 0 {
+			return fmt.Sprintf("; blank node _:%s of the first graph has no counterpart, see %s",
+				a.blanks[k], ts.String(a, a.triples[a.in[k][0]]))
 		}
 	}
 	return ""
 }
 
+// fnvString is 64-bit FNV-1a.
 func fnvString(s string) uint64 {
-	h := fnv.New64a()
-	h.Write([]byte(s))
-	return h.Sum64()
+	h := uint64(14695981039346656037)
+	for i := 0; i < len(s); i++ {
+		h ^= uint64(s[i])
+		h *= 1099511628211
+	}
+	return h
 }
 
 // mix combines two hashes (the finaliser of SplitMix64 over a+b*odd).
@@ -176,40 +203,35 @@ func mix(a, b uint64) uint64 {
 // function: each round a node's colour becomes a hash of its colour and the
 // multiset of (position, other terms) of its triples. It stops when a round
 // splits no colour class in either graph.
-func refine(a, b *isoGraph) {
-	ground := map[string]uint64{}
-	hashOf := func(g *isoGraph, x isoTerm) uint64 {
-		if x.blank {
-			return g.colour[x.key]
-		}
-		h, ok := ground[x.key]
-		if !ok {
-			h = fnvString(x.key)
-			ground[x.key] = h
-		}
-		return h
+func refine(ts *isoTerms, a, b *isoGraph) {
+	ground := make([]uint64, len(ts.list)+1)
+	for i, t := range ts.list {
+		ground[i+1] = mix(mix(fnvString(t.Value), fnvString(t.Datatype)+uint64(t.Kind)), fnvString(t.Lang))
 	}
 	classes := func(g *isoGraph) int {
 		m := map[uint64]bool{}
-		for _, k := range g.blanks {
-			m[g.colour[k]] = true
+		for _, c := range g.colour {
+			m[c] = true
 		}
 		return len(m)
 	}
 	na, nb := 1, 1
 	for round := 0; round <= len(a.blanks)+1; round++ {
 		for _, g := range []*isoGraph{a, b} {
-			next := make(map[string]uint64, len(g.blanks))
-			for _, k := range g.blanks {
+			next := make([]uint64, len(g.colour))
+			for k := range g.blanks {
+				self := -int32(k + 1)
 				var sum uint64
 				for _, ti := range g.in[k] {
-					t := g.triples[ti]
 					var h uint64 = 1
-					for j, x := range t {
-						if x.key == k {
-							h = mix(h, uint64(j)+0xB1A4) // where k sits, itself
-						} else {
-							h = mix(h, hashOf(g, x)+uint64(j))
+					for j, x := range g.triples[ti] {
+						switch {
+						case x == self:
+							h = mix(h, uint64(j)+0xB1A4)
+						case x < 0:
+							h = mix(h, g.colour[blankIndex(x)]+uint64(j))
+						default:
+							h = mix(h, ground[x]+uint64(j))
 						}
 					}
 					sum += mix(h, 7)
@@ -228,11 +250,11 @@ func refine(a, b *isoGraph) {
 
 func sameColours(a, b *isoGraph) bool {
 	m := map[uint64]int{}
-	for _, k := range a.blanks {
-		m[a.colour[k]]++
+	for _, c := range a.colour {
+		m[c]++
 	}
-	for _, k := range b.blanks {
-		m[b.colour[k]]--
+	for _, c := range b.colour {
+		m[c]--
 	}
 	for _, n := range m {
 		if n != 0 {
@@ -246,21 +268,23 @@ func sameColours(a, b *isoGraph) bool {
 // one node at a time, checking every triple whose nodes are all mapped.
 type isoSearch struct {
 	a, b  *isoGraph
-	nodes []string            // a's blank nodes in search order
-	cands map[uint64][]string // colour -> b's blank nodes of that colour
-	fwd   map[string]string
-	used  map[string]bool
+	nodes []int              // a's blank nodes in search order
+	cands map[uint64][]int32 // colour -> b's blank node ids of that colour
+	fwd   []int32            // a's blank node index -> b's id, 0 when unmapped
+	used  []bool             // b's blank node index -> taken
 	steps int
 }
 
 // order searches the nodes of the smallest colour classes first.
 func (s *isoSearch) order() {
-	s.cands = map[uint64][]string{}
-	for _, k := range s.b.blanks {
-		c := s.b.colour[k]
-		s.cands[c] = append(s.cands[c], k)
+	s.cands = map[uint64][]int32{}
+	for k, c := range s.b.colour {
+		s.cands[c] = append(s.cands[c], -int32(k+1))
 	}
-	s.nodes = append([]string(nil), s.a.blanks...)
+	s.nodes = make([]int, len(s.a.blanks))
+	for k := range s.nodes {
+		s.nodes[k] = k
+	}
 	sort.SliceStable(s.nodes, func(i, j int) bool {
 		return len(s.cands[s.a.colour[s.nodes[i]]]) < len(s.cands[s.a.colour[s.nodes[j]]])
 	})
@@ -272,40 +296,37 @@ func (s *isoSearch) assign(i int) bool {
 	}
 	n := s.nodes[i]
 	for _, m := range s.cands[s.a.colour[n]] {
-		if s.used[m] {
+		if s.used[blankIndex(m)] {
 			continue
 		}
 		if s.steps++; s.steps > isoMaxSteps {
 			return false
 		}
-		s.fwd[n], s.used[m] = m, true
+		s.fwd[n], s.used[blankIndex(m)] = m, true
 		if s.consistent(n) && s.assign(i+1) {
 			return true
 		}
-		delete(s.fwd, n)
-		delete(s.used, m)
+		s.fwd[n], s.used[blankIndex(m)] = 0, false
 	}
 	return false
 }
 
 // consistent checks the triples of n whose blank nodes are all mapped.
-func (s *isoSearch) consistent(n string) bool {
+func (s *isoSearch) consistent(n int) bool {
 next:
 	for _, ti := range s.a.in[n] {
-		t := s.a.triples[ti]
-		var k [4]string
-		for j, x := range t {
-			if !x.blank {
-				k[j] = x.key
+		k := s.a.triples[ti]
+		for j, x := range k {
+			if x >= 0 {
 				continue
 			}
-			m, ok := s.fwd[x.key]
-			if !ok {
+			m := s.fwd[blankIndex(x)]
+			if m == 0 {
 				continue next
 			}
 			k[j] = m
 		}
-		if !s.b.set[k] {
+		if _, ok := s.b.set[k]; !ok {
 			return false
 		}
 	}
