@@ -1,7 +1,6 @@
 package terms
 
 import (
-	"hash/maphash"
 	"strings"
 	"sync"
 	"sync/atomic"
@@ -59,46 +58,10 @@ type specErr struct {
 	err error
 }
 
-// wordCache maps surface words to their analysis: a small direct-mapped
-// table in front of a map, because word frequencies are Zipfian and the hot
-// words then stay in the processor's cache.
-type wordCache struct {
-	hot [hotSlots]hotSlot
-	all map[string]*entry
-}
-
-const hotSlots = 1 << 14
-
-type hotSlot struct {
-	key string
-	e   *entry
-}
-
-var cacheSeed = maphash.MakeSeed()
-
-func newWordCache() *wordCache { return &wordCache{all: make(map[string]*entry, 1024)} }
-
-func (c *wordCache) get(s string) *entry {
-	h := &c.hot[maphash.String(cacheSeed, s)&(hotSlots-1)]
-	if h.e != nil && h.key == s {
-		return h.e
-	}
-	e := c.all[s]
-	if e != nil {
-		h.key, h.e = e.key, e
-	}
-	return e
-}
-
-func (c *wordCache) put(s string, e *entry) {
-	e.key = strings.Clone(s) // not a slice of a possibly large text
-	c.all[e.key] = e
-	h := &c.hot[maphash.String(cacheSeed, s)&(hotSlots-1)]
-	h.key, h.e = e.key, e
-}
-
 // entry is the cached analysis of one surface word in one language.
 type entry struct {
+	short  [24]byte // start of key, compared first (see sameKey)
+	klen   int32
 	key    string // surface form, e.g. "Readers"
 	term   string // "" when the word is a stopword or analysis emptied it
 	long   bool
@@ -342,7 +305,7 @@ func (a *Analyzer) run(text string, ls *langSpec, fallback bool, dst []Token, gr
 	sc := a.getScratch()
 	defer a.putScratch(sc)
 	cache := sc.caches[ls]
-	if cache == nil || len(cache.all) > cacheLimit {
+	if cache == nil || cache.n > cacheLimit {
 		cache = newWordCache()
 		sc.caches[ls] = cache
 	}
