@@ -1,2 +1,29 @@
-// Package api is the gRPC annotation service.
+// Package api is the gRPC annotation service of termgrove: the
+// termgrove.v1.AnnotationService (proto/termgrove/v1) over one or more fitted
+// models, with the standard grpc.health.v1 health service, server
+// reflection, TLS and mutual TLS, request limits, Prometheus metrics on a
+// separate HTTP listener, and hot reload of model files.
+//
+//	s, err := api.NewServer(api.Config{Models: []api.ModelSpec{{Name: "lcsh", Path: "lcsh.grove"}}})
+//	if err != nil { ... }
+//	err = s.Run(ctx) // serves until ctx ends, then drains within Config.Grace
+//
+// Limits. A call beyond Config.MaxConcurrent annotations in progress gets
+// RESOURCE_EXHAUSTED at once (a non-blocking semaphore: no queue grows under
+// overload). A request that fails validation gets INVALID_ARGUMENT with a
+// google.rpc.BadRequest detail listing every bad field. An unknown model or
+// concept gets NOT_FOUND. A panic in a handler becomes INTERNAL for that call
+// only, and is logged with its stack.
+//
+// Reload. Reload re-reads every model file and swaps each one in with an
+// atomic pointer store: calls in progress finish on the model they started
+// with, later calls see the new one. A file that fails to load leaves the old
+// model in service; the failure is logged, counted in the
+// termgrove_model_reloads_total metric and shown by GetModel.
+//
+// Health. The health service reports "" (overall) and
+// "termgrove.v1.AnnotationService" as SERVING while the server serves, and
+// one service per model named "termgrove.v1.AnnotationService/<name>".
+// During shutdown every status turns NOT_SERVING first, so that load
+// balancers stop sending new calls while in-flight calls drain.
 package api
