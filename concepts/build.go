@@ -311,7 +311,7 @@ func (b *builder) build(want string) (*Scheme, error) {
 			return nil, fmt.Errorf("%w %s not found; the file has %s", ErrScheme, want, listSchemes(b, schemes))
 		}
 	} else if len(schemes) > 1 {
-		return nil, fmt.Errorf("%w: the file has %s; choose one (--scheme IRI)", ErrScheme, listSchemes(b, schemes))
+		return nil, fmt.Errorf("%w not chosen: the file has %s; choose one by its IRI", ErrScheme, listSchemes(b, schemes))
 	} else if len(schemes) == 1 {
 		chosen = schemes[0]
 	}

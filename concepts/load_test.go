@@ -278,3 +278,28 @@ func BenchmarkCheckWordNet(b *testing.B) {
 		s.Check(CheckOptions{Langs: []string{"en"}})
 	}
 }
+
+// FuzzLoad feeds arbitrary bytes through sniffing, a reader, the builder,
+// Check and every hierarchy query: none may panic or hang.
+func FuzzLoad(f *testing.F) {
+	for _, p := range []string{"../testdata/small.ttl", "../testdata/check/cycle.ttl", "../testdata/check/truncated.ttl",
+		"../testdata/check/formats/small.nt", "../testdata/check/formats/small.rdf", "../testdata/check/formats/small.jsonld"} {
+		b, err := os.ReadFile(p)
+		if err != nil {
+			f.Fatal(err)
+		}
+		f.Add(b)
+	}
+	f.Fuzz(func(t *testing.T, doc []byte) {
+		s, err := LoadReader(bytes.NewReader(doc), LoadOptions{File: "fuzz"})
+		if err != nil {
+			return
+		}
+		s.Check(CheckOptions{Langs: []string{"en"}})
+		for i := range s.Concepts {
+			s.Ancestors(i)
+			s.Descendants(i)
+			s.PathsToTop(i)
+		}
+	})
+}

@@ -5,8 +5,29 @@
 //	i, _ := s.Lookup("http://ex.org/c/42")
 //	fmt.Println(s.Concepts[i].PrefLabel("en"), s.Depth(i))
 //
+// Load reads Turtle, N-Triples, N-Quads, RDF/XML or JSON-LD, telling them
+// apart by their first bytes (the file extension only breaks ties):
+//
+//	@prefix skos: <http://www.w3.org/2004/02/skos/core#> .   → Turtle
+//	<http://ex.org/c/1> <http://...#prefLabel> "cat"@en .     → N-Triples
+//	<?xml version="1.0"?> <rdf:RDF ...>                       → RDF/XML
+//	{"@context": ...}                                         → JSON-LD
+//
+// It keeps only the SKOS facts it needs per subject while the triples
+// stream past: skos:prefLabel/altLabel/hiddenLabel and their SKOS-XL forms
+// (skosxl:prefLabel → skosxl:Label → skosxl:literalForm), notation,
+// definition, scopeNote, broader/narrower merged in both directions (and
+// broaderTransitive for concepts with no direct link), topConceptOf/hasTopConcept,
+// inScheme, owl:deprecated and collections. Check then
+// reports what breaks the SKOS integrity conditions:
+//
+//	for _, p := range s.Check(concepts.CheckOptions{Langs: []string{"en"}}) {
+//		fmt.Println(p.Code, p.Concept, p.Message) // S14 http://ex.org/c/7 2 prefLabels in language "en": ...
+//	}
+//
 // Concepts are addressed by their dense index in Scheme.Concepts; the model
-// uses the same index as the concept's topic number.
+// uses the same index as the concept's topic number. A loaded Scheme is
+// safe for concurrent reads; after decoding one, call Reindex first.
 package concepts
 
 // Label is a literal with its (lower-case BCP 47) language tag; "" when untagged.
