@@ -25,10 +25,12 @@ type worker struct {
 	coef    []float64 // (α_k + n_dk)/(n_k + B_k)
 	allowed []bool    // allowed topics of a restricted record (free topics always true)
 
-	s     float64 // Σ_k α_k β0/(n_k+B_k), all topics
-	sFree float64 // the same over free topics
-	sSubj float64 // the same over the current record's subjects
-	rsum  float64 // Σ_{k in record} n_dk β0/(n_k+B_k)
+	sCon  float64  // Σ_k α_k β0/(n_k+B_k) over concept topics
+	sFree float64  // the same over free topics
+	fenC  *fenwick // the same terms, per concept topic
+	fenF  *fenwick // per free topic (index k−C)
+	sSubj float64  // the same over the current record's subjects
+	rsum  float64  // Σ_{k in record} n_dk β0/(n_k+B_k)
 
 	restricted bool
 	subj       []int32
@@ -37,6 +39,7 @@ type worker struct {
 	pbuf []float64 // prior bucket terms, parallel to the prior list of w
 
 	changes []change
+	sink    int32 // keeps the prefetching loads in doc from being dropped
 }
 
 func newWorker(st *state, r *rng, local bool) *worker {
@@ -60,6 +63,8 @@ func newWorker(st *state, r *rng, local bool) *worker {
 	for k := st.C; k < K; k++ {
 		wk.allowed[k] = true
 	}
+	wk.fenC = newFenwick(st.C)
+	wk.fenF = newFenwick(st.F)
 	return wk
 }
 
@@ -85,17 +90,21 @@ func (wk *worker) syncFromGlobal(part, parts int) {
 // refresh recomputes the cached sums from n_k and α.
 func (wk *worker) refresh() {
 	st := wk.st
-	wk.s, wk.sFree = 0, 0
+	wk.sCon, wk.sFree = 0, 0
 	for k := 0; k < st.K; k++ {
 		inv := 1 / (float64(wk.nk[k]) + st.B[k])
 		wk.invD[k] = inv
 		wk.coef[k] = st.alpha[k] * inv
 		t := st.alpha[k] * st.beta0 * inv
-		wk.s += t
 		if k >= st.C {
 			wk.sFree += t
+		} else {
+			wk.sCon += t
 		}
 	}
+	smooth := func(k int) float64 { return st.alpha[k] * st.beta0 * wk.invD[k] }
+	wk.fenC.build(smooth)
+	wk.fenF.build(func(i int) float64 { return smooth(st.C + i) })
 }
 
 // begin loads the counts of record d (its tokens already assigned).
@@ -151,6 +160,13 @@ func (wk *worker) doc(d *sdoc, first bool) {
 	for i := d.start; i < d.end; i++ {
 		w := st.words[i]
 		old := st.z[i]
+		if i+1 < d.end {
+			// Touch the next token's word list now: its cache miss then
+			// overlaps this token's work instead of stalling the next one.
+			if nl := wk.wt[st.words[i+1]]; len(nl) > 0 {
+				wk.sink += nl[0].n
+			}
+		}
 		if !first {
 			wk.remove(w, old)
 		}
@@ -172,11 +188,15 @@ func (wk *worker) update(k int32, ndBefore int32) {
 	wk.invD[k] = inv
 	a := st.alpha[k]
 	ds := a * st.beta0 * (inv - invOld)
-	wk.s += ds
 	if int(k) >= st.C {
 		wk.sFree += ds
-	} else if wk.restricted {
-		wk.sSubj += ds
+		wk.fenF.add(int(k)-st.C, ds)
+	} else {
+		wk.sCon += ds
+		wk.fenC.add(int(k), ds)
+		if wk.restricted {
+			wk.sSubj += ds
+		}
 	}
 	nd := wk.ndk[k]
 	wk.rsum += st.beta0 * (float64(nd)*inv - float64(ndBefore)*invOld)
@@ -232,7 +252,7 @@ func (wk *worker) buckets(w int32) (qw, qp, r, s float64) {
 			pb[j] = v
 			qp += v
 		}
-		return qw, qp, wk.rsum, wk.s
+		return qw, qp, wk.rsum, wk.sCon + wk.sFree
 	}
 	al := wk.allowed
 	for i, e := range list {
@@ -309,7 +329,8 @@ func (wk *worker) draw(w int32) int32 {
 	return wk.drawSmoothing(u)
 }
 
-// drawSmoothing walks α_k β0/(n_k+B_k) over the allowed topics.
+// drawSmoothing draws from α_k β0/(n_k+B_k) over the allowed topics: the
+// few subjects of a restricted record by a walk, the rest with the trees.
 func (wk *worker) drawSmoothing(u float64) int32 {
 	st := wk.st
 	b0 := st.beta0
@@ -320,24 +341,15 @@ func (wk *worker) drawSmoothing(u float64) int32 {
 				return k
 			}
 		}
-		for k := st.C; k < st.K; k++ {
-			u -= st.alpha[k] * b0 * wk.invD[k]
-			if u < 0 {
-				return int32(k)
-			}
-		}
 		if st.F > 0 {
-			return int32(st.K - 1)
+			return int32(st.C + wk.fenF.find(u))
 		}
 		return wk.subj[len(wk.subj)-1]
 	}
-	for k := 0; k < st.K; k++ {
-		u -= st.alpha[k] * b0 * wk.invD[k]
-		if u < 0 {
-			return int32(k)
-		}
+	if u < wk.sCon || st.F == 0 {
+		return int32(wk.fenC.find(u))
 	}
-	return int32(st.K - 1)
+	return int32(st.C + wk.fenF.find(u-wk.sCon))
 }
 
 // sweep runs one Gibbs sweep over all training records.

@@ -1,0 +1,51 @@
+package fit
+
+import (
+	"time"
+
+	"termgrove/model"
+	"termgrove/prior"
+)
+
+// Bench drives the sampler one sweep at a time, for benchmarks and
+// comparisons that need to look at the model between sweeps.
+type Bench struct {
+	st          *state
+	InitSeconds float64 // time of the initial assignment
+}
+
+// NewBench builds the sampler and draws the initial assignment.
+func NewBench(p *prior.Prior, c *Corpus, opt Options) (*Bench, error) {
+	st, err := newState(p, c, opt)
+	if err != nil {
+		return nil, err
+	}
+	t := time.Now()
+	st.initAssign()
+	return &Bench{st: st, InitSeconds: time.Since(t).Seconds()}, nil
+}
+
+// Sweep runs one Gibbs sweep (and the α update when it is due).
+func (b *Bench) Sweep() {
+	st := b.st
+	st.sweepOnce()
+	st.sweep++
+	if !st.opt.FixedAlpha && st.sweep > st.opt.BurnIn && st.sweep%st.opt.OptimizeEvery == 0 {
+		st.optimizeAlpha()
+	}
+}
+
+// LogLik is the training joint log p(w, z).
+func (b *Bench) LogLik() float64 { return b.st.logLik() }
+
+// Model builds the model of the current state.
+func (b *Bench) Model() *model.Model { return b.st.buildModel() }
+
+// HeldOut returns the held-out records' word ids.
+func (b *Bench) HeldOut() [][]int32 {
+	var out [][]int32
+	for _, i := range b.st.heldout {
+		out = append(out, b.st.corpus.Docs[i].Words)
+	}
+	return out
+}

@@ -1,0 +1,230 @@
+// Command fitbench measures the fitter's sampling speed and memory on a
+// synthetic corpus (see bench/fit.md for the figures and commands).
+//
+//	go run ./scripts/fitbench -tokens 5000000 -k 100,1000,10000,100000
+//	go run ./scripts/fitbench -tokens 10000000 -w 100000 -k 100000 -sweeps 3   # peak memory
+//	go run ./scripts/fitbench -export /path/prefix ...                         # bag of words for gensim
+//
+// The corpus is drawn from an LDA-like model: -true topics, each a Zipf
+// distribution over 400 random words of the -w word types, records of 100
+// tokens with θ ~ Dir(0.05). The same corpus is fitted at every K.
+package main
+
+import (
+	"bufio"
+	"flag"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"os"
+	"runtime"
+	"runtime/pprof"
+	"sort"
+	"strconv"
+	"strings"
+	"syscall"
+	"time"
+
+	"termgrove/fit"
+	"termgrove/prior"
+)
+
+func main() {
+	tokens := flag.Int("tokens", 5_000_000, "corpus tokens")
+	words := flag.Int("w", 50_000, "word types")
+	trueK := flag.Int("true", 1000, "topics the corpus is drawn from")
+	docLen := flag.Int("len", 100, "tokens per record")
+	ks := flag.String("k", "100,1000,10000,100000", "K values to fit (free topics)")
+	concepts := flag.Bool("concepts", false, "make every topic a concept with a 3-word prior row")
+	workers := flag.String("workers", "1", "worker counts, comma-separated")
+	warm := flag.Int("warm", 3, "sweeps before timing (after the initial assignment)")
+	sweeps := flag.Int("sweeps", 4, "timed sweeps")
+	export := flag.String("export", "", "write the corpus as PREFIX.train.txt/PREFIX.test.txt (one record per line, word ids) and exit")
+	holdout := flag.Float64("holdout", 0.05, "share of records in the test file with -export")
+	seed := flag.Uint64("seed", 1, "corpus seed")
+	prof := flag.String("cpuprofile", "", "write a CPU profile of the fits to FILE")
+	flag.Parse()
+	if *prof != "" {
+		f, err := os.Create(*prof)
+		if err == nil {
+			pprof.StartCPUProfile(f)
+			defer pprof.StopCPUProfile()
+		}
+	}
+
+	t0 := time.Now()
+	c := synth(*tokens, *words, *trueK, *docLen, *seed)
+	fmt.Printf("corpus: %d records, %d tokens, W=%d, drawn from %d topics in %.1fs\n", len(c.Docs), c.Tokens(), c.W, *trueK, time.Since(t0).Seconds())
+	if *export != "" {
+		if err := writeBOW(*export, c, *holdout); err != nil {
+			fmt.Fprintln(os.Stderr, err)
+			os.Exit(1)
+		}
+		return
+	}
+	fmt.Printf("machine: %d cores, %s, %s\n", runtime.NumCPU(), runtime.GOARCH, runtime.Version())
+	fmt.Printf("%-8s %-8s %-8s %-14s %-14s %-12s %-10s\n", "K", "workers", "init s", "tokens/s wall", "tokens/cpu-s", "cpu-ns/token", "peak RSS")
+	for _, ks := range strings.Split(*ks, ",") {
+		K, _ := strconv.Atoi(ks)
+		for _, ws := range strings.Split(*workers, ",") {
+			nw, _ := strconv.Atoi(ws)
+			run(c, K, nw, *warm, *sweeps, *concepts)
+		}
+	}
+}
+
+func run(c *fit.Corpus, K, workers, warm, sweeps int, concepts bool) {
+	var p *prior.Prior
+	opt := fit.Options{FreeTopics: K, Workers: workers, Seed: 1, Sweeps: 1 << 30, FixedAlpha: true, LogLikEvery: 1 << 30}
+	if concepts {
+		r := rand.New(rand.NewPCG(3, 3))
+		p = &prior.Prior{Rows: make([][]prior.Entry, K), Lambda: 50, Beta0: 0.01}
+		for k := range p.Rows {
+			ws := map[int32]bool{}
+			for len(ws) < 3 {
+				ws[int32(r.IntN(c.W))] = true
+			}
+			for w := range ws {
+				p.Rows[k] = append(p.Rows[k], prior.Entry{Word: w, Weight: 1.0 / 3})
+			}
+			sort.Slice(p.Rows[k], func(i, j int) bool { return p.Rows[k][i].Word < p.Rows[k][j].Word })
+		}
+		opt.FreeTopics = 0
+	}
+	b, err := fit.NewBench(p, c, opt)
+	if err != nil {
+		fmt.Fprintln(os.Stderr, err)
+		os.Exit(1)
+	}
+	initS := b.InitSeconds
+	for i := 0; i < warm; i++ {
+		b.Sweep()
+	}
+	start := time.Now()
+	cpu0 := cpuSeconds()
+	for i := 0; i < sweeps; i++ {
+		b.Sweep()
+	}
+	sec := time.Since(start).Seconds()
+	cpu := cpuSeconds() - cpu0
+	n := float64(c.Tokens()) * float64(sweeps)
+	fmt.Printf("%-8d %-8d %-8.1f %-14.0f %-14.0f %-12.1f %-10s\n", K, workers, initS, n/sec, n/cpu, 1e9*cpu/n, peakRSS())
+	b = nil
+	runtime.GC()
+}
+
+// synth draws the corpus.
+func synth(tokens, W, T, docLen int, seed uint64) *fit.Corpus {
+	r := rand.New(rand.NewPCG(seed, 11))
+	const per = 400
+	topicWords := make([][]int32, T)
+	cum := make([]float64, per)
+	var acc float64
+	for i := range cum {
+		acc += 1 / float64(i+1)
+		cum[i] = acc
+	}
+	for i := range cum {
+		cum[i] /= acc
+	}
+	for k := range topicWords {
+		topicWords[k] = make([]int32, per)
+		for i := range topicWords[k] {
+			topicWords[k][i] = int32(r.IntN(W))
+		}
+	}
+	c := &fit.Corpus{W: W}
+	theta := make([]float64, T)
+	var active []int
+	for n := 0; n < tokens; n += docLen {
+		// θ ~ Dir(0.05) over T topics, drawn sparsely: most weights are ~0, so
+		// take the few topics a record would use (a Poisson-ish count).
+		active = active[:0]
+		m := 1 + r.IntN(4)
+		var s float64
+		for i := 0; i < m; i++ {
+			k := r.IntN(T)
+			active = append(active, k)
+			theta[i] = -math.Log(r.Float64() + 1e-300)
+			s += theta[i]
+		}
+		d := fit.Doc{ID: "s" + strconv.Itoa(len(c.Docs)), Words: make([]int32, docLen)}
+		for i := range d.Words {
+			u := r.Float64() * s
+			j := 0
+			for j < m-1 && u >= theta[j] {
+				u -= theta[j]
+				j++
+			}
+			k := active[j]
+			w := sort.SearchFloat64s(cum, r.Float64())
+			if w >= per {
+				w = per - 1
+			}
+			d.Words[i] = topicWords[k][w]
+		}
+		c.Docs = append(c.Docs, d)
+	}
+	return c
+}
+
+// cpuSeconds is the process's user+system CPU time: on a shared, busy
+// machine it measures the work per token better than wall time.
+func cpuSeconds() float64 {
+	var ru syscall.Rusage
+	syscall.Getrusage(syscall.RUSAGE_SELF, &ru)
+	return float64(ru.Utime.Sec+ru.Stime.Sec) + float64(ru.Utime.Usec+ru.Stime.Usec)/1e6
+}
+
+func peakRSS() string {
+	b, err := os.ReadFile("/proc/self/status")
+	if err != nil {
+		return "?"
+	}
+	for _, l := range strings.Split(string(b), "\n") {
+		if strings.HasPrefix(l, "VmHWM:") {
+			f := strings.Fields(l)
+			kb, _ := strconv.Atoi(f[1])
+			return fmt.Sprintf("%.2fGiB", float64(kb)/(1<<20))
+		}
+	}
+	return "?"
+}
+
+// writeBOW writes train and test records, one per line as space-separated
+// word ids; the test share is every record whose index mod 1/holdout is 0.
+func writeBOW(prefix string, c *fit.Corpus, holdout float64) error {
+	tr, err := os.Create(prefix + ".train.txt")
+	if err != nil {
+		return err
+	}
+	te, err := os.Create(prefix + ".test.txt")
+	if err != nil {
+		return err
+	}
+	bt, be := bufio.NewWriter(tr), bufio.NewWriter(te)
+	every := int(math.Round(1 / holdout))
+	for i, d := range c.Docs {
+		w := bt
+		if i%every == 0 {
+			w = be
+		}
+		for j, x := range d.Words {
+			if j > 0 {
+				w.WriteByte(' ')
+			}
+			w.WriteString(strconv.Itoa(int(x)))
+		}
+		w.WriteByte('\n')
+	}
+	if err := bt.Flush(); err != nil {
+		return err
+	}
+	if err := be.Flush(); err != nil {
+		return err
+	}
+	tr.Close()
+	te.Close()
+	fmt.Printf("wrote %s.train.txt and %s.test.txt (W=%d)\n", prefix, prefix, c.W)
+	return nil
+}
