@@ -40,6 +40,7 @@ func readLines(r io.Reader, opt Options, fn func(Triple) error, quads bool) erro
 	if quads {
 		p.format = "N-Quads"
 	}
+	p.skipBOM()
 	for {
 		p.skipBlanks()
 		switch c := p.peek(); c {
@@ -207,7 +208,7 @@ func (p *lineParser) skipBlanks() {
 
 // skipEOL consumes one line break character.
 func (p *lineParser) skipEOL() {
-	if p.buf[p.r] == '\n' {
+	if p.buf[p.r] == '\n' || p.peekAt(1) != '\n' { // a lone CR ends a line too
 		p.newline(p.r)
 	}
 	p.r++
@@ -335,6 +336,15 @@ func (l *lexer) fill() bool {
 			l.err = io.ErrNoProgress
 			return false
 		}
+	}
+}
+
+// skipBOM skips a UTF-8 byte order mark at the start of the input, which
+// editors on some systems write; the grammars do not mention it.
+func (l *lexer) skipBOM() {
+	if l.peekAt(2) >= 0 && l.buf[l.r] == 0xEF && l.buf[l.r+1] == 0xBB && l.buf[l.r+2] == 0xBF {
+		l.r += 3
+		l.cur.start = l.r
 	}
 }
 

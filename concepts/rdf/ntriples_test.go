@@ -107,6 +107,8 @@ func TestNTriplesErrors(t *testing.T) {
 		// Column counts characters, not bytes: "é" is one column.
 		{"invalid UTF-8", "\n<http://ex.org/s> <http://ex.org/p> \"é\xff\" .", "x.nt:2:39", "0xFF"},
 		{"invalid UTF-8 in comment", "# ok\n# caf\xe9\n", "x.nt:2:6", "0xE9"},
+		// Common practice, no source: CR LF and a lone CR each end one line.
+		{"line count with CR LF and CR", "# a\r\n# b\r# c\r\n<a>", "x.nt:4:1", "relative IRI"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {

@@ -56,6 +56,7 @@ type turtleParser struct {
 }
 
 func (p *turtleParser) document() error {
+	p.skipBOM()
 	for {
 		if err := p.skipWS(); err != nil {
 			return err
@@ -707,7 +708,12 @@ func (l *lexer) skipWS() error {
 	for {
 		for l.r < l.w {
 			switch l.buf[l.r] {
-			case ' ', '\t', '\r':
+			case ' ', '\t':
+				l.r++
+			case '\r':
+				if l.peekAt(1) != '\n' { // a lone CR ends a line too
+					l.newline(l.r)
+				}
 				l.r++
 			case '\n':
 				l.newline(l.r)

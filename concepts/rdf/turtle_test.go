@@ -81,6 +81,19 @@ _:a3 <http://ex.org/ns#r> <http://ex.org/dir/doc#frag> .
 	}
 }
 
+func TestByteOrderMarkSkipped(t *testing.T) {
+	// Common practice, no source: editors may start UTF-8 files with U+FEFF.
+	for _, rd := range []reader{ReadTurtle, ReadNTriples} {
+		got, err := collect(t, rd, "\uFEFF<http://ex.org/s> <http://ex.org/p> <http://ex.org/o> .\n", Options{})
+		if err != nil || len(got) != 1 {
+			t.Errorf("got %v, %v; want one triple", got, err)
+		}
+	}
+	// Columns count from after the mark.
+	_, err := collect(t, ReadTurtle, "\uFEFF<a> <b> ?", Options{File: "m.ttl"})
+	checkParseError(t, err, "m.ttl:1:9", "object")
+}
+
 func TestTurtleBaseFromOptions(t *testing.T) {
 	// Source: RDF 1.1 Turtle §6.3 and RFC 3986 §5.1.4 (base from the retrieval IRI).
 	got, err := collect(t, ReadTurtle, "<a> <b> <../c> .", Options{Base: "http://ex.org/x/y"})
@@ -113,6 +126,7 @@ func TestTurtleErrors(t *testing.T) {
 		{"space in IRI", pre + "<http://ex.org/a b> ex:b ex:c .", "v.ttl:2:17", "space"},
 		{"bad IRI escape", pre + `<http://ex.org/\u003C> ex:b ex:c .`, "v.ttl:2:22", "U+003C"},
 		{"literal subject", pre + `"s" ex:b ex:c .`, "v.ttl:2:1", "subject"},
+		{"lines ended by CR LF and CR", "# a\r\n# b\r\r\n  ?", "v.ttl:4:3", "subject"},
 		{"bad keyword", `@prefx ex: <http://ex.org/> .`, "v.ttl:1:1", "@prefix"},
 		{"missing object", pre + `ex:a ex:b .`, "v.ttl:2:11", "object"},
 		{"bare word", pre + `ex:a ex:b maybe .`, "v.ttl:2:11", `"maybe"`},
