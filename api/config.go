@@ -58,10 +58,9 @@ func ParseModelSpec(v string) (ModelSpec, error) {
 	return ModelSpec{Name: name, Path: v}, nil
 }
 
-// Annotator annotates one text; the annotator of package annotate satisfies
-// it through NewAnnotator's default.
+// Annotator annotates one text; *annotate.Annotator satisfies it.
 type Annotator interface {
-	Annotate(id, text string, opt annotate.Options) (annotate.Result, error)
+	Annotate(id, text string, opt annotate.Options) (*annotate.Result, error)
 }
 
 // Config configures a Server. Zero fields take the defaults above.

@@ -49,13 +49,15 @@ func RequestFromOptions(modelName, id, text string, o annotate.Options) *pb.Anno
 // ResultToProto converts an annotation result to its response message.
 func ResultToProto(res *annotate.Result) *pb.AnnotateResponse {
 	out := &pb.AnnotateResponse{
-		Id:          res.ID,
-		Uncovered:   res.Uncovered,
-		Tokens:      int32(res.Tokens),
-		Language:    res.Language,
-		Fallback:    res.Fallback,
-		InvalidUtf8: int32(res.Invalid),
-		Concepts:    make([]*pb.AnnotatedConcept, len(res.Concepts)),
+		Id:              res.ID,
+		Uncovered:       res.Uncovered,
+		Tokens:          int32(res.Tokens),
+		Language:        res.Language,
+		Fallback:        res.Fallback,
+		InvalidUtf8:     int32(res.Invalid),
+		Unknown:         int32(res.Unknown),
+		UnknownSubjects: res.UnknownSubjects,
+		Concepts:        make([]*pb.AnnotatedConcept, len(res.Concepts)),
 	}
 	for i := range res.Concepts {
 		c := &res.Concepts[i]
@@ -81,13 +83,15 @@ func ResultToProto(res *annotate.Result) *pb.AnnotateResponse {
 // a client formats a remote result exactly like a local one.
 func ResultFromProto(r *pb.AnnotateResponse) annotate.Result {
 	res := annotate.Result{
-		ID:        r.GetId(),
-		Uncovered: r.GetUncovered(),
-		Tokens:    int(r.GetTokens()),
-		Language:  r.GetLanguage(),
-		Fallback:  r.GetFallback(),
-		Invalid:   int(r.GetInvalidUtf8()),
-		Concepts:  make([]annotate.Concept, len(r.GetConcepts())),
+		ID:              r.GetId(),
+		Uncovered:       r.GetUncovered(),
+		Tokens:          int(r.GetTokens()),
+		Language:        r.GetLanguage(),
+		Fallback:        r.GetFallback(),
+		Invalid:         int(r.GetInvalidUtf8()),
+		Unknown:         int(r.GetUnknown()),
+		UnknownSubjects: r.GetUnknownSubjects(),
+		Concepts:        make([]annotate.Concept, len(r.GetConcepts())),
 	}
 	for i, c := range r.GetConcepts() {
 		ac := annotate.Concept{IRI: c.GetIri(), Label: c.GetLabel(), Score: c.GetScore(), Path: make([]annotate.PathNode, len(c.GetPath()))}

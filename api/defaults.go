@@ -1,19 +1,10 @@
 package api
 
 import (
-	"errors"
-
+	"termgrove/annotate"
 	"termgrove/model"
 )
 
-// errNotWired is returned while the default model loader or annotator is not
-// available in this build.
-var errNotWired = errors.New("not available in this build")
+func defaultLoad(path string) (*model.Model, error) { return model.Load(path) }
 
-func defaultLoad(path string) (*model.Model, error) {
-	return nil, errNotWired
-}
-
-func defaultAnnotator(m *model.Model) (Annotator, error) {
-	return nil, errNotWired
-}
+func defaultAnnotator(m *model.Model) (Annotator, error) { return annotate.New(m) }

@@ -74,12 +74,12 @@ type fakeAnnotator struct {
 	hook func(text string)
 }
 
-func (f *fakeAnnotator) Annotate(id, text string, opt annotate.Options) (annotate.Result, error) {
+func (f *fakeAnnotator) Annotate(id, text string, opt annotate.Options) (*annotate.Result, error) {
 	if f.hook != nil {
 		f.hook(text)
 	}
 	m := f.m
-	res := annotate.Result{ID: id, Language: "en"}
+	res := &annotate.Result{ID: id, Language: "en"}
 	score := make([]float64, m.K())
 	off := 0
 	for _, w := range strings.Fields(text) {

@@ -105,7 +105,7 @@ func (s *Server) annotateOne(ctx context.Context, r *pb.AnnotateRequest, prefix 
 		// The caller gave up meanwhile; say so rather than pretend success.
 		return nil, status.FromContextError(err).Err()
 	}
-	out := ResultToProto(&res)
+	out := ResultToProto(res)
 	out.Model = sv.spec.Name
 	return out, nil
 }
@@ -113,7 +113,7 @@ func (s *Server) annotateOne(ctx context.Context, r *pb.AnnotateRequest, prefix 
 // runAnnotator calls the annotator; a panic becomes INTERNAL for this
 // record only, an error from the annotator INVALID_ARGUMENT (it is about
 // this input, e.g. a language the model cannot analyse).
-func (s *Server) runAnnotator(a Annotator, r *pb.AnnotateRequest) (res annotate.Result, err error) {
+func (s *Server) runAnnotator(a Annotator, r *pb.AnnotateRequest) (res *annotate.Result, err error) {
 	defer func() {
 		if p := recover(); p != nil {
 			s.log.Error("panic in annotator", slog.String("id", r.GetId()),
@@ -121,7 +121,12 @@ func (s *Server) runAnnotator(a Annotator, r *pb.AnnotateRequest) (res annotate.
 			err = status.Error(codes.Internal, "internal error while annotating; the server logged it")
 		}
 	}()
-	res, err = a.Annotate(r.GetId(), r.GetText(), OptionsFromProto(r))
+	opt := OptionsFromProto(r)
+	opt.MaxBytes = s.cfg.MaxTextBytes
+	res, err = a.Annotate(r.GetId(), r.GetText(), opt)
+	if err == nil && res == nil {
+		err = status.Error(codes.Internal, "annotator returned no result")
+	}
 	if err != nil {
 		if _, ok := status.FromError(err); ok && status.Code(err) != codes.Unknown {
 			return res, err

@@ -223,9 +223,14 @@ type AnnotateResponse struct {
 	// Invalid UTF-8 sequences replaced before analysis.
 	InvalidUtf8 int32 `protobuf:"varint,8,opt,name=invalid_utf8,json=invalidUtf8,proto3" json:"invalid_utf8,omitempty"`
 	// Name of the model that answered.
-	Model         string `protobuf:"bytes,9,opt,name=model,proto3" json:"model,omitempty"`
-	unknownFields protoimpl.UnknownFields
-	sizeCache     protoimpl.SizeCache
+	Model string `protobuf:"bytes,9,opt,name=model,proto3" json:"model,omitempty"`
+	// Tokens whose term the model has never seen (left out of tokens, words
+	// and scores).
+	Unknown int32 `protobuf:"varint,10,opt,name=unknown,proto3" json:"unknown,omitempty"`
+	// Known subjects of the request that are not concepts of the model.
+	UnknownSubjects []string `protobuf:"bytes,11,rep,name=unknown_subjects,json=unknownSubjects,proto3" json:"unknown_subjects,omitempty"`
+	unknownFields   protoimpl.UnknownFields
+	sizeCache       protoimpl.SizeCache
 }
 
 func (x *AnnotateResponse) Reset() {
@@ -319,6 +324,20 @@ func (x *AnnotateResponse) GetModel() string {
 		return x.Model
 	}
 	return ""
+}
+
+func (x *AnnotateResponse) GetUnknown() int32 {
+	if x != nil {
+		return x.Unknown
+	}
+	return 0
+}
+
+func (x *AnnotateResponse) GetUnknownSubjects() []string {
+	if x != nil {
+		return x.UnknownSubjects
+	}
+	return nil
 }
 
 // AnnotatedConcept is one ranked concept of an annotation.
@@ -2164,7 +2183,7 @@ const file_termgrove_v1_annotation_proto_rawDesc = "" +
 	"\bsubjects\x18\x06 \x03(\tR\bsubjects\x12<\n" +
 	"\fsubject_mode\x18\a \x01(\x0e2\x19.termgrove.v1.SubjectModeR\vsubjectMode\x12#\n" +
 	"\rinclude_words\x18\b \x01(\bR\fincludeWords\x12\x1a\n" +
-	"\blanguage\x18\t \x01(\tR\blanguage\"\xaf\x02\n" +
+	"\blanguage\x18\t \x01(\tR\blanguage\"\xf4\x02\n" +
 	"\x10AnnotateResponse\x12\x0e\n" +
 	"\x02id\x18\x01 \x01(\tR\x02id\x12:\n" +
 	"\bconcepts\x18\x02 \x03(\v2\x1e.termgrove.v1.AnnotatedConceptR\bconcepts\x12\x1c\n" +
@@ -2174,7 +2193,10 @@ const file_termgrove_v1_annotation_proto_rawDesc = "" +
 	"\blanguage\x18\x06 \x01(\tR\blanguage\x12\x1a\n" +
 	"\bfallback\x18\a \x01(\bR\bfallback\x12!\n" +
 	"\finvalid_utf8\x18\b \x01(\x05R\vinvalidUtf8\x12\x14\n" +
-	"\x05model\x18\t \x01(\tR\x05model\"\xad\x01\n" +
+	"\x05model\x18\t \x01(\tR\x05model\x12\x18\n" +
+	"\aunknown\x18\n" +
+	" \x01(\x05R\aunknown\x12)\n" +
+	"\x10unknown_subjects\x18\v \x03(\tR\x0funknownSubjects\"\xad\x01\n" +
 	"\x10AnnotatedConcept\x12\x10\n" +
 	"\x03iri\x18\x01 \x01(\tR\x03iri\x12\x14\n" +
 	"\x05label\x18\x02 \x01(\tR\x05label\x12\x14\n" +
