@@ -80,13 +80,29 @@ func FuzzNTriples(f *testing.F) {
 	f.Add([]byte("<http://ex.org/s> <http://ex.org/p> \"o\\u00E9\"@en-gb .\n_:b <http://ex.org/p> \"1\"^^<http://ex.org/t> . # c\n"))
 	addConformanceSeeds(f, ".nt", ".nq")
 	f.Fuzz(func(t *testing.T, data []byte) {
-		for _, rd := range []reader{ReadNTriples, ReadNQuads} {
+		var nt []Triple
+		for i, rd := range []reader{ReadNTriples, ReadNQuads} {
 			var ts []Triple
 			err := rd(bytes.NewReader(data), Options{}, func(tr Triple) error {
 				ts = append(ts, tr)
 				return nil
 			})
 			checkFuzzResult(t, ts, err)
+			if i == 0 && err == nil {
+				nt = ts
+			}
+		}
+		if nt == nil {
+			return
+		}
+		// Source: RDF 1.1 Turtle §1 ("N-Triples ... is a subset of Turtle"):
+		// the Turtle reader must read the same graph.
+		var ttl []Triple
+		if err := ReadTurtle(bytes.NewReader(data), Options{}, func(tr Triple) error { ttl = append(ttl, tr); return nil }); err != nil {
+			t.Fatalf("Turtle reader rejects valid N-Triples: %v", err)
+		}
+		if ok, why := Isomorphic(nt, ttl); !ok {
+			t.Fatalf("Turtle reader reads another graph from N-Triples: %s", why)
 		}
 	})
 }
