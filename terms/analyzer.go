@@ -73,14 +73,22 @@ type entry struct {
 
 // scratch is the per-goroutine working space, reused across calls.
 type scratch struct {
-	norm   normalizer
-	env    *snowballstem.Env
-	buf    []byte
-	caches map[*langSpec]*wordCache
+	norm normalizer
+	env  *snowballstem.Env
+	buf  []byte
+	// caches by language and by use: labels (AnalyzeWords) apart from
+	// texts, so that a vocabulary's label words do not crowd the cache of
+	// a collection's words.
+	caches map[cacheKey]*wordCache
 	win    []winTok
 	syms   []int32
 	ms     []match
 	taken  []bool
+}
+
+type cacheKey struct {
+	ls    *langSpec
+	texts bool
 }
 
 // winTok is a word waiting for phrase matching.
@@ -304,10 +312,11 @@ func (a *Analyzer) run(text string, ls *langSpec, fallback bool, dst []Token, gr
 	}
 	sc := a.getScratch()
 	defer a.putScratch(sc)
-	cache := sc.caches[ls]
+	ck := cacheKey{ls, phrases}
+	cache := sc.caches[ck]
 	if cache == nil || cache.n > cacheLimit {
 		cache = newWordCache()
-		sc.caches[ls] = cache
+		sc.caches[ck] = cache
 	}
 	dictLen := int32(a.dict.Len())
 	sc.win = sc.win[:0]
@@ -376,7 +385,7 @@ func (a *Analyzer) getScratch() *scratch {
 		a.free = a.free[:n-1]
 		return sc
 	}
-	return &scratch{env: snowballstem.NewEnv(""), caches: map[*langSpec]*wordCache{}}
+	return &scratch{env: snowballstem.NewEnv(""), caches: map[cacheKey]*wordCache{}}
 }
 
 func (a *Analyzer) putScratch(sc *scratch) {

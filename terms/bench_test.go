@@ -217,3 +217,21 @@ func synthetic(size, n int) (string, []string) {
 	}
 	return sb.String(), labels
 }
+
+// BenchmarkAnalyze50MB analyses one 50 MB record of synthetic prose in a
+// single call (grow=false, after a growing pass), the size DESIGN's bad
+// input list names.
+func BenchmarkAnalyze50MB(b *testing.B) {
+	text, labels := synthetic(50<<20, 10000)
+	a, _ := New(Options{}, nil)
+	compile(a, labels)
+	toks, _ := a.Analyze(text, nil, true)
+	b.SetBytes(int64(len(text)))
+	b.ResetTimer()
+	cpu0 := cpuSeconds()
+	for b.Loop() {
+		toks, _ = a.Analyze(text, toks[:0], false)
+	}
+	reportCPU(b, len(text), cpu0)
+	b.ReportMetric(float64(len(toks)), "tokens")
+}

@@ -16,12 +16,17 @@ type automaton struct {
 	syms    map[string]int32 // word term -> symbol, e.g. "screen" -> 17
 	root    []int32          // symbol -> state after the root (0 = none)
 	next    edgeTable        // state<<32|symbol -> state, for states other than the root
-	fail    []int32          // state -> longest proper suffix state
-	out     []int32          // state -> phrase ending exactly here, -1 if none
-	outLink []int32          // state -> nearest suffix state with out >= 0, 0 if none
-	depth   []int32          // state -> words from the root
+	states  []acState
 	phrases []phraseDef
-	step0   func(s, sym int32) int32 // the goto function, through a map while building
+}
+
+// acState is one trie node; its fields share a cache line.
+type acState struct {
+	fail    int32  // longest proper suffix state
+	out     int32  // phrase ending exactly here, -1 if none
+	outLink int32  // nearest suffix state with out >= 0, 0 if none
+	depth   int32  // words from the root
+	kids    uint64 // bit sym%64 set for each child's symbol: most failing steps skip the edge table
 }
 
 // phraseDef is one compiled phrase.
@@ -36,56 +41,49 @@ func buildAutomaton(phrases []phraseDef, gen uint32) *automaton {
 	a := &automaton{
 		gen:     gen,
 		syms:    map[string]int32{},
-		fail:    []int32{0},
-		out:     []int32{-1},
-		outLink: []int32{0},
-		depth:   []int32{0},
+		states:  []acState{{out: -1}},
 		phrases: phrases,
 	}
 	edges := map[uint64]int32{}
-	a.step0 = func(s, sym int32) int32 {
+	step := func(s, sym int32) int32 {
 		if s == 0 {
 			return a.root[sym]
 		}
 		return edges[uint64(s)<<32|uint64(sym)]
 	}
-	var words []string
 	for pi, ph := range phrases {
-		words = strings.Split(ph.term, " ")
 		s := int32(0)
-		for _, w := range words {
+		for _, w := range strings.Split(ph.term, " ") {
 			sym, ok := a.syms[w]
 			if !ok {
 				sym = int32(len(a.syms))
 				a.syms[w] = sym
 				a.root = append(a.root, 0)
 			}
-			nx := a.step0(s, sym)
+			nx := step(s, sym)
 			if nx == 0 {
-				nx = int32(len(a.fail))
-				a.fail = append(a.fail, 0)
-				a.out = append(a.out, -1)
-				a.outLink = append(a.outLink, 0)
-				a.depth = append(a.depth, a.depth[s]+1)
+				nx = int32(len(a.states))
+				a.states = append(a.states, acState{out: -1, depth: a.states[s].depth + 1})
 				if s == 0 {
 					a.root[sym] = nx
 				} else {
 					edges[uint64(s)<<32|uint64(sym)] = nx
+					a.states[s].kids |= 1 << (uint(sym) & 63)
 				}
 			}
 			s = nx
 		}
-		if a.out[s] < 0 {
-			a.out[s] = int32(pi)
+		if a.states[s].out < 0 {
+			a.states[s].out = int32(pi)
 		}
 	}
 	// Failure links in breadth-first order from the root's children.
-	kids := make(map[int32][][2]int32, len(a.fail)) // state -> (symbol, child)
+	kids := make(map[int32][][2]int32, len(a.states)) // state -> (symbol, child)
 	for k, c := range edges {
 		p := int32(k >> 32)
 		kids[p] = append(kids[p], [2]int32{int32(uint32(k)), c})
 	}
-	queue := make([]int32, 0, len(a.fail))
+	queue := make([]int32, 0, len(a.states))
 	for _, c := range a.root {
 		if c != 0 {
 			queue = append(queue, c)
@@ -95,29 +93,28 @@ func buildAutomaton(phrases []phraseDef, gen uint32) *automaton {
 		s := queue[qi]
 		for _, sc := range kids[s] {
 			sym, c := sc[0], sc[1]
-			f := a.fail[s]
+			f := a.states[s].fail
 			for {
-				if nx := a.step0(f, sym); nx != 0 {
-					a.fail[c] = nx
+				if nx := step(f, sym); nx != 0 {
+					a.states[c].fail = nx
 					break
 				}
 				if f == 0 {
-					a.fail[c] = 0
+					a.states[c].fail = 0
 					break
 				}
-				f = a.fail[f]
+				f = a.states[f].fail
 			}
-			fc := a.fail[c]
-			if a.out[fc] >= 0 {
-				a.outLink[c] = fc
+			fc := a.states[c].fail
+			if a.states[fc].out >= 0 {
+				a.states[c].outLink = fc
 			} else {
-				a.outLink[c] = a.outLink[fc]
+				a.states[c].outLink = a.states[fc].outLink
 			}
 			queue = append(queue, c)
 		}
 	}
 	a.next = newEdgeTable(edges)
-	a.step0 = a.goTo
 	return a
 }
 
@@ -125,6 +122,9 @@ func buildAutomaton(phrases []phraseDef, gen uint32) *automaton {
 func (a *automaton) goTo(s, sym int32) int32 {
 	if s == 0 {
 		return a.root[sym]
+	}
+	if a.states[s].kids&(1<<(uint(sym)&63)) == 0 {
+		return 0
 	}
 	return a.next.get(uint64(s)<<32 | uint64(sym))
 }
@@ -196,16 +196,16 @@ func (a *automaton) findAll(syms []int32, dst []match) []match {
 			if s == 0 {
 				break
 			}
-			s = a.fail[s]
+			s = a.states[s].fail
 		}
 		o := s
-		if a.out[o] < 0 {
-			o = a.outLink[o]
+		if a.states[o].out < 0 {
+			o = a.states[o].outLink
 		}
 		for o != 0 {
-			n := a.depth[o]
-			dst = append(dst, match{start: int32(i) - n + 1, n: n, phrase: a.out[o]})
-			o = a.outLink[o]
+			st := &a.states[o]
+			dst = append(dst, match{start: int32(i) - st.depth + 1, n: st.depth, phrase: st.out})
+			o = st.outLink
 		}
 	}
 	return dst
