@@ -15,8 +15,10 @@ import (
 //	_:b0 <http://ex.org/p> "caf\u00E9"^^<http://www.w3.org/2001/XMLSchema#string> . # comment
 //
 // IRIs must be absolute; opt.Base is not used. Blank node labels are kept
-// as written. The first error stops reading; fn's own error is returned
-// unchanged.
+// as written. Input is read in 64 KiB chunks and only the statement being
+// parsed is held. The first error stops reading: a *ParseError
+// ("file:line:col: expected ...", errors.Is ErrSyntax or ErrIO); fn's own
+// error is returned unchanged.
 func ReadNTriples(r io.Reader, opt Options, fn func(Triple) error) error {
 	return readLines(r, opt, fn, false)
 }

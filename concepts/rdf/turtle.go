@@ -1,9 +1,9 @@
 package rdf
 
 import (
+	"bytes"
 	"io"
 	"strconv"
-	"strings"
 )
 
 // IRIs the Turtle reader writes for its abbreviations (RDF 1.1 Turtle §7.2).
@@ -32,7 +32,10 @@ const (
 // with neither they stay relative. Blank node labels are kept as written,
 // except that labels starting with "_g" become "_gu" + label, because the
 // reader names the blank nodes of [ ] and ( ) "_g1", "_g2", ...
-// The first error stops reading; fn's own error is returned unchanged.
+//
+// The first error stops reading. Errors in the document are *ParseError
+// values (errors.Is ErrSyntax, or ErrIO for a failed read) whose message
+// reads "file:line:col: expected ..."; fn's own error is returned unchanged.
 func ReadTurtle(r io.Reader, opt Options, fn func(Triple) error) error {
 	p := &turtleParser{
 		lexer:    newLexer(r, opt.File),
@@ -44,6 +47,8 @@ func ReadTurtle(r io.Reader, opt Options, fn func(Triple) error) error {
 	return p.document()
 }
 
+// turtleParser is a recursive-descent parser over the Turtle grammar
+// (Turtle §6.5), one method per production, reading from the shared lexer.
 type turtleParser struct {
 	*lexer
 	fn       func(Triple) error
@@ -100,7 +105,7 @@ func (p *turtleParser) statement(c int) error {
 func (p *turtleParser) atDirective() error {
 	p.startTok()
 	p.r++
-	word := p.peekWord()
+	word := string(p.peekWord())
 	switch word {
 	case "prefix":
 		p.r += len(word)
@@ -129,8 +134,13 @@ func (p *turtleParser) atDirective() error {
 // is not the start of a prefixed name.
 func (p *turtleParser) sparqlKeyword() string {
 	word := p.peekWord()
-	kw := strings.ToUpper(word)
-	if kw != "PREFIX" && kw != "BASE" {
+	var kw string
+	switch {
+	case bytes.EqualFold(word, []byte("PREFIX")):
+		kw = "PREFIX"
+	case bytes.EqualFold(word, []byte("BASE")):
+		kw = "BASE"
+	default:
 		return ""
 	}
 	if c := p.peekAt(len(word)); c == ':' || c == '.' || c == '-' || c == '_' || c >= '0' && c <= '9' || c >= 0x80 {
@@ -139,13 +149,14 @@ func (p *turtleParser) sparqlKeyword() string {
 	return kw
 }
 
-// peekWord returns the ASCII letters ahead without consuming them.
-func (p *turtleParser) peekWord() string {
+// peekWord returns up to 17 ASCII letters ahead without consuming them; the
+// slice is valid until the next read.
+func (p *turtleParser) peekWord() []byte {
 	n := 0
 	for {
 		c := p.peekAt(n)
 		if !(c >= 'a' && c <= 'z' || c >= 'A' && c <= 'Z') || n > 16 {
-			return string(p.buf[p.r : p.r+n])
+			return p.buf[p.r : p.r+n]
 		}
 		n++
 	}
