@@ -234,3 +234,24 @@ func TestConformance(t *testing.T) {
 		fmt.Println(line)
 	}
 }
+
+// TestConformanceHarnessFails shows that runEntry can fail: an eval test
+// compared with another test's result, and a valid file run as a negative
+// test, must both be reported.
+func TestConformanceHarnessFails(t *testing.T) {
+	dir := conformanceDir(t)
+	home := suiteHome + "rdf-turtle/"
+	wrongResult := manifestEntry{name: "IRI_subject", typ: "TestTurtleEval",
+		action: home + "IRI_subject.ttl", result: home + "IRI_with_all_punctuation.nt"}
+	if why := runEntry(dir, "rdf-turtle", wrongResult); why == "" {
+		t.Error("an eval test against the wrong expected graph passed")
+	}
+	validAsNegative := manifestEntry{name: "IRI_subject", typ: "TestTurtleNegativeSyntax", action: home + "IRI_subject.ttl"}
+	if why := runEntry(dir, "rdf-turtle", validAsNegative); why == "" {
+		t.Error("a valid file run as a negative syntax test passed")
+	}
+	invalidAsPositive := manifestEntry{name: "bad", typ: "TestTurtlePositiveSyntax", action: home + "turtle-syntax-bad-struct-01.ttl"}
+	if why := runEntry(dir, "rdf-turtle", invalidAsPositive); why == "" {
+		t.Error("an invalid file run as a positive syntax test passed")
+	}
+}
