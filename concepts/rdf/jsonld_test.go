@@ -53,6 +53,26 @@ ex:cat a skos:Concept ; skos:inScheme ex:s ; skos:broader ex:animal ;
 <http://ex.org/rel> skos:related ex:cat .
 `
 
+func TestReadJSONLDSameGraphAsTurtle(t *testing.T) {
+	got, err := readJSONLDAll(t, skosJSONLD)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var want []Triple
+	if err := ReadTurtle(strings.NewReader(skosTurtle), Options{File: "v.ttl"}, func(tr Triple) error {
+		want = append(want, tr)
+		return nil
+	}); err != nil {
+		t.Fatal(err)
+	}
+	if len(got) != 15 || len(want) != 15 {
+		t.Errorf("got %d triples from JSON-LD and %d from Turtle, want 15 each", len(got), len(want))
+	}
+	if ok, why := Isomorphic(got, want); !ok {
+		t.Errorf("JSON-LD and Turtle graphs differ: %s\nJSON-LD:\n%s", why, joinTriples(got))
+	}
+}
+
 func joinTriples(ts []Triple) string {
 	lines := make([]string, len(ts))
 	for i, tr := range ts {
