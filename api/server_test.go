@@ -267,6 +267,21 @@ func TestGetGapReport(t *testing.T) {
 	wantCode(t, err, codes.InvalidArgument, "limit")
 	_, err = ts.c.GetGapReport(ctxT(t), &pb.GetGapReportRequest{Model: "x"})
 	wantCode(t, err, codes.NotFound)
+
+	// With the report package wired in.
+	ts = startServer(t, Config{Gaps: ReportGaps{}}, nil)
+	g, err := ts.c.GetGapReport(ctxT(t), &pb.GetGapReportRequest{Limit: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The tiny model's free topic is about weather and rain.
+	if g.GetModel() != "tiny" || len(g.GetUncoveredThemes()) != 1 || len(g.GetUncoveredThemes()[0].GetTopWords()) == 0 ||
+		g.GetUncoveredThemes()[0].GetTopWords()[0].GetTerm() != "weather" {
+		t.Fatalf("gap report %v", g)
+	}
+	if len(g.GetUnusedConcepts()) > 1 || len(g.GetCandidateLabels()) > 1 {
+		t.Fatalf("limit 1 not applied: %v", g)
+	}
 }
 
 func TestResourceExhausted(t *testing.T) {
