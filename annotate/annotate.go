@@ -22,12 +22,16 @@
 //	n_dk·φ_kw  sparse in the record: summed over its current topics only.
 //
 // so a draw costs O(topics in the record), whatever K is. Several burn-in
-// sweeps are followed by sampling sweeps in which each token's exact
-// conditional (not just its draw) is accumulated (Rao–Blackwellised), per
-// word type: occurrences of one word in one text are exchangeable, so they
-// share a posterior. Scores are the record's topic proportions
-// θ_k = (1/N) Σ_i p(z_i = k), so concept scores plus the uncovered share
-// (free topics) sum to 1.
+// sweeps are followed by sampling sweeps. Scores are the record's topic
+// proportions averaged over those sweeps,
+//
+//	θ_k = mean_s (n_dk + α_k) / (N + Σ_k α_k)
+//
+// (the usual estimate, Griffiths & Steyvers 2004), so concept scores plus
+// the uncovered share (free topics) sum to 1. For the words, each token's
+// exact conditional (not just its draw) is accumulated (Rao–Blackwellised)
+// per word type: occurrences of one word in one text are exchangeable, so
+// they share a posterior.
 //
 // The random seed is a hash of the model's checksum, the text and the
 // options, so the same model and text always give the same result, whatever
@@ -151,18 +155,21 @@ type Word struct {
 
 // Annotator annotates texts with one model. It is safe for concurrent use.
 type Annotator struct {
-	m      *model.Model
-	an     *terms.Analyzer
-	langs  map[string]bool // the model's languages, lower-case, with their base tags
-	seed   [32]byte
-	K, C   int
-	alpha  []float64
-	phi0   []float64 // φ⁰_k
-	dense  alias     // over α_k·φ⁰_k
-	q      float64   // Σ_k α_k·φ⁰_k
-	qFree  float64   // Σ_{k ≥ C} α_k·φ⁰_k
-	order  []int32   // topics by α_k·φ⁰_k, largest first
-	labels []string  // concept prefLabels in the main language
+	m                   *model.Model
+	an                  *terms.Analyzer
+	langs               map[string]bool // the model's languages, lower-case, with their base tags
+	seed                [32]byte
+	K, C                int
+	alpha               []float64
+	phi0                []float64 // φ⁰_k
+	invDen              []float64 // 1/(n_k + B_k)
+	dense               alias     // over α_k·φ⁰_k
+	q                   float64   // Σ_k α_k·φ⁰_k
+	qFree               float64   // Σ_{k ≥ C} α_k·φ⁰_k
+	order               []int32   // topics by α_k·φ⁰_k, largest first
+	corder              []int32   // concepts by α_k, largest first
+	sumAlpha, freeAlpha float64   // Σ_k α_k, Σ_{k ≥ C} α_k
+	labels              []string  // concept prefLabels in the main language
 
 	// Per word w, entries off[w]..off[w+1] list the topics with s_kw > 0,
 	// sorted by topic, e.g. topic [3 17] s [0.01 0.2] for a word that concept
@@ -195,7 +202,7 @@ func New(m *model.Model) (*Annotator, error) {
 	}
 	K, C, W := m.K(), m.C, len(m.Words)
 	a := &Annotator{m: m, an: an, seed: sum, K: K, C: C, alpha: m.Alpha,
-		phi0: make([]float64, K), langs: map[string]bool{}}
+		phi0: make([]float64, K), invDen: make([]float64, K), langs: map[string]bool{}}
 	for _, l := range m.Analyzer.Languages {
 		l = strings.ToLower(l)
 		a.langs[l] = true
@@ -209,6 +216,7 @@ func New(m *model.Model) (*Annotator, error) {
 	for k := 0; k < K; k++ {
 		den[k] = float64(m.Totals[k]) + m.BetaSum(k)
 		a.phi0[k] = m.Beta0 / den[k]
+		a.invDen[k] = 1 / den[k]
 		dw[k] = a.alpha[k] * a.phi0[k]
 		a.q += dw[k]
 		if k >= C {
@@ -221,6 +229,17 @@ func New(m *model.Model) (*Annotator, error) {
 		a.order[k] = int32(k)
 	}
 	sort.SliceStable(a.order, func(i, j int) bool { return dw[a.order[i]] > dw[a.order[j]] })
+	a.corder = make([]int32, C)
+	for k := range a.corder {
+		a.corder[k] = int32(k)
+	}
+	sort.SliceStable(a.corder, func(i, j int) bool { return a.alpha[a.corder[i]] > a.alpha[a.corder[j]] })
+	for k, al := range a.alpha {
+		a.sumAlpha += al
+		if k >= C {
+			a.freeAlpha += al
+		}
+	}
 	lang := ""
 	if len(m.Analyzer.Languages) > 0 {
 		lang = strings.ToLower(m.Analyzer.Languages[0])
@@ -352,12 +371,39 @@ func (a *Annotator) find(w int, k int32) (int32, bool) {
 	return lo, lo < a.off[w+1] && a.topic[lo] == k
 }
 
-// sv returns s_kw.
+// sv returns s_kw = (n_kw + λ·π_kw)/(n_k + B_k), searching topic k's
+// rows: they are short and compact, where a common word's list is long.
 func (a *Annotator) sv(w int, k int32) float64 {
-	if i, ok := a.find(w, k); ok {
-		return a.s[i]
+	row := a.m.Counts[k]
+	lo, hi := 0, len(row)
+	for lo < hi {
+		mid := int(uint(lo+hi) >> 1)
+		if int(row[mid].Word) < w {
+			lo = mid + 1
+		} else {
+			hi = mid
+		}
 	}
-	return 0
+	num := 0.0
+	if lo < len(row) && int(row[lo].Word) == w {
+		num = float64(row[lo].Count)
+	}
+	if int(k) < len(a.m.Prior) {
+		pr := a.m.Prior[k]
+		lo, hi := 0, len(pr)
+		for lo < hi {
+			mid := int(uint(lo+hi) >> 1)
+			if int(pr[mid].Word) < w {
+				lo = mid + 1
+			} else {
+				hi = mid
+			}
+		}
+		if lo < len(pr) && int(pr[lo].Word) == w {
+			num += a.m.Lambda * pr[lo].Weight
+		}
+	}
+	return num * a.invDen[k]
 }
 
 // Annotate analyses text and infers its concepts. Empty text gives an empty
@@ -416,17 +462,23 @@ func baseTag(l string) string {
 // state is the scratch space of one annotation, reused through a pool.
 // Dense per-topic arrays are cleared through the lists of touched topics.
 type state struct {
-	toks []terms.Token
-	ndk  []int32   // K: tokens of the record on topic k
-	ext  []float64 // K: extra α of topic k routed through the record part
-	slot []int32   // K: k's slot, -1 when none
-	th   []float64 // K: θ accumulation
+	toks  []terms.Token
+	ndk   []int32   // K: tokens of the record on topic k
+	ext   []float64 // K: extra α of topic k routed through the record part
+	slot  []int32   // K: k's slot, -1 when none
+	th    []float64 // K: θ accumulation
+	agg   []float64 // C: descendants' scores, cleared through aggT
+	mark  []uint32  // C: visit stamps of the hierarchy walks
+	gen   uint32
+	aggT  []int32
+	stack []int32
 
 	slotTopic []int32     // slot → topic
 	pos       []int32     // slot → position in act, -1 when inactive
 	act       []int32     // active slots: ndk > 0 or ext > 0
 	sval      [][]float64 // slot → per word type s_kw (NaN: not looked up yet)
 	acc       [][]float64 // slot → per word type Σ p(z = k)
+	nacc      []float64   // slot → Σ over sampling sweeps of n_dk
 	touched   []int32
 
 	uw    []int32   // word type u → word id
@@ -444,7 +496,7 @@ func (a *Annotator) get() *state {
 		return st
 	}
 	st := &state{ndk: make([]int32, a.K), ext: make([]float64, a.K), slot: make([]int32, a.K),
-		th: make([]float64, a.K), uOf: map[int32]int32{}}
+		th: make([]float64, a.K), agg: make([]float64, a.C), mark: make([]uint32, a.C), uOf: map[int32]int32{}}
 	for k := range st.slot {
 		st.slot[k] = -1
 	}
@@ -459,8 +511,12 @@ func (a *Annotator) put(st *state) {
 		st.th[k] = 0
 	}
 	st.touched = st.touched[:0]
+	for _, k := range st.aggT {
+		st.agg[k] = 0
+	}
+	st.aggT = st.aggT[:0]
 	st.slotTopic, st.pos, st.act = st.slotTopic[:0], st.pos[:0], st.act[:0]
-	st.sval, st.acc = st.sval[:0], st.acc[:0]
+	st.sval, st.acc, st.nacc = st.sval[:0], st.acc[:0], st.nacc[:0]
 	st.uw, st.ucnt, st.cacc, st.tu, st.z = st.uw[:0], st.ucnt[:0], st.cacc[:0], st.tu[:0], st.z[:0]
 	clear(st.uOf)
 	if cap(st.toks) > 1<<16 {
@@ -485,7 +541,17 @@ func (a *Annotator) slotOf(st *state, k int32) int32 {
 	}
 	st.sval = append(st.sval, sv)
 	st.acc = append(st.acc, make([]float64, U))
+	st.nacc = append(st.nacc, 0)
 	return s
+}
+
+// nextGen starts a new hierarchy walk.
+func (st *state) nextGen() {
+	st.gen++
+	if st.gen == 0 { // wrapped: old stamps could collide
+		clear(st.mark)
+		st.gen = 1
+	}
 }
 
 func (st *state) activate(s int32) {
@@ -626,6 +692,11 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 			st.ndk[k]++
 			st.activate(a.slotOf(st, k))
 		}
+		if record {
+			for _, s := range st.act {
+				st.nacc[s] += float64(st.ndk[st.slotTopic[s]])
+			}
+		}
 	}
 	a.summarise(res, text, toks, opt, st, float64(samples))
 	return res, nil
@@ -706,49 +777,39 @@ func (a *Annotator) freePost(st *state, u int32, samples float64) float64 {
 // summarise turns the accumulators into scores, paths, supports and words.
 func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt Options, st *state, samples float64) {
 	N := float64(len(st.tu))
-	touch := func(k int32) {
-		if st.th[k] == 0 {
-			st.touched = append(st.touched, k)
+	// θ_k = mean over sampling sweeps of (n_dk + α'_k) / (N + Σα'), where α'
+	// is α as the options changed it (restricted: α of the allowed topics
+	// only; boosted: plus the subjects' extra).
+	alphaP := func(k int32) float64 {
+		if st.allow {
+			return st.ext[k]
+		}
+		return a.alpha[k] + st.ext[k]
+	}
+	sumA, freeA := a.sumAlpha, a.freeAlpha
+	if st.allow {
+		sumA, freeA = 0, 0
+	}
+	for _, k := range st.slotTopic {
+		sumA += st.ext[k]
+		if int(k) >= a.C {
+			freeA += st.ext[k]
 		}
 	}
-	// Record part: Σ_u acc[s][u] / (N·samples).
+	norm := 1 / (N + sumA)
+	unc := freeA
 	for s, k := range st.slotTopic {
-		t := 0.0
-		for _, v := range st.acc[s] {
-			t += v
-		}
-		if t > 0 {
-			touch(k)
-			st.th[k] += t / (N * samples)
-		}
-	}
-	// α·φ part: Σ_u g_u α_k (φ⁰_k + s_kw) with g_u = cacc_u / (A_w·N·samples).
-	G := 0.0
-	if !st.allow {
-		for u, w := range st.uw {
-			g := st.cacc[u] / (a.aw[w] * N * samples)
-			if g == 0 {
-				continue
-			}
-			G += g
-			for i := a.off[w]; i < a.off[w+1]; i++ {
-				k := a.topic[i]
-				touch(k)
-				st.th[k] += g * a.alpha[k] * a.s[i]
-			}
-		}
-	}
-	score := func(k int32) float64 { return st.th[k] + G*a.alpha[k]*a.phi0[k] }
-	unc := G * a.qFree
-	for _, k := range st.touched {
+		st.th[k] = st.nacc[s] / samples
+		st.touched = append(st.touched, k)
 		if int(k) >= a.C {
 			unc += st.th[k]
 		}
 	}
-	res.Uncovered = unc
+	res.Uncovered = unc * norm
+	score := func(k int32) float64 { return (st.th[k] + alphaP(k)) * norm }
 
-	// Rank: touched concepts, plus the untouched ones in the order of
-	// α_k·φ⁰_k (their score is exactly G·α_k·φ⁰_k).
+	// Rank: the record's concepts, plus the others in the order of α_k
+	// (their score is α_k/(N + Σα)).
 	top := opt.Top
 	if top == 0 {
 		top = DefaultTop
@@ -758,29 +819,25 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 	}
 	want := max(top, min(pathPool, a.C))
 	var cand []int32
-	for _, k := range st.touched {
-		if int(k) < a.C && st.th[k] > 0 {
+	for _, k := range st.slotTopic {
+		if int(k) < a.C {
 			cand = append(cand, k)
 		}
 	}
-	extra := 0
-	if G > 0 {
-		for _, k := range a.order {
+	if !st.allow {
+		extra := 0
+		for _, k := range a.corder {
 			if extra >= want {
 				break
 			}
-			if int(k) < a.C && st.th[k] == 0 {
+			if st.slot[k] < 0 {
 				cand = append(cand, k)
 				extra++
 			}
 		}
 	}
-	sc := make(map[int32]float64, len(cand))
-	for _, k := range cand {
-		sc[k] = score(k)
-	}
 	sort.Slice(cand, func(i, j int) bool {
-		si, sj := sc[cand[i]], sc[cand[j]]
+		si, sj := score(cand[i]), score(cand[j])
 		if si != sj {
 			return si > sj
 		}
@@ -790,59 +847,54 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 		cand = cand[:want]
 	}
 	pool := cand
-	shown := cand[:min(top, len(cand))]
+	shown := slices.Clone(cand[:min(top, len(cand))])
 	n := 0
 	for _, k := range shown {
-		if sc[k] >= opt.MinScore {
+		if score(k) >= opt.MinScore {
 			shown[n] = k
 			n++
 		}
 	}
 	shown = shown[:n]
 
-	// Aggregated scores: own plus the descendants among pool.
-	agg := map[int32]float64{}
-	ownOf := func(k int32) float64 {
-		if v, ok := sc[k]; ok {
-			return v
-		}
-		v := score(k)
-		sc[k] = v
-		return v
-	}
-	seen := map[int32]bool{}
-	var stack []int32
+	// Aggregated scores: own plus the descendants among pool. Each pool
+	// concept adds its score once to every ancestor (poly-hierarchy: once,
+	// however many routes lead up).
 	for _, c := range pool {
-		clear(seen)
-		stack = append(stack[:0], c)
-		seen[c] = true
-		for len(stack) > 0 {
-			x := stack[len(stack)-1]
-			stack = stack[:len(stack)-1]
+		st.nextGen()
+		st.stack = append(st.stack[:0], c)
+		st.mark[c] = st.gen
+		sc := score(c)
+		for len(st.stack) > 0 {
+			x := st.stack[len(st.stack)-1]
+			st.stack = st.stack[:len(st.stack)-1]
 			if x != c {
-				agg[x] += sc[c]
+				if st.agg[x] == 0 {
+					st.aggT = append(st.aggT, x)
+				}
+				st.agg[x] += sc
 			}
 			for _, p := range a.m.Scheme.Concepts[x].Broader {
-				if !seen[int32(p)] {
-					seen[int32(p)] = true
-					stack = append(stack, int32(p))
+				if st.mark[p] != st.gen {
+					st.mark[p] = st.gen
+					st.stack = append(st.stack, int32(p))
 				}
 			}
 		}
 	}
-	aggOf := func(k int32) float64 { return ownOf(k) + agg[k] }
+	aggOf := func(k int32) float64 { return score(k) + st.agg[k] }
 
 	for _, k := range shown {
-		c := Concept{IRI: a.m.Scheme.Concepts[k].IRI, Label: a.labels[k], Score: sc[k]}
+		c := Concept{IRI: a.m.Scheme.Concepts[k].IRI, Label: a.labels[k], Score: score(k)}
 		// Walk up through the broader concept with most aggregated mass.
 		var path []PathNode
-		clear(seen)
+		st.nextGen()
 		for x := k; ; {
-			seen[x] = true
+			st.mark[x] = st.gen
 			path = append(path, PathNode{IRI: a.m.Scheme.Concepts[x].IRI, Label: a.labels[x], Score: aggOf(x)})
 			bp, bv := int32(-1), -1.0
 			for _, p := range a.m.Scheme.Concepts[x].Broader {
-				if seen[int32(p)] {
+				if st.mark[p] == st.gen {
 					continue
 				}
 				if v := aggOf(int32(p)); v > bv || (v == bv && int32(p) < bp) {
@@ -856,7 +908,7 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 		}
 		slices.Reverse(path)
 		c.Path = path
-		c.Support = a.support(st, k, sc[k]*N, samples)
+		c.Support = a.support(st, k, samples)
 		res.Concepts = append(res.Concepts, c)
 	}
 
@@ -865,15 +917,23 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 	}
 }
 
-// support lists the terms carrying most of concept k's mass (mass = θ_k·N).
-func (a *Annotator) support(st *state, k int32, mass, samples float64) []Support {
+// support lists the terms carrying most of concept k's share of the
+// record's words: weight = Σ over the term's occurrences of p(z = k),
+// divided by that sum over all words.
+func (a *Annotator) support(st *state, k int32, samples float64) []Support {
+	st.buf = st.buf[:0]
+	mass := 0.0
+	for u := range st.uw {
+		v := float64(st.ucnt[u]) * a.post(st, int32(u), k, samples)
+		st.buf = append(st.buf, v)
+		mass += v
+	}
 	if mass <= 0 {
 		return nil
 	}
 	var out []Support
 	for u, w := range st.uw {
-		wt := float64(st.ucnt[u]) * a.post(st, int32(u), k, samples) / mass
-		if wt >= minSupport {
+		if wt := st.buf[u] / mass; wt >= minSupport {
 			out = append(out, Support{Term: a.m.Words[w], Weight: wt})
 		}
 	}

@@ -32,7 +32,7 @@ type Options struct {
 // (each concept's broader concept drawn among the earlier ones, about one in
 // fifty concepts a top concept, one in ten with a second broader concept),
 // Zipf-distributed word frequencies, sparse count rows whose words include
-// the concept's label terms, and α favouring concepts with more tokens.
+// the concept's label terms, and α (Σα = 10) in proportion to the topics' tokens.
 // Word i is the term "w<i>"; concept i has IRI "http://example.org/c/<i>"
 // and the English prefLabel "concept <i>".
 func Synthetic(o Options) *model.Model {
@@ -146,8 +146,16 @@ func Synthetic(o Options) *model.Model {
 		}
 		m.Counts[k] = row
 		m.Totals[k] = tot
-		m.Alpha[k] = 0.02 + float64(tot)/1e4
 		m.DocCounts[k] = int32(1 + tot/50)
+	}
+	// From memory, no source at hand: a learned α sums to units or tens
+	// whatever K is; here Σα = 10, shared in proportion to the topics' tokens.
+	var all int64
+	for _, t := range m.Totals {
+		all += t
+	}
+	for k, t := range m.Totals {
+		m.Alpha[k] = 1e-4 + 10*float64(t)/float64(all)
 	}
 	m.Provenance = model.Provenance{TermgroveVersion: "test", Created: "2026-12-01T00:00:00Z", Seed: int64(o.Seed), Options: map[string]string{"synthetic": "true"}}
 	return m

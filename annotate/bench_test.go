@@ -1,0 +1,108 @@
+package annotate
+
+import (
+	"fmt"
+	"math/rand/v2"
+	"runtime"
+	"slices"
+	"sync"
+	"testing"
+	"time"
+
+	"termgrove/model"
+	"termgrove/model/modeltest"
+	"termgrove/terms"
+)
+
+var benchModels sync.Map // K → *Annotator
+
+func benchAnnotator(b *testing.B, concepts, words int) *Annotator {
+	if a, ok := benchModels.Load(concepts); ok {
+		return a.(*Annotator)
+	}
+	t0 := time.Now()
+	m := modeltest.Synthetic(modeltest.Options{Concepts: concepts, Free: 50, Words: words, Seed: 1})
+	a, err := New(m)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.Logf("K=%d model built and prepared in %v", m.K(), time.Since(t0))
+	benchModels.Store(concepts, a)
+	return a
+}
+
+// benchRecord draws a 150-word record from three of the model's concept
+// topics and one free topic (60/20/10/10 %), by their count rows.
+func benchRecord(m *model.Model, r *rand.Rand) (string, []terms.Token) {
+	ks := []int{r.IntN(m.C), r.IntN(m.C), r.IntN(m.C), m.C + r.IntN(m.F)}
+	share := []float64{0.6, 0.2, 0.1, 0.1}
+	ids := make([]int32, 150)
+	for i := range ids {
+		k := ks[pick(r, share)]
+		row := m.Counts[k]
+		x := r.Int64N(m.Totals[k])
+		for _, e := range row {
+			if x < int64(e.Count) {
+				ids[i] = e.Word
+				break
+			}
+			x -= int64(e.Count)
+		}
+	}
+	return tokens(ids, m.Words)
+}
+
+// BenchmarkAnnotate: single-core latency for a 150-word record, with
+// synthetic models of 640 and 117,659 concepts (+50 free topics).
+// Reports the median and 99th percentile over b.N distinct records.
+func BenchmarkAnnotate(b *testing.B) {
+	for _, c := range []struct{ concepts, words int }{{640, 20000}, {117659, 100000}} {
+		b.Run(fmt.Sprintf("K=%d", c.concepts+50), func(b *testing.B) {
+			a := benchAnnotator(b, c.concepts, c.words)
+			r := rand.New(rand.NewPCG(7, 7))
+			type rec struct {
+				text string
+				toks []terms.Token
+			}
+			recs := make([]rec, 500)
+			for i := range recs {
+				recs[i].text, recs[i].toks = benchRecord(a.m, r)
+			}
+			lat := make([]time.Duration, 0, b.N)
+			opt := Options{IncludeWords: true}
+			b.ResetTimer()
+			for i := 0; i < b.N; i++ {
+				x := recs[i%len(recs)]
+				t0 := time.Now()
+				if _, err := a.AnnotateTokens("r", x.text+fmt.Sprint(i), x.toks, opt); err != nil {
+					b.Fatal(err)
+				}
+				lat = append(lat, time.Since(t0))
+			}
+			b.StopTimer()
+			slices.Sort(lat)
+			b.ReportMetric(float64(lat[len(lat)/2].Microseconds()), "median-µs")
+			b.ReportMetric(float64(lat[len(lat)*99/100].Microseconds()), "p99-µs")
+		})
+	}
+}
+
+// TestMemory117k reports the heap of an annotator over the 117k-concept
+// synthetic model (run with -run Memory117k -v; skipped with -short).
+func TestMemory117k(t *testing.T) {
+	if testing.Short() || !testing.Verbose() {
+		t.Skip("memory figure: run with -v")
+	}
+	runtime.GC()
+	var m0, m1 runtime.MemStats
+	runtime.ReadMemStats(&m0)
+	m := modeltest.Synthetic(modeltest.Options{Concepts: 117659, Free: 50, Words: 100000, Seed: 1})
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	runtime.GC()
+	runtime.ReadMemStats(&m1)
+	t.Logf("model + annotator heap: %.0f MiB", float64(m1.HeapAlloc-m0.HeapAlloc)/(1<<20))
+	runtime.KeepAlive(a)
+}
