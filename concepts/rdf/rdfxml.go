@@ -82,6 +82,7 @@ type posReader struct {
 	need       int   // continuation bytes still expected in the current rune
 	lo, hi     byte  // allowed range of the next continuation byte
 	bad        bool  // an invalid byte sequence was met
+	ioErr      error // a read error of the underlying reader, not EOF
 	// bline, bcol locate the first byte of the current (or the invalid)
 	// UTF-8 sequence.
 	bline, bcol int
@@ -97,6 +98,9 @@ func (p *posReader) ReadByte() (byte, error) {
 			p.bad = true
 			p.bline, p.bcol = p.line, p.col
 			return 0, errBadUTF8
+		}
+		if err != io.EOF {
+			p.ioErr = err
 		}
 		return b, err
 	}
@@ -288,7 +292,11 @@ func (p *xmlParser) decodeErr(err error) error {
 		}
 		return &ParseError{File: p.opt.File, Line: line, Col: col, Msg: "XML: " + msg, Err: ErrSyntax}
 	}
-	return &ParseError{File: p.opt.File, Line: line, Col: col, Msg: err.Error(), Err: fmt.Errorf("%w: %w", ErrIO, err)}
+	if p.pos.ioErr != nil {
+		return &ParseError{File: p.opt.File, Line: line, Col: col, Msg: err.Error(), Err: fmt.Errorf("%w: %w", ErrIO, err)}
+	}
+	// The decoder's other complaints (XML version, charset) are about the text.
+	return &ParseError{File: p.opt.File, Line: line, Col: col, Msg: strings.TrimPrefix(err.Error(), "xml: "), Err: ErrSyntax}
 }
 
 // next reads one token. Start tags come back as an element with namespaces
@@ -581,6 +589,9 @@ func (p *xmlParser) nodeElement(e *element) (Term, error) {
 			if a.ns == "" {
 				return Term{}, p.errEl(e, "attribute %q has no namespace", a.local)
 			}
+			if err := p.absolute(e, a.iri()); err != nil {
+				return Term{}, err
+			}
 			props = append(props, propAttr{a.iri(), a.value})
 			continue
 		}
@@ -599,7 +610,11 @@ func (p *xmlParser) nodeElement(e *element) (Term, error) {
 			subj = Term{Kind: Blank, Value: nodeIDLabel(a.value)}
 			idSet++
 		case "about":
-			subj = Term{Kind: IRI, Value: ResolveIRI(e.base, a.value)}
+			iri := ResolveIRI(e.base, a.value)
+			if err := p.absolute(e, iri); err != nil {
+				return Term{}, err
+			}
+			subj = Term{Kind: IRI, Value: iri}
 			idSet++
 		case "type":
 			typeAttr = a
@@ -618,12 +633,19 @@ func (p *xmlParser) nodeElement(e *element) (Term, error) {
 		subj = p.newBlank()
 	}
 	if !(e.ns == rdfNS && e.local == "Description") {
+		if err := p.absolute(e, e.iri()); err != nil {
+			return Term{}, err
+		}
 		if err := p.triple(subj, rdfType, Term{Kind: IRI, Value: e.iri()}); err != nil {
 			return Term{}, err
 		}
 	}
 	if typeAttr != nil {
-		if err := p.triple(subj, rdfType, Term{Kind: IRI, Value: ResolveIRI(e.base, typeAttr.value)}); err != nil {
+		iri := ResolveIRI(e.base, typeAttr.value)
+		if err := p.absolute(e, iri); err != nil {
+			return Term{}, err
+		}
+		if err := p.triple(subj, rdfType, Term{Kind: IRI, Value: iri}); err != nil {
 			return Term{}, err
 		}
 	}
@@ -672,6 +694,8 @@ func (p *xmlParser) propertyElt(subj Term, e *element, li *int) error {
 		case isCoreSyntaxTerm(e.local) || e.local == "Description" || isOldTerm(e.local):
 			return p.errEl(e, "rdf:%s is not allowed as a property element", e.local)
 		}
+	} else if err := p.absolute(e, pred); err != nil {
+		return err
 	}
 	var (
 		id, parseType, resource, nodeID, datatype *attr
@@ -686,6 +710,9 @@ func (p *xmlParser) propertyElt(subj Term, e *element, li *int) error {
 		if !isRDF {
 			if a.ns == "" {
 				return p.errEl(e, "attribute %q has no namespace", a.local)
+			}
+			if err := p.absolute(e, a.iri()); err != nil {
+				return err
 			}
 			props = append(props, propAttr{a.iri(), a.value})
 			continue
@@ -777,7 +804,11 @@ func (p *xmlParser) propertyElt(subj Term, e *element, li *int) error {
 				}
 				obj := p.plain(p.text.String(), e.lang)
 				if datatype != nil {
-					obj = Term{Kind: Literal, Value: p.text.String(), Datatype: ResolveIRI(e.base, datatype.value)}
+					dt := ResolveIRI(e.base, datatype.value)
+					if err := p.absolute(e, dt); err != nil {
+						return err
+					}
+					obj = Term{Kind: Literal, Value: p.text.String(), Datatype: dt}
 				}
 				return p.stated(subj, pred, obj, reif)
 			}
@@ -799,6 +830,9 @@ func (p *xmlParser) emptyPropertyElt(subj Term, pred string, e *element, reif st
 		return p.errEl(e, "rdf:resource and rdf:nodeID on one property element")
 	case resource != nil:
 		obj = Term{Kind: IRI, Value: ResolveIRI(e.base, resource.value)}
+		if err := p.absolute(e, obj.Value); err != nil {
+			return err
+		}
 	case nodeID != nil:
 		obj = Term{Kind: Blank, Value: nodeIDLabel(nodeID.value)}
 	default:
@@ -811,6 +845,9 @@ func (p *xmlParser) emptyPropertyElt(subj Term, pred string, e *element, reif st
 		o := p.plain(a.value, e.lang)
 		if a.pred == rdfType {
 			o = Term{Kind: IRI, Value: ResolveIRI(e.base, a.value)}
+			if err := p.absolute(e, o.Value); err != nil {
+				return err
+			}
 		}
 		if err := p.triple(obj, a.pred, o); err != nil {
 			return err
@@ -1077,11 +1114,27 @@ func (p *xmlParser) idIRI(e *element, id string) (string, error) {
 		return "", p.errEl(e, "rdf:ID %q is not an XML NCName", id)
 	}
 	iri := ResolveIRI(e.base, "#"+id)
+	if err := p.absolute(e, iri); err != nil {
+		return "", err
+	}
 	if _, dup := p.ids[iri]; dup {
 		return "", p.errEl(e, "rdf:ID %q used twice (IRI <%s>)", id, iri)
 	}
 	p.ids[iri] = struct{}{}
 	return iri, nil
+}
+
+// absolute checks an IRI made from the document: RDF graphs hold only
+// absolute IRIs (RDF 1.1 Concepts §3.2), and the characters N-Triples cannot
+// write in an IRI are refused as the Turtle reader refuses them.
+func (p *xmlParser) absolute(e *element, iri string) error {
+	if IsAbsoluteIRI(iri) {
+		return nil
+	}
+	if !hasScheme(iri) {
+		return p.errEl(e, "relative IRI <%s> and no base IRI to resolve it against", iri)
+	}
+	return p.errEl(e, "IRI <%s> holds a character an IRI may not contain", iri)
 }
 
 // stated emits s p o and, when reif names an rdf:ID, its reification

@@ -1,9 +1,8 @@
 package rdf
 
 import (
+	"bytes"
 	"errors"
-	"os"
-	"path/filepath"
 	"sort"
 	"strings"
 	"testing"
@@ -243,6 +242,12 @@ func TestReadRDFXMLBadInput(t *testing.T) {
 			line: 2, col: 25, msg: "after text",
 		},
 		{
+			// Source: RDF 1.1 Concepts §3.2: IRIs in an RDF graph are absolute.
+			name: "relative IRI and no base",
+			doc:  xmlHead + "<rdf:Description rdf:about=\"a\"/>",
+			line: 2, col: 1, msg: "relative IRI <a>",
+		},
+		{
 			name: "empty file",
 			doc:  "",
 			line: 1, col: 1, msg: "no RDF/XML root element",
@@ -282,24 +287,38 @@ func TestReadRDFXMLCallbackError(t *testing.T) {
 	}
 }
 
-// FuzzRDFXML checks that no input panics and every failure is a *ParseError.
+// FuzzRDFXML checks that no input panics, every failure is a *ParseError
+// with a position, and what parses survives a round trip through N-Triples.
 func FuzzRDFXML(f *testing.F) {
 	// Source: W3C RDF 1.1 RDF/XML test suite inputs as seeds.
-	seeds, _ := filepath.Glob(filepath.Join(conformanceXMLDir, "*", "*.rdf"))
-	for _, s := range seeds {
-		if b, err := os.ReadFile(s); err == nil {
-			f.Add(b)
-		}
-	}
+	addConformanceSeeds(f, ".rdf")
 	f.Add([]byte(xmlHead + "<rdf:Description/></rdf:RDF>"))
 	f.Fuzz(func(t *testing.T, b []byte) {
-		err := ReadRDFXML(strings.NewReader(string(b)), Options{Base: "http://ex.org/d"}, func(Triple) error { return nil })
-		var pe *ParseError
-		if err != nil && !errors.As(err, &pe) {
-			t.Fatalf("error %v (%T) is not a *ParseError", err, err)
-		}
+		var ts []Triple
+		err := ReadRDFXML(bytes.NewReader(b), Options{Base: "http://ex.org/d"}, func(tr Triple) error {
+			ts = append(ts, tr)
+			return nil
+		})
+		checkFuzzResult(t, ts, err)
 	})
 }
 
-// conformanceXMLDir is the W3C RDF/XML suite shared by the project.
-const conformanceXMLDir = "../../../shared/conformance/rdf11/rdf-xml"
+// failingReader returns some bytes and then a read error.
+type failingReader struct{ data string }
+
+func (r *failingReader) Read(b []byte) (int, error) {
+	if r.data == "" {
+		return 0, errors.New("disk on fire")
+	}
+	n := copy(b, r.data)
+	r.data = r.data[n:]
+	return n, nil
+}
+
+func TestReadRDFXMLReadError(t *testing.T) {
+	err := ReadRDFXML(&failingReader{xmlHead + "<rdf:Description>"}, Options{File: "t.rdf"}, func(Triple) error { return nil })
+	var pe *ParseError
+	if !errors.As(err, &pe) || !errors.Is(err, ErrIO) || errors.Is(err, ErrSyntax) || !strings.Contains(err.Error(), "disk on fire") {
+		t.Errorf("got %v, want a *ParseError of kind ErrIO naming the cause", err)
+	}
+}
