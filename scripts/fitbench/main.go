@@ -25,6 +25,9 @@ import (
 	"syscall"
 	"time"
 
+	"encoding/binary"
+	"encoding/json"
+
 	"termgrove/fit"
 	"termgrove/prior"
 )
@@ -43,7 +46,26 @@ func main() {
 	holdout := flag.Float64("holdout", 0.05, "share of records in the test file with -export")
 	seed := flag.Uint64("seed", 1, "corpus seed")
 	prof := flag.String("cpuprofile", "", "write a CPU profile of the fits to FILE")
+	compare := flag.String("compare", "", "with PREFIX of -export and fitbench_gensim.py: score gensim's model and time termgrove to the same held-out figure")
+	compl := flag.String("completion", "", "with -records: document-completion perplexity of this MODEL.grove vs a unigram model")
+	compRecs := flag.String("records", "", "test records (JSON Lines) for -completion")
 	flag.Parse()
+	if *compl != "" {
+		if err := completion(*compl, *compRecs); err != nil {
+			fmt.Fprintln(os.Stderr, err)
+			os.Exit(1)
+		}
+		return
+	}
+	if *compare != "" {
+		K, _ := strconv.Atoi(strings.Split(*ks, ",")[0])
+		nw, _ := strconv.Atoi(strings.Split(*workers, ",")[0])
+		if err := compareGensim(*compare, *words, K, nw); err != nil {
+			fmt.Fprintln(os.Stderr, err)
+			os.Exit(1)
+		}
+		return
+	}
 	if *prof != "" {
 		f, err := os.Create(*prof)
 		if err == nil {
@@ -226,5 +248,100 @@ func writeBOW(prefix string, c *fit.Corpus, holdout float64) error {
 	tr.Close()
 	te.Close()
 	fmt.Printf("wrote %s.train.txt and %s.test.txt (W=%d)\n", prefix, prefix, c.W)
+	return nil
+}
+
+func readBOW(path string) ([][]int32, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	var docs [][]int32
+	sc := bufio.NewScanner(f)
+	sc.Buffer(make([]byte, 1<<20), 1<<26)
+	for sc.Scan() {
+		var d []int32
+		for _, x := range strings.Fields(sc.Text()) {
+			v, err := strconv.Atoi(x)
+			if err != nil {
+				return nil, fmt.Errorf("%s: %v", path, err)
+			}
+			d = append(d, int32(v))
+		}
+		docs = append(docs, d)
+	}
+	return docs, sc.Err()
+}
+
+// compareGensim scores gensim's exported model on the test records and then
+// fits termgrove on the same training records, scoring every few sweeps
+// (scoring time not counted) until it reaches gensim's held-out figure.
+func compareGensim(prefix string, W, K, workers int) error {
+	train, err := readBOW(prefix + ".train.txt")
+	if err != nil {
+		return err
+	}
+	test, err := readBOW(prefix + ".test.txt")
+	if err != nil {
+		return err
+	}
+	if len(test) > 300 {
+		test = test[:300]
+	}
+	raw, err := os.ReadFile(prefix + ".gensim.phi")
+	if err != nil {
+		return err
+	}
+	if len(raw) != 8*K*W {
+		return fmt.Errorf("%s.gensim.phi: %d bytes, want K*W*8 = %d", prefix, len(raw), 8*K*W)
+	}
+	phi := &fit.DensePhi{NumTopics: K, Words: W, P: make([]float64, K*W)}
+	for i := range phi.P {
+		phi.P[i] = math.Float64frombits(binary.LittleEndian.Uint64(raw[8*i:]))
+	}
+	ab, err := os.ReadFile(prefix + ".gensim.alpha")
+	if err != nil {
+		return err
+	}
+	var alpha []float64
+	for _, f := range strings.Fields(string(ab)) {
+		v, _ := strconv.ParseFloat(f, 64)
+		alpha = append(alpha, v)
+	}
+	var meta struct{ Seconds float64 }
+	if b, err := os.ReadFile(prefix + ".gensim.json"); err == nil {
+		json.Unmarshal(b, &meta)
+	}
+	lr := fit.LROptions{Particles: 10, Seed: 1, Workers: 2}
+	gll, n := fit.LeftToRight(phi, alpha, test, lr)
+	target := gll / float64(n)
+	fmt.Printf("gensim: %.1fs wall, held-out log-lik/token %.4f (%d records, %d tokens, R=10)\n", meta.Seconds, target, len(test), n)
+
+	c := &fit.Corpus{W: W}
+	for i, d := range train {
+		c.Docs = append(c.Docs, fit.Doc{ID: strconv.Itoa(i), Words: d})
+	}
+	b, err := fit.NewBench(nil, c, fit.Options{FreeTopics: K, Workers: workers, Seed: 1, Sweeps: 1 << 30, BurnIn: 10, OptimizeEvery: 5})
+	if err != nil {
+		return err
+	}
+	elapsed := b.InitSeconds
+	for sweep := 1; sweep <= 500; sweep++ {
+		t := time.Now()
+		b.Sweep()
+		elapsed += time.Since(t).Seconds()
+		if sweep%5 != 0 {
+			continue
+		}
+		m := b.Model()
+		ll, n := fit.LeftToRight(fit.ModelPhi(m), m.Alpha, test, lr)
+		fmt.Printf("termgrove: sweep %d, %.1fs wall, held-out log-lik/token %.4f\n", sweep, elapsed, ll/float64(n))
+		if ll/float64(n) >= target {
+			fmt.Printf("termgrove reached gensim's figure after %.1fs (gensim %.1fs): %.1fx sooner\n", elapsed, meta.Seconds, meta.Seconds/elapsed)
+			return nil
+		}
+	}
+	fmt.Println("termgrove did not reach gensim's figure in 500 sweeps")
 	return nil
 }
