@@ -56,12 +56,13 @@ func init() {
 // segmenter walks the UAX #29 word segments of a text with byte offsets into
 // it. Stretches between ASCII white space that are pure ASCII are segmented
 // by the rules of UAX #29 restricted to ASCII (WB5-WB13b) in a table-driven
-// loop; any stretch holding a non-ASCII byte is handed to uniseg. ASCII
-// white space always has a word boundary on its left (WB3a, WB3d and WB999
-// only join it to more white space), so the split is exact for words; it can
-// differ from UAX #29 only in attaching a combining mark that follows white
-// space (WB4), which never changes a word segment. Invalid UTF-8 bytes are
-// read as U+FFFD, a symbol, and so never end up inside a word.
+// loop; any stretch holding a non-ASCII byte is handed to uniseg, together
+// with the white space before it when a mark or format character could
+// attach to that (WB4), and past following spaces that WB3d then joins.
+// ASCII white space otherwise always has a word boundary on its left, so the
+// result equals uniseg over the whole text (TestSegmenterMatchesUniseg).
+// Invalid UTF-8 bytes are read as U+FFFD, a symbol, and so never end up
+// inside a word.
 type segmenter struct {
 	text       string
 	pos        int
@@ -84,6 +85,17 @@ func (g *segmenter) next() (start, end, kind int, ok bool) {
 	if p < g.stretchEnd {
 		if g.uni {
 			w, _, st := uniseg.FirstWordInString(t[p:g.stretchEnd], g.uniState)
+			for p+len(w) == g.stretchEnd && g.stretchEnd < len(t) && t[g.stretchEnd] == ' ' && startsWSegSpace(w) {
+				// White space, marks, then more spaces: WB3d joins them
+				// (WB4 ignores the marks), so read on past the spaces.
+				e := g.stretchEnd
+				for e < len(t) && t[e] == ' ' {
+					e++
+				}
+				g.startStretch(e)
+				g.uni = true
+				w, _, st = uniseg.FirstWordInString(t[p:g.stretchEnd], g.uniState)
+			}
 			g.uniState = st
 			g.pos = p + len(w)
 			return p, g.pos, classify(w), true
@@ -93,14 +105,21 @@ func (g *segmenter) next() (start, end, kind int, ok bool) {
 	c := t[p]
 	if c < utf8.RuneSelf {
 		switch asciiClass[c] {
-		case cSpace:
+		case cSpace, cTab:
 			e := p + 1
-			for e < len(t) && t[e] == ' ' {
+			for c == ' ' && e < len(t) && t[e] == ' ' {
 				e++
+			}
+			if e < len(t) && t[e] >= utf8.RuneSelf {
+				// A combining mark or format character may attach to
+				// the white space (WB4): let uniseg read both.
+				g.startStretch(e)
+				g.stretchStart(p)
+				return g.next()
 			}
 			g.pos = e
 			return p, e, segSoft, true
-		case cNewline, cTab:
+		case cNewline:
 			e := p + 1
 			if c == '\r' && e < len(t) && t[e] == '\n' {
 				e++
@@ -109,7 +128,14 @@ func (g *segmenter) next() (start, end, kind int, ok bool) {
 			return p, e, segSoft, true
 		}
 	}
-	// A new stretch up to the next ASCII white space.
+	g.startStretch(p)
+	return g.next()
+}
+
+// startStretch starts a stretch at p that runs to the next ASCII white
+// space; it goes through uniseg when it holds a non-ASCII byte.
+func (g *segmenter) startStretch(p int) {
+	t := g.text
 	e := p
 	ascii := true
 	for e < len(t) {
@@ -124,8 +150,11 @@ func (g *segmenter) next() (start, end, kind int, ok bool) {
 	g.stretchEnd = e
 	g.uni = !ascii
 	g.uniState = -1
-	return g.next()
 }
+
+// stretchStart moves the start of a uniseg stretch back to p (white space
+// that precedes it).
+func (g *segmenter) stretchStart(p int) { g.pos = p }
 
 // nextASCII segments inside a pure-ASCII stretch.
 func (g *segmenter) nextASCII(p int) (start, end, kind int, ok bool) {
@@ -193,4 +222,15 @@ func classify(s string) int {
 // isHyphen reports hyphen characters that join compound words (not dashes).
 func isHyphen(r rune) bool {
 	return r == '-' || r == '\u2010' || r == '\u2011' || r == '\u00AD'
+}
+
+// startsWSegSpace reports whether s starts with a Word_Break=WSegSpace
+// character (UAX #29: Zs characters other than no-break spaces).
+func startsWSegSpace(s string) bool {
+	r, _ := utf8.DecodeRuneInString(s)
+	switch r {
+	case ' ', '\u1680', '\u205F', '\u3000':
+		return true
+	}
+	return r >= '\u2000' && r <= '\u200A' && r != '\u2007'
 }
