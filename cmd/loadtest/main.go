@@ -1,0 +1,546 @@
+// Command loadtest drives a termgrove gRPC server on this machine with
+// annotation calls and reports throughput, latency percentiles and the
+// server's memory and goroutines. It only talks to loopback addresses, and
+// every run is bounded in time and in request count.
+//
+//	loadtest -make-model .cache/load/syn640.grove          # synthetic 640-concept model
+//	termgrove serve --model .cache/load/syn640.grove &
+//	loadtest -mode sweep -concurrency 1,8,64 -duration 10s -words-from .cache/load/syn640.grove
+//	loadtest -mode rate -rate 9000 -duration 60s -words-from .cache/load/syn640.grove
+//
+// Mode sweep runs closed loops (each worker sends its next call when the
+// previous one returns) at each concurrency. Mode rate sends calls at a fixed
+// rate whatever the answers (an open loop), as real overload does; latency
+// is measured from each call's scheduled start, so a client that falls
+// behind shows up in the figures rather than hiding them.
+package main
+
+import (
+	"bufio"
+	"context"
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"net"
+	"net/http"
+	"os"
+	"runtime"
+	"slices"
+	"strconv"
+	"strings"
+	"sync"
+	"sync/atomic"
+	"time"
+
+	"google.golang.org/grpc"
+	"google.golang.org/grpc/codes"
+	"google.golang.org/grpc/credentials/insecure"
+	"google.golang.org/grpc/status"
+
+	"termgrove/annotate"
+	"termgrove/model"
+	"termgrove/model/modeltest"
+	pb "termgrove/proto/termgrove/v1"
+)
+
+func main() {
+	os.Exit(run(os.Args[1:]))
+}
+
+type options struct {
+	addr, metrics, modelName string
+	mode                     string
+	conc                     []int
+	rate                     float64
+	duration                 time.Duration
+	maxRequests              int
+	conns                    int
+	words                    int
+	records                  int
+	wordsFrom, recordsFile   string
+	timeout                  time.Duration
+	jsonOut                  bool
+}
+
+func run(args []string) int {
+	fs := flag.NewFlagSet("loadtest", flag.ContinueOnError)
+	var o options
+	makeModel := fs.String("make-model", "", "write a synthetic model (-concepts concepts) to this path and exit")
+	concepts := fs.Int("concepts", 640, "concepts of the synthetic model")
+	fs.StringVar(&o.addr, "addr", "127.0.0.1:7400", "server gRPC address (loopback only)")
+	fs.StringVar(&o.metrics, "metrics", "127.0.0.1:7401", "server metrics address (loopback only; \"off\": no memory figures)")
+	fs.StringVar(&o.modelName, "model", "", "model name on the server")
+	fs.StringVar(&o.mode, "mode", "sweep", "sweep (closed loop per concurrency), rate (open loop at -rate), or local (the annotator in this process, no server: the reference)")
+	concList := fs.String("concurrency", "1,8,64", "sweep: concurrencies")
+	fs.Float64Var(&o.rate, "rate", 1000, "rate: calls per second")
+	fs.DurationVar(&o.duration, "duration", 10*time.Second, "time per step (at most 15m)")
+	fs.IntVar(&o.maxRequests, "max-requests", 5_000_000, "calls per step at most")
+	fs.IntVar(&o.conns, "conns", 4, "client connections")
+	fs.IntVar(&o.words, "words", 150, "words per record")
+	fs.IntVar(&o.records, "records", 2000, "distinct records to cycle through")
+	fs.StringVar(&o.wordsFrom, "words-from", "", "draw record words from this model file's fitted word frequencies")
+	fs.StringVar(&o.recordsFile, "records-file", "", "or take record texts from this JSON Lines file (title and text, cut to -words words)")
+	fs.DurationVar(&o.timeout, "timeout", 10*time.Second, "deadline of each call")
+	fs.BoolVar(&o.jsonOut, "json", false, "print results as JSON lines")
+	if err := fs.Parse(args); err != nil {
+		return 2
+	}
+	if *makeModel != "" {
+		m := modeltest.Synthetic(modeltest.Options{Concepts: *concepts, Free: 20, Words: 20000, Seed: 1})
+		if err := model.Save(*makeModel, m); err != nil {
+			fmt.Fprintln(os.Stderr, "loadtest:", err)
+			return 1
+		}
+		fmt.Printf("wrote %s: %d concepts, %d free topics, %d words\n", *makeModel, m.C, m.F, len(m.Words))
+		return 0
+	}
+	for _, a := range []string{o.addr, o.metrics} {
+		if a != "off" && !loopback(a) {
+			fmt.Fprintf(os.Stderr, "loadtest: %s is not a loopback address; refusing\n", a)
+			return 2
+		}
+	}
+	if o.duration <= 0 || o.duration > 15*time.Minute {
+		fmt.Fprintln(os.Stderr, "loadtest: -duration must be in (0, 15m]")
+		return 2
+	}
+	for _, s := range strings.Split(*concList, ",") {
+		n, err := strconv.Atoi(strings.TrimSpace(s))
+		if err != nil || n < 1 || n > 4096 {
+			fmt.Fprintf(os.Stderr, "loadtest: bad concurrency %q\n", s)
+			return 2
+		}
+		o.conc = append(o.conc, n)
+	}
+	texts, err := makeTexts(&o)
+	if err != nil {
+		fmt.Fprintln(os.Stderr, "loadtest:", err)
+		return 2
+	}
+	if o.mode == "local" {
+		if o.wordsFrom == "" {
+			fmt.Fprintln(os.Stderr, "loadtest: -mode local needs -words-from MODEL (the model to annotate with)")
+			return 2
+		}
+		m, err := model.Load(o.wordsFrom)
+		if err != nil {
+			fmt.Fprintln(os.Stderr, "loadtest:", err)
+			return 2
+		}
+		a, err := annotate.New(m)
+		if err != nil {
+			fmt.Fprintln(os.Stderr, "loadtest:", err)
+			return 2
+		}
+		fmt.Printf("# loadtest local (in-process annotator, no gRPC): %d records of %d words, GOMAXPROCS %d, %s\n",
+			len(texts), o.words, runtime.GOMAXPROCS(0), time.Now().UTC().Format(time.RFC3339))
+		for _, c := range o.conc {
+			report(&o, fmt.Sprintf("local concurrency=%d", c), localLoop(&o, a, texts, c))
+		}
+		return 0
+	}
+	conns := make([]pb.AnnotationServiceClient, o.conns)
+	for i := range conns {
+		cc, err := grpc.NewClient(o.addr, grpc.WithTransportCredentials(insecure.NewCredentials()))
+		if err != nil {
+			fmt.Fprintln(os.Stderr, "loadtest:", err)
+			return 2
+		}
+		defer cc.Close()
+		conns[i] = pb.NewAnnotationServiceClient(cc)
+	}
+	// Warm up: connections, the server's pools and caches.
+	ctx, cancel := context.WithTimeout(context.Background(), 30*time.Second)
+	for i := range 200 {
+		if _, err := conns[i%len(conns)].Annotate(ctx, &pb.AnnotateRequest{Model: o.modelName, Text: texts[i%len(texts)]}, grpc.WaitForReady(true)); err != nil {
+			fmt.Fprintln(os.Stderr, "loadtest: warm-up:", err)
+			cancel()
+			return 1
+		}
+	}
+	cancel()
+	fmt.Printf("# loadtest %s: %d records of %d words, %d conns, GOMAXPROCS %d, %s\n",
+		o.mode, len(texts), o.words, o.conns, runtime.GOMAXPROCS(0), time.Now().UTC().Format(time.RFC3339))
+	switch o.mode {
+	case "sweep":
+		for _, c := range o.conc {
+			report(&o, fmt.Sprintf("concurrency=%d", c), closedLoop(&o, conns, texts, c))
+		}
+	case "rate":
+		report(&o, fmt.Sprintf("rate=%.0f/s", o.rate), openLoop(&o, conns, texts))
+	default:
+		fmt.Fprintf(os.Stderr, "loadtest: unknown -mode %q\n", o.mode)
+		return 2
+	}
+	return 0
+}
+
+// loopback reports whether addr's host is a loopback IP or "localhost".
+func loopback(addr string) bool {
+	host, _, err := net.SplitHostPort(addr)
+	if err != nil {
+		return false
+	}
+	if host == "localhost" {
+		return true
+	}
+	ip := net.ParseIP(host)
+	return ip != nil && ip.IsLoopback()
+}
+
+// makeTexts returns the record texts to send.
+func makeTexts(o *options) ([]string, error) {
+	if o.recordsFile != "" {
+		f, err := os.Open(o.recordsFile)
+		if err != nil {
+			return nil, err
+		}
+		defer f.Close()
+		var out []string
+		sc := bufio.NewScanner(f)
+		sc.Buffer(make([]byte, 1<<20), 64<<20)
+		for sc.Scan() && len(out) < o.records {
+			var r struct{ Title, Text string }
+			if json.Unmarshal(sc.Bytes(), &r) != nil {
+				continue
+			}
+			w := strings.Fields(r.Title + " " + r.Text)
+			if len(w) < o.words/2 {
+				continue
+			}
+			if len(w) > o.words {
+				w = w[:o.words]
+			}
+			out = append(out, strings.Join(w, " "))
+		}
+		if len(out) == 0 {
+			return nil, fmt.Errorf("%s: no record with %d+ words", o.recordsFile, o.words/2)
+		}
+		return out, sc.Err()
+	}
+	if o.wordsFrom == "" {
+		return nil, errors.New("give -words-from MODEL or -records-file FILE")
+	}
+	m, err := model.Load(o.wordsFrom)
+	if err != nil {
+		return nil, err
+	}
+	// Records drawn like the fitted corpus: pick a few topics by token mass,
+	// then words by their counts in those topics.
+	cum := make([]float64, m.K())
+	var tot float64
+	for k, n := range m.Totals {
+		tot += float64(n)
+		cum[k] = tot
+	}
+	r := rand.New(rand.NewPCG(1, 2))
+	pick := func(c []float64) int {
+		x := r.Float64() * c[len(c)-1]
+		i, _ := slices.BinarySearch(c, x)
+		return min(i, len(c)-1)
+	}
+	out := make([]string, o.records)
+	for i := range out {
+		topics := []int{pick(cum), pick(cum), pick(cum), m.C + r.IntN(max(m.F, 1))}
+		var b strings.Builder
+		for j := range o.words {
+			k := topics[r.IntN(len(topics))]
+			if k >= m.K() {
+				k = topics[0]
+			}
+			row := m.Counts[k]
+			if len(row) == 0 {
+				continue
+			}
+			rc := make([]float64, len(row))
+			var s float64
+			for x, wc := range row {
+				s += float64(wc.Count)
+				rc[x] = s
+			}
+			if j > 0 {
+				b.WriteByte(' ')
+			}
+			b.WriteString(m.Words[row[pick(rc)].Word])
+		}
+		out[i] = b.String()
+	}
+	return out, nil
+}
+
+// result is what one step measured.
+type result struct {
+	Step       string         `json:"step"`
+	Seconds    float64        `json:"seconds"`
+	Sent       int            `json:"sent"`
+	OK         int            `json:"ok"`
+	Codes      map[string]int `json:"codes"`
+	OKPerSec   float64        `json:"ok_per_second"`
+	P50ms      float64        `json:"p50_ms"`
+	P90ms      float64        `json:"p90_ms"`
+	P99ms      float64        `json:"p99_ms"`
+	MaxMs      float64        `json:"max_ms"`
+	RejectP99  float64        `json:"rejected_p99_ms,omitempty"`
+	ClientLate int            `json:"client_late,omitempty"` // rate: calls not sent on time (client saturated)
+	Server     *serverStats   `json:"server,omitempty"`
+}
+
+// serverStats are samples of the server's own metrics during the step.
+type serverStats struct {
+	RSSStartMB, RSSMaxMB, RSSEndMB                float64
+	HeapStartMB, HeapMaxMB, HeapEndMB             float64
+	GoroutinesStart, GoroutinesMax, GoroutinesEnd float64
+	Samples                                       int
+}
+
+// recorder collects latencies of accepted and rejected calls.
+type recorder struct {
+	mu       sync.Mutex
+	ok       []time.Duration
+	rejected []time.Duration
+	codes    map[codes.Code]int
+	sent     atomic.Int64
+}
+
+func (r *recorder) add(d time.Duration, err error) {
+	c := status.Code(err)
+	r.mu.Lock()
+	if r.codes == nil {
+		r.codes = map[codes.Code]int{}
+	}
+	r.codes[c]++
+	if c == codes.OK {
+		r.ok = append(r.ok, d)
+	} else {
+		r.rejected = append(r.rejected, d)
+	}
+	r.mu.Unlock()
+}
+
+func pct(ds []time.Duration, p float64) float64 {
+	if len(ds) == 0 {
+		return 0
+	}
+	i := int(math.Ceil(p*float64(len(ds)))) - 1
+	return float64(ds[max(i, 0)]) / 1e6
+}
+
+func (r *recorder) result(step string, el time.Duration) result {
+	slices.Sort(r.ok)
+	slices.Sort(r.rejected)
+	res := result{Step: step, Seconds: el.Seconds(), Sent: int(r.sent.Load()), OK: len(r.ok), Codes: map[string]int{},
+		OKPerSec: float64(len(r.ok)) / el.Seconds(),
+		P50ms:    pct(r.ok, .5), P90ms: pct(r.ok, .9), P99ms: pct(r.ok, .99), MaxMs: pct(r.ok, 1), RejectP99: pct(r.rejected, .99)}
+	for c, n := range r.codes {
+		res.Codes[c.String()] = n
+	}
+	return res
+}
+
+// closedLoop runs c workers, each sending its next call when the last ends.
+func closedLoop(o *options, conns []pb.AnnotationServiceClient, texts []string, c int) result {
+	var rec recorder
+	stopMem := sampleServer(o)
+	start := time.Now()
+	end := start.Add(o.duration)
+	var wg sync.WaitGroup
+	for w := range c {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			cl := conns[w%len(conns)]
+			for i := w; time.Now().Before(end); i += c {
+				if rec.sent.Add(1) > int64(o.maxRequests) {
+					return
+				}
+				t0 := time.Now()
+				ctx, cancel := context.WithTimeout(context.Background(), o.timeout)
+				_, err := cl.Annotate(ctx, &pb.AnnotateRequest{Model: o.modelName, Id: strconv.Itoa(i), Text: texts[i%len(texts)]})
+				cancel()
+				rec.add(time.Since(t0), err)
+			}
+		}()
+	}
+	wg.Wait()
+	res := rec.result("", time.Since(start))
+	res.Server = stopMem()
+	return res
+}
+
+// localLoop is closedLoop calling the annotator in this process: the
+// reference that shows what gRPC and the server add.
+func localLoop(o *options, a *annotate.Annotator, texts []string, c int) result {
+	var rec recorder
+	start := time.Now()
+	end := start.Add(o.duration)
+	var wg sync.WaitGroup
+	for w := range c {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := w; time.Now().Before(end); i += c {
+				if rec.sent.Add(1) > int64(o.maxRequests) {
+					return
+				}
+				t0 := time.Now()
+				_, err := a.Annotate(strconv.Itoa(i), texts[i%len(texts)], annotate.Options{})
+				rec.add(time.Since(t0), err)
+			}
+		}()
+	}
+	wg.Wait()
+	return rec.result("", time.Since(start))
+}
+
+// openLoop sends calls at o.rate per second for o.duration, each from its
+// scheduled time; at most 4096 calls are outstanding (beyond: counted late).
+func openLoop(o *options, conns []pb.AnnotationServiceClient, texts []string) result {
+	var rec recorder
+	stopMem := sampleServer(o)
+	start := time.Now()
+	interval := time.Duration(float64(time.Second) / o.rate)
+	total := min(int(o.duration.Seconds()*o.rate), o.maxRequests)
+	slots := make(chan struct{}, 4096)
+	var late atomic.Int64
+	var wg sync.WaitGroup
+	// A few dispatchers share the schedule so that one goroutine's wake-up
+	// jitter does not cap the rate.
+	const dispatchers = 4
+	for d := range dispatchers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := d; i < total; i += dispatchers {
+				due := start.Add(time.Duration(i) * interval)
+				if w := time.Until(due); w > 0 {
+					time.Sleep(w)
+				}
+				select {
+				case slots <- struct{}{}:
+				default:
+					late.Add(1)
+					continue
+				}
+				rec.sent.Add(1)
+				wg.Add(1)
+				go func() {
+					defer wg.Done()
+					ctx, cancel := context.WithTimeout(context.Background(), o.timeout)
+					_, err := conns[i%len(conns)].Annotate(ctx, &pb.AnnotateRequest{Model: o.modelName, Id: strconv.Itoa(i), Text: texts[i%len(texts)]})
+					cancel()
+					rec.add(time.Since(due), err)
+					<-slots
+				}()
+			}
+		}()
+	}
+	wg.Wait()
+	res := rec.result("", time.Since(start))
+	res.ClientLate = int(late.Load())
+	res.Server = stopMem()
+	return res
+}
+
+// sampleServer scrapes the server's metrics once a second until the
+// returned function is called, which returns the figures (nil when off).
+func sampleServer(o *options) func() *serverStats {
+	if o.metrics == "off" {
+		return func() *serverStats { return nil }
+	}
+	st := &serverStats{}
+	var mu sync.Mutex
+	take := func() {
+		v, err := scrape(o.metrics)
+		if err != nil {
+			return
+		}
+		mu.Lock()
+		defer mu.Unlock()
+		rss, heap, gr := v["process_resident_memory_bytes"]/1e6, v["go_memstats_heap_inuse_bytes"]/1e6, v["go_goroutines"]
+		if st.Samples == 0 {
+			st.RSSStartMB, st.HeapStartMB, st.GoroutinesStart = rss, heap, gr
+		}
+		st.RSSMaxMB, st.HeapMaxMB, st.GoroutinesMax = max(st.RSSMaxMB, rss), max(st.HeapMaxMB, heap), max(st.GoroutinesMax, gr)
+		st.RSSEndMB, st.HeapEndMB, st.GoroutinesEnd = rss, heap, gr
+		st.Samples++
+	}
+	take()
+	done := make(chan struct{})
+	stopped := make(chan struct{})
+	go func() {
+		defer close(stopped)
+		t := time.NewTicker(time.Second)
+		defer t.Stop()
+		for {
+			select {
+			case <-done:
+				return
+			case <-t.C:
+				take()
+			}
+		}
+	}()
+	return func() *serverStats {
+		close(done)
+		<-stopped
+		take()
+		mu.Lock()
+		defer mu.Unlock()
+		if st.Samples == 0 {
+			return nil
+		}
+		return st
+	}
+}
+
+// scrape reads the plain (unlabelled) samples of a Prometheus text page.
+func scrape(addr string) (map[string]float64, error) {
+	cl := http.Client{Timeout: 2 * time.Second}
+	resp, err := cl.Get("http://" + addr + "/metrics")
+	if err != nil {
+		return nil, err
+	}
+	defer resp.Body.Close()
+	out := map[string]float64{}
+	sc := bufio.NewScanner(resp.Body)
+	for sc.Scan() {
+		l := sc.Text()
+		if strings.HasPrefix(l, "#") || strings.ContainsRune(l, '{') {
+			continue
+		}
+		name, val, ok := strings.Cut(l, " ")
+		if !ok {
+			continue
+		}
+		if f, err := strconv.ParseFloat(strings.TrimSpace(val), 64); err == nil {
+			out[name] = f
+		}
+	}
+	return out, sc.Err()
+}
+
+func report(o *options, step string, r result) {
+	r.Step = step
+	if o.jsonOut {
+		b, _ := json.Marshal(r)
+		fmt.Println(string(b))
+		return
+	}
+	fmt.Printf("%s: %.1fs sent=%d ok=%d (%.0f/s) p50=%.2fms p90=%.2fms p99=%.2fms max=%.2fms codes=%v",
+		step, r.Seconds, r.Sent, r.OK, r.OKPerSec, r.P50ms, r.P90ms, r.P99ms, r.MaxMs, r.Codes)
+	if r.RejectP99 > 0 {
+		fmt.Printf(" rejected_p99=%.2fms", r.RejectP99)
+	}
+	if r.ClientLate > 0 {
+		fmt.Printf(" client_late=%d", r.ClientLate)
+	}
+	fmt.Println()
+	if s := r.Server; s != nil {
+		fmt.Printf("  server: rss %.0f→max %.0f→%.0f MB, heap %.0f→max %.0f→%.0f MB, goroutines %.0f→max %.0f→%.0f (%d samples)\n",
+			s.RSSStartMB, s.RSSMaxMB, s.RSSEndMB, s.HeapStartMB, s.HeapMaxMB, s.HeapEndMB,
+			s.GoroutinesStart, s.GoroutinesMax, s.GoroutinesEnd, s.Samples)
+	}
+}
