@@ -15,14 +15,22 @@ import (
 // together) are counted in Stats.Long and skipped.
 const DefaultMaxWordBytes = 64
 
-// cacheLimit bounds each per-language word cache of a scratch space; a full
-// cache is dropped and refilled.
-const cacheLimit = 1 << 18
+// cacheLimit bounds each per-language word cache of a scratch space (about
+// 20 MB when full). A full cache takes no new words: word frequencies are
+// Zipfian, so the frequent words are in it early, and the rare ones are
+// analysed afresh each time.
+var cacheLimit = 1 << 17 // a variable so that tests can shrink it
 
 // Analyzer turns text into terms: UAX #29 words, NFKC and case folding,
 // apostrophes (elision "l'" and possessive "'s" dropped), stopwords and a
 // Snowball stemmer of the language, then multi-word phrases found by an
 // Aho–Corasick matcher, longest first.
+//
+// Phrases are matched over the content words, as labels are analysed the
+// same way: stopwords between words do not stop a phrase ("history of
+// science" meets label "History of Science", term "histori scienc"), white
+// space and hyphens do not either, any other punctuation does. Where phrase
+// occurrences overlap, the one with more words wins, then the earlier one.
 //
 // Analyze, AnalyzeLang and AnalyzeWords are safe for concurrent use when grow
 // is false. With grow they add to the dictionary and must not run
@@ -314,7 +322,7 @@ func (a *Analyzer) run(text string, ls *langSpec, fallback bool, dst []Token, gr
 	defer a.putScratch(sc)
 	ck := cacheKey{ls, phrases}
 	cache := sc.caches[ck]
-	if cache == nil || cache.n > cacheLimit {
+	if cache == nil {
 		cache = newWordCache()
 		sc.caches[ck] = cache
 	}
@@ -338,7 +346,9 @@ func (a *Analyzer) run(text string, ls *langSpec, fallback bool, dst []Token, gr
 		e := cache.get(surface)
 		if e == nil {
 			e = a.analyzeWord(sc, ls, surface)
-			cache.put(surface, e)
+			if cache.n < cacheLimit {
+				cache.put(surface, e)
+			}
 		}
 		if e.term == "" {
 			if e.long {

@@ -343,3 +343,18 @@ func TestStopwordLists(t *testing.T) {
 		t.Error("stopword membership wrong")
 	}
 }
+
+func TestFullWordCache(t *testing.T) {
+	text := "Parish records of the valley mills, 1848: mills and records, farms, churches and schools."
+	a := newAnalyzer(t, "en")
+	want, _ := a.Analyze(text, nil, true)
+	defer func(n int) { cacheLimit = n }(cacheLimit)
+	cacheLimit = 3
+	b := newAnalyzer(t, "en")
+	for pass := 0; pass < 2; pass++ {
+		got, _ := b.Analyze(text, nil, pass == 0)
+		if fmt.Sprint(got) != fmt.Sprint(want) {
+			t.Fatalf("pass %d with a full cache:\n%v\nwant\n%v", pass, got, want)
+		}
+	}
+}
