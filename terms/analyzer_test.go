@@ -358,3 +358,21 @@ func TestFullWordCache(t *testing.T) {
 		}
 	}
 }
+
+func TestPhraseAcrossStopwords(t *testing.T) {
+	// Common practice, no source: labels and texts lose the same stopwords,
+	// so a label with a stopword inside still meets the text.
+	a := newAnalyzer(t, "en")
+	toks, _ := a.AnalyzeWords("History of Science", "en", nil, true)
+	var words []string
+	for _, tk := range toks {
+		words = append(words, tk.Term)
+	}
+	id := a.AddPhrase(words)
+	text := "A history of the sciences, and history; science."
+	toks, _ = a.Analyze(text, nil, false)
+	if len(toks) != 3 || toks[0].ID != id || text[toks[0].Start:toks[0].End] != "history of the sciences" ||
+		toks[1].Term != "histori" || toks[2].Term != "scienc" {
+		t.Errorf("tokens %+v", toks)
+	}
+}
