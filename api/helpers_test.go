@@ -183,7 +183,7 @@ type testServer struct {
 // startServer starts a server with cfg (Models default to one "tiny"
 // model; Load, NewAnnotator and Logger default to the test doubles) on
 // 127.0.0.1:0 and connects a plaintext client.
-func startServer(t *testing.T, cfg Config, hook func(string)) *testServer {
+func startServer(t testing.TB, cfg Config, hook func(string)) *testServer {
 	t.Helper()
 	ts := &testServer{mem: &memModels{}, done: make(chan error, 1)}
 	if len(cfg.Models) == 0 {
@@ -229,7 +229,7 @@ func startServer(t *testing.T, cfg Config, hook func(string)) *testServer {
 	return ts
 }
 
-func dial(t *testing.T, addr string, opts ...grpc.DialOption) *grpc.ClientConn {
+func dial(t testing.TB, addr string, opts ...grpc.DialOption) *grpc.ClientConn {
 	t.Helper()
 	if len(opts) == 0 {
 		opts = []grpc.DialOption{grpc.WithTransportCredentials(insecure.NewCredentials())}
@@ -242,7 +242,7 @@ func dial(t *testing.T, addr string, opts ...grpc.DialOption) *grpc.ClientConn {
 }
 
 // ctxT is a context bounded by a few seconds, so a hung call fails the test.
-func ctxT(t *testing.T) context.Context {
+func ctxT(t testing.TB) context.Context {
 	ctx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
 	t.Cleanup(cancel)
 	return ctx
