@@ -1,6 +1,7 @@
 package terms
 
 import (
+	"slices"
 	"strings"
 	"sync"
 	"sync/atomic"
@@ -209,28 +210,24 @@ func (a *Analyzer) spec(tag string) (*langSpec, error) {
 }
 
 // AddPhrase adds a phrase term made of already-analysed word terms and makes
-// the phrase matcher find it; it returns the phrase's id. Empty words are
-// ignored; a single word is added as a plain term. Not safe for concurrent
-// use; the matcher is rebuilt by the next Analyze or AnalyzeLang.
+// the phrase matcher find it; it returns the phrase's id (-1 when words
+// hold nothing). Words are split at spaces and empty ones ignored; a single
+// word is added as a plain term. Not safe for concurrent use; the matcher
+// is rebuilt by the next Analyze or AnalyzeLang.
 func (a *Analyzer) AddPhrase(words []string) int32 {
+	var sb strings.Builder
 	n := 0
 	for _, w := range words {
-		if w != "" {
+		for _, f := range strings.Fields(w) {
+			if n > 0 {
+				sb.WriteByte(' ')
+			}
+			sb.WriteString(f)
 			n++
 		}
 	}
 	if n == 0 {
 		return -1
-	}
-	var sb strings.Builder
-	for _, w := range words {
-		if w == "" {
-			continue
-		}
-		if sb.Len() > 0 {
-			sb.WriteByte(' ')
-		}
-		sb.WriteString(w)
 	}
 	term := sb.String()
 	id := a.dict.Add(term)
@@ -261,15 +258,13 @@ func (a *Analyzer) matcher() *automaton {
 		a.phMu.Lock()
 		if a.dirty.Load() {
 			a.gen++
-			a.ac.Store(buildAutomaton(slices_clone(a.phrases), a.gen))
+			a.ac.Store(buildAutomaton(slices.Clone(a.phrases), a.gen))
 			a.dirty.Store(false)
 		}
 		a.phMu.Unlock()
 	}
 	return a.ac.Load()
 }
-
-func slices_clone(p []phraseDef) []phraseDef { return append([]phraseDef(nil), p...) }
 
 // Analyze appends the tokens of text, in the main language, to dst. With
 // grow, unknown terms are added to the dictionary; without, they get ID -1.

@@ -376,3 +376,21 @@ func TestPhraseAcrossStopwords(t *testing.T) {
 		t.Errorf("tokens %+v", toks)
 	}
 }
+
+func TestAddPhraseEdgeCases(t *testing.T) {
+	a := newAnalyzer(t, "zxx")
+	if id := a.AddPhrase(nil); id != -1 {
+		t.Errorf("empty phrase: id %d", id)
+	}
+	if id := a.AddPhrase([]string{"", " "}); id != -1 {
+		t.Errorf("blank phrase: id %d", id)
+	}
+	one := a.AddPhrase([]string{"", "mill"})
+	if a.Dict().Term(one) != "mill" || a.Phrases() != 0 {
+		t.Errorf("single word: %q, %d phrases", a.Dict().Term(one), a.Phrases())
+	}
+	two := a.AddPhrase([]string{"corn mill"})
+	if a.AddPhrase([]string{"corn", "", "mill"}) != two || a.Dict().Term(two) != "corn mill" || a.Phrases() != 1 {
+		t.Errorf("phrase ids differ or phrase repeated: %d phrases", a.Phrases())
+	}
+}
