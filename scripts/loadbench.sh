@@ -54,11 +54,29 @@ for f in ttl nt rdf; do
 		measure "rapper-$f" "$work/rapper.out" rapper -i "$(case $f in ttl) echo turtle ;; nt) echo ntriples ;; rdf) echo rdfxml ;; esac)" -c "$file"
 		cp "$work/stderr.txt" "$work/count-rapper-$f.txt"
 		measure "termgrove-$f" "$work/check-$f.txt" "$tg" check --timing --max 5 "$file"
-		# "load 1.234s check 0.456s (705683 triples, 117661 concepts)"
-		awk -v f="$f" '/^load /{sub("s","",$2); sub("s","",$4); print f, $2, $4}' "$work/stderr.txt" >>"$work/loads"
+		# "load 1.234s check 0.456s (705683 triples, 117661 concepts; cpu load 0.7s check 0.2s)"
+		awk -v f="$f" '/^load /{sub("s","",$2); sub("s","",$4); sub("s","",$11); print f, $2, $4, $11}' "$work/stderr.txt" >>"$work/loads"
 	done
 done
 load_end=$(cut -d' ' -f1-3 /proc/loadavg)
+
+# Go benchmarks on a generated 20,000-concept Turtle document.
+go test -run '^$' -bench 'BenchmarkLoad$|BenchmarkBuild$' -benchtime 10x ./concepts >"$work/gobench.txt" 2>&1 || true
+
+# Same graph: termgrove's --emit ntriples against rapper's N-Triples, sorted.
+# (WordNet has no blank nodes, so sorted lines compare graphs exactly.)
+: >"$work/samegraph"
+for f in ttl nt rdf; do
+	in=$(case $f in ttl) echo turtle ;; nt) echo ntriples ;; rdf) echo rdfxml ;; esac)
+	"$tg" check --emit ntriples "$data/vocabulary.$f" | LC_ALL=C sort >"$work/ours.nt"
+	rapper -q -i "$in" -o ntriples "$data/vocabulary.$f" | LC_ALL=C sort >"$work/rapper.nt"
+	if cmp -s "$work/ours.nt" "$work/rapper.nt"; then
+		echo "| vocabulary.$f | $(wc -l <"$work/ours.nt") | $(wc -l <"$work/rapper.nt") | identical |" >>"$work/samegraph"
+	else
+		echo "| vocabulary.$f | $(wc -l <"$work/ours.nt") | $(wc -l <"$work/rapper.nt") | DIFFERENT ($(diff "$work/ours.nt" "$work/rapper.nt" | grep -c '^[<>]') lines) |" >>"$work/samegraph"
+	fi
+	rm -f "$work/ours.nt" "$work/rapper.nt"
+done
 
 # median COLUMN-VALUES... / minimum, on numbers one per line.
 median() { sort -n | awk '{v[NR]=$1} END {if (NR==0) print "-"; else if (NR%2) print v[(NR+1)/2]; else printf "%.3f\n", (v[NR/2]+v[NR/2+1])/2}'; }
@@ -69,10 +87,11 @@ stats() { # stats NAME -> "median_wall min_wall median_cpu max_rss_mib"
 	echo "$(cut -d' ' -f1 <<<"$rows" | median) $(cut -d' ' -f1 <<<"$rows" | minimum)" \
 		"$(cut -d' ' -f2 <<<"$rows" | median) $(cut -d' ' -f3 <<<"$rows" | sort -n | tail -1 | awk '{printf "%.0f", $1/1024}')"
 }
-loadstats() { # loadstats FORMAT -> "median_load min_load median_check"
+loadstats() { # loadstats FORMAT -> "median_load min_load median_check median_load_cpu"
 	local rows
-	rows=$(awk -v f="$1" '$1==f {print $2, $3}' "$work/loads")
-	echo "$(cut -d' ' -f1 <<<"$rows" | median) $(cut -d' ' -f1 <<<"$rows" | minimum) $(cut -d' ' -f2 <<<"$rows" | median)"
+	rows=$(awk -v f="$1" '$1==f {print $2, $3, $4}' "$work/loads")
+	echo "$(cut -d' ' -f1 <<<"$rows" | median) $(cut -d' ' -f1 <<<"$rows" | minimum)" \
+		"$(cut -d' ' -f2 <<<"$rows" | median) $(cut -d' ' -f3 <<<"$rows" | median)"
 }
 
 {
@@ -99,16 +118,19 @@ loadstats() { # loadstats FORMAT -> "median_load min_load median_check"
 	echo
 	echo "\`termgrove check\` loads the file into a \`concepts.Scheme\` (parse, build labels,"
 	echo "hierarchy, depths), then runs every check and prints the summary; \`--timing\`"
-	echo "reports the load and check phases separately. rapper only parses and counts."
+	echo "reports the load and check phases separately (wall and CPU time, from"
+	echo "getrusage). rapper only parses and counts. termgrove's loader runs the parser"
+	echo "and the scheme builder on two goroutines, so its wall time can be below its"
+	echo "CPU time when a second core is free."
 	echo
-	echo "| file | rapper wall median / min (s) | termgrove whole run median / min (s) | termgrove load only median / min (s) | check phase median (s) | load ÷ rapper (median, min) | CPU s rapper / termgrove | peak RSS rapper / termgrove (MiB) |"
+	echo "| file | rapper wall median / min (s) | termgrove whole run median / min (s) | termgrove load only median / min (s) | check phase median (s) | load ÷ rapper wall (median, min) | CPU s (median): rapper / termgrove load / termgrove whole run | peak RSS rapper / termgrove (MiB) |"
 	echo "|---|---|---|---|---|---|---|---|"
 	for f in ttl nt rdf; do
 		read -r rw rmin rc rr <<<"$(stats "rapper-$f")"
 		read -r tw tmin tc tr <<<"$(stats "termgrove-$f")"
-		read -r lm lmin km <<<"$(loadstats "$f")"
+		read -r lm lmin km lc <<<"$(loadstats "$f")"
 		ratio=$(awk -v a="$lm" -v b="$rw" -v c="$lmin" -v d="$rmin" 'BEGIN{ if (a=="-" || b=="-") print "-"; else printf "%.2f, %.2f", a/b, c/d }')
-		echo "| vocabulary.$f | $rw / $rmin | $tw / $tmin | $lm / $lmin | $km | $ratio | $rc / $tc | $rr / $tr |"
+		echo "| vocabulary.$f | $rw / $rmin | $tw / $tmin | $lm / $lmin | $km | $ratio | $rc / $lc / $tc | $rr / $tr |"
 	done
 	echo
 	echo "Targets (issue 2): Turtle load ≤ rapper's parse+count time; peak memory < 1 GiB."
@@ -122,6 +144,25 @@ loadstats() { # loadstats FORMAT -> "median_load min_load median_check"
 	echo '```'
 	for f in ttl nt rdf; do head -1 "$work/check-$f.txt"; done
 	echo '```'
+	echo
+	echo "## Go benchmarks"
+	echo
+	echo "\`go test -run '^\$' -bench 'BenchmarkLoad\$|BenchmarkBuild\$' -benchtime 10x ./concepts\`"
+	echo "(BenchmarkLoad: parse + build a generated 20,000-concept Turtle document;"
+	echo "BenchmarkBuild: the builder alone on the same triples held in memory):"
+	echo
+	echo '```'
+	grep -E '^(Benchmark|cpu:)' "$work/gobench.txt" || cat "$work/gobench.txt"
+	echo '```'
+	echo
+	echo "## Same graph as rapper"
+	echo
+	echo "\`termgrove check --emit ntriples FILE | LC_ALL=C sort\` against"
+	echo "\`rapper -q -i SYNTAX -o ntriples FILE | LC_ALL=C sort\`:"
+	echo
+	echo "| file | termgrove triples | rapper triples | sorted N-Triples |"
+	echo "|---|---|---|---|"
+	cat "$work/samegraph"
 	echo
 	echo "## \`termgrove check\` on the large vocabulary (Turtle)"
 	echo

@@ -85,16 +85,17 @@ examples:
 		}
 	}
 
-	start := time.Now()
+	start, startCPU := time.Now(), cpuTime()
 	s, err := concepts.Load(file, opt)
-	loaded := time.Now()
+	loaded, loadedCPU := time.Now(), cpuTime()
 	if err != nil {
 		return reportLoadError(stderr, file, err)
 	}
 	problems := s.Check(concepts.CheckOptions{Langs: langs})
 	if f.timing {
-		fmt.Fprintf(stderr, "load %.3fs check %.3fs (%d triples, %d concepts)\n",
-			loaded.Sub(start).Seconds(), time.Since(loaded).Seconds(), s.Info().Triples, len(s.Concepts))
+		fmt.Fprintf(stderr, "load %.3fs check %.3fs (%d triples, %d concepts; cpu load %.3fs check %.3fs)\n",
+			loaded.Sub(start).Seconds(), time.Since(loaded).Seconds(), s.Info().Triples, len(s.Concepts),
+			(loadedCPU - startCPU).Seconds(), (cpuTime() - loadedCPU).Seconds())
 	}
 	out := bufio.NewWriter(stdout)
 	sum := summarize(s, problems)
