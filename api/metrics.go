@@ -18,7 +18,8 @@ type metrics struct {
 	annLatency  *prometheus.HistogramVec // model
 	tokens      *prometheus.CounterVec   // model
 	inFlight    prometheus.Gauge
-	inFlightN   atomic.Int64           // mirrors inFlight, for tests and logs
+	inFlightN   atomic.Int64 // mirrors inFlight, for tests and logs
+	shed        prometheus.Counter
 	modelInfo   *prometheus.GaugeVec   // model, path, scheme, concepts, free_topics, word_types, generation
 	reloads     *prometheus.CounterVec // model, result
 	loadedAt    *prometheus.GaugeVec   // model
@@ -56,6 +57,10 @@ func newMetrics() *metrics {
 			Name: "termgrove_annotations_in_flight",
 			Help: "Annotations in progress.",
 		}),
+		shed: prometheus.NewCounter(prometheus.CounterOpts{
+			Name: "termgrove_calls_shed_total",
+			Help: "Annotate calls refused in the transport because every annotation slot was taken (also counted in termgrove_grpc_requests_total).",
+		}),
 		modelInfo: prometheus.NewGaugeVec(prometheus.GaugeOpts{
 			Name: "termgrove_model_info",
 			Help: "Served model (value 1), with its file, scheme and sizes as labels.",
@@ -70,7 +75,7 @@ func newMetrics() *metrics {
 		}, []string{"model"}),
 	}
 	m.reg.MustRegister(m.requests, m.latency, m.annotations, m.annLatency, m.tokens,
-		m.inFlight, m.modelInfo, m.reloads, m.loadedAt,
+		m.inFlight, m.shed, m.modelInfo, m.reloads, m.loadedAt,
 		collectors.NewGoCollector(), collectors.NewProcessCollector(collectors.ProcessCollectorOpts{}))
 	return m
 }

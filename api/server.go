@@ -24,6 +24,7 @@ import (
 	"google.golang.org/grpc/keepalive"
 	"google.golang.org/grpc/reflection"
 	"google.golang.org/grpc/status"
+	"google.golang.org/grpc/tap"
 
 	pb "termgrove/proto/termgrove/v1"
 )
@@ -82,6 +83,10 @@ func NewServer(cfg Config) (*Server, error) {
 		grpc.MaxSendMsgSize(cfg.MaxMessageBytes),
 		grpc.ChainUnaryInterceptor(s.unaryInterceptor),
 		grpc.ChainStreamInterceptor(s.streamInterceptor),
+		grpc.InTapHandle(s.shed),
+		// Bounds the streams (and so goroutines and buffers) one connection
+		// can hold; calls are short, so only a misbehaving client meets it.
+		grpc.MaxConcurrentStreams(uint32(max(1024, 8*cfg.MaxConcurrent))),
 		// Clients may ping every 10 s while idle (load balancers and
 		// long-lived ingest streams do); faster pings close the connection.
 		grpc.KeepaliveEnforcementPolicy(keepalive.EnforcementPolicy{MinTime: 10 * time.Second, PermitWithoutStream: true}),
@@ -271,6 +276,24 @@ func (s *Server) Shutdown(grace time.Duration) bool {
 		s.log.Info("stopped", slog.Bool("drained", drained))
 	})
 	return drained
+}
+
+// annotateMethod is the full name of the unary annotation call.
+const annotateMethod = "/" + ServiceName + "/Annotate"
+
+// shed refuses an Annotate call with RESOURCE_EXHAUSTED in the transport,
+// before a goroutine is started or the message is read, while every
+// annotation slot is taken. Under overload this keeps the cost of a refusal
+// small, so refusals do not starve the calls in progress of CPU. Calls that
+// pass can still be refused by the slot check in the handler (a race this
+// check does not close, only makes rare).
+func (s *Server) shed(ctx context.Context, info *tap.Info) (context.Context, error) {
+	if info.FullMethodName == annotateMethod && len(s.sem) == cap(s.sem) {
+		s.metrics.requests.WithLabelValues(annotateMethod, codes.ResourceExhausted.String()).Inc()
+		s.metrics.shed.Inc()
+		return ctx, errBusy
+	}
+	return ctx, nil
 }
 
 // unaryInterceptor applies the default deadline, turns a panic into

@@ -11,6 +11,7 @@ import (
 	"testing"
 	"time"
 
+	dto "github.com/prometheus/client_model/go"
 	"google.golang.org/genproto/googleapis/rpc/errdetails"
 	"google.golang.org/grpc/codes"
 	healthpb "google.golang.org/grpc/health/grpc_health_v1"
@@ -311,6 +312,16 @@ func TestResourceExhausted(t *testing.T) {
 	if d := time.Since(start); d > 2*time.Second {
 		t.Fatalf("rejection took %v", d)
 	}
+	// It was refused in the transport, before a handler ran.
+	var shed dto.Metric
+	ts.s.metrics.shed.Write(&shed)
+	if shed.GetCounter().GetValue() != 1 {
+		t.Fatalf("shed counter %v, want 1", shed.GetCounter().GetValue())
+	}
+	// The handler's own slot check refuses too (a call that passed the
+	// transport check just before the slots filled).
+	_, err = ts.s.Annotate(context.Background(), &pb.AnnotateRequest{Text: "cat"})
+	wantCode(t, err, codes.ResourceExhausted)
 	// A stream's record gets the same code in its result.
 	st, _ := ts.c.AnnotateStream(ctxT(t))
 	st.Send(&pb.AnnotateStreamRequest{Records: []*pb.AnnotateRequest{{Id: "x", Text: "cat"}}})

@@ -27,6 +27,9 @@ type GapReporter interface {
 	GapReport(ctx context.Context, name string, m *model.Model, limit int) (*pb.GetGapReportResponse, error)
 }
 
+// errBusy is the answer to a call beyond Config.MaxConcurrent.
+var errBusy = status.Error(codes.ResourceExhausted, "server busy: all annotation slots taken; retry with backoff")
+
 // pick returns the served model named name ("" = the only one), or the
 // status error for the call. field is the request field path for errors.
 func (s *Server) pick(name, field string) (*served, error) {
@@ -87,7 +90,7 @@ func (s *Server) annotateOne(ctx context.Context, r *pb.AnnotateRequest, prefix 
 	case s.sem <- struct{}{}:
 	default:
 		s.metrics.annotations.WithLabelValues(sv.spec.Name, codes.ResourceExhausted.String()).Inc()
-		return nil, status.Errorf(codes.ResourceExhausted, "server busy: %d annotations in progress; retry with backoff", s.cfg.MaxConcurrent)
+		return nil, errBusy
 	}
 	s.metrics.enter()
 	start := time.Now()

@@ -63,6 +63,7 @@ type options struct {
 	wordsFrom, recordsFile   string
 	timeout                  time.Duration
 	jsonOut                  bool
+	maxOutstanding           int
 }
 
 func run(args []string) int {
@@ -85,6 +86,7 @@ func run(args []string) int {
 	fs.StringVar(&o.recordsFile, "records-file", "", "or take record texts from this JSON Lines file (title and text, cut to -words words)")
 	fs.DurationVar(&o.timeout, "timeout", 10*time.Second, "deadline of each call")
 	fs.BoolVar(&o.jsonOut, "json", false, "print results as JSON lines")
+	fs.IntVar(&o.maxOutstanding, "max-outstanding", 1024, "rate: calls in progress at most; a call due beyond it is not sent and counted late")
 	if err := fs.Parse(args); err != nil {
 		return 2
 	}
@@ -396,14 +398,15 @@ func localLoop(o *options, a *annotate.Annotator, texts []string, c int) result 
 }
 
 // openLoop sends calls at o.rate per second for o.duration, each from its
-// scheduled time; at most 4096 calls are outstanding (beyond: counted late).
+// scheduled time; at most o.maxOutstanding calls are in progress (a call
+// due beyond that is not sent and is counted late: the client is saturated).
 func openLoop(o *options, conns []pb.AnnotationServiceClient, texts []string) result {
 	var rec recorder
 	stopMem := sampleServer(o)
 	start := time.Now()
 	interval := time.Duration(float64(time.Second) / o.rate)
 	total := min(int(o.duration.Seconds()*o.rate), o.maxRequests)
-	slots := make(chan struct{}, 4096)
+	slots := make(chan struct{}, max(o.maxOutstanding, 1))
 	var late atomic.Int64
 	var wg sync.WaitGroup
 	// A few dispatchers share the schedule so that one goroutine's wake-up
