@@ -12,6 +12,7 @@ package rdf
 
 import (
 	"bufio"
+	"bytes"
 	"encoding/xml"
 	"errors"
 	"fmt"
@@ -83,6 +84,9 @@ type posReader struct {
 	lo, hi     byte  // allowed range of the next continuation byte
 	bad        bool  // an invalid byte sequence was met
 	ioErr      error // a read error of the underlying reader, not EOF
+	// raw holds the bytes read since the current token began (the decoder
+	// may have read its first byte already), for attribute normalization.
+	raw []byte
 	// bline, bcol locate the first byte of the current (or the invalid)
 	// UTF-8 sequence.
 	bline, bcol int
@@ -106,6 +110,7 @@ func (p *posReader) ReadByte() (byte, error) {
 	}
 	p.pline, p.pcl = p.line, p.col
 	p.off++
+	p.raw = append(p.raw, b)
 	if b == '\n' {
 		p.line++
 		p.col = 1
@@ -303,7 +308,7 @@ func (p *xmlParser) decodeErr(err error) error {
 // resolved; end tags are checked against the open element.
 func (p *xmlParser) next() (int, *element, string, error) {
 	p.line, p.col = p.pos.at(p.dec.InputOffset())
-	t, err := p.dec.RawToken()
+	t, err := p.rawToken()
 	if err != nil {
 		if err == io.EOF && !p.pos.bad {
 			if n := len(p.stack); n > 0 {
@@ -347,6 +352,12 @@ func (p *xmlParser) next() (int, *element, string, error) {
 	return tokOther, nil, "", nil
 }
 
+// rawToken reads one token, keeping its bytes in p.pos.raw.
+func (p *xmlParser) rawToken() (xml.Token, error) {
+	p.pos.raw = p.pos.raw[:0]
+	return p.dec.RawToken()
+}
+
 func qname(prefix, local string) string {
 	if prefix == "" {
 		return local
@@ -384,6 +395,13 @@ func (p *xmlParser) open(t xml.StartElement) (*element, error) {
 	}
 	e.ns = uri
 	e.attrs = make([]attr, 0, len(t.Attr))
+	for i := range t.Attr {
+		// Not after a Latin-1 declaration: raw bytes are then not UTF-8.
+		if p.pos.validate && strings.ContainsAny(t.Attr[i].Value, "\t\n\r") {
+			p.normalizeAttrs(t.Attr)
+			break
+		}
+	}
 	for _, a := range t.Attr {
 		if a.Name.Space == "xmlns" || a.Name.Space == "" && a.Name.Local == "xmlns" {
 			continue
@@ -410,6 +428,91 @@ func (p *xmlParser) open(t xml.StartElement) (*element, error) {
 	p.stack = append(p.stack, f)
 	return e, nil
 }
+
+// normalizeAttrs applies attribute-value normalization (XML 1.0 §3.3.3),
+// which encoding/xml leaves out: a tab, line feed or carriage return
+// written as such in a value becomes a space, while one written as a
+// character reference stays. The values are decoded again from the raw
+// bytes of the start tag.
+func (p *xmlParser) normalizeAttrs(attrs []xml.Attr) {
+	raw := p.pos.raw
+	for i := range attrs {
+		// Each value is the next quoted string after an "=".
+		eq := bytes.IndexByte(raw, '=')
+		if eq < 0 {
+			return
+		}
+		raw = bytes.TrimLeft(raw[eq+1:], " \t\r\n")
+		if len(raw) == 0 || raw[0] != '"' && raw[0] != '\'' {
+			return
+		}
+		end := bytes.IndexByte(raw[1:], raw[0])
+		if end < 0 {
+			return
+		}
+		val := raw[1 : 1+end]
+		raw = raw[2+end:]
+		if strings.ContainsAny(attrs[i].Value, "\t\n\r") {
+			if v, ok := p.decodeAttr(val); ok {
+				attrs[i].Value = v
+			}
+		}
+	}
+}
+
+// decodeAttr normalizes white space in a raw attribute value and expands
+// its references; ok is false for a reference it does not know.
+func (p *xmlParser) decodeAttr(raw []byte) (string, bool) {
+	var b strings.Builder
+	for i := 0; i < len(raw); i++ {
+		c := raw[i]
+		switch c {
+		case '\r':
+			if i+1 < len(raw) && raw[i+1] == '\n' {
+				i++
+			}
+			b.WriteByte(' ')
+		case '\n', '\t':
+			b.WriteByte(' ')
+		case '&':
+			j := bytes.IndexByte(raw[i:], ';')
+			if j < 0 {
+				return "", false
+			}
+			name := string(raw[i+1 : i+j])
+			i += j
+			switch {
+			case strings.HasPrefix(name, "#x"):
+				n, err := strconv.ParseUint(name[2:], 16, 32)
+				if err != nil {
+					return "", false
+				}
+				b.WriteRune(rune(n))
+			case strings.HasPrefix(name, "#"):
+				n, err := strconv.ParseUint(name[1:], 10, 32)
+				if err != nil {
+					return "", false
+				}
+				b.WriteRune(rune(n))
+			default:
+				v, ok := xmlPredefined[name]
+				if !ok {
+					v, ok = p.dec.Entity[name]
+				}
+				if !ok {
+					return "", false
+				}
+				b.WriteString(v)
+			}
+		default:
+			b.WriteByte(c)
+		}
+	}
+	return b.String(), true
+}
+
+// xmlPredefined are the five entities every XML document has (XML 1.0 §4.6).
+var xmlPredefined = map[string]string{"lt": "<", "gt": ">", "amp": "&", "apos": "'", "quot": `"`}
 
 // lookup finds the namespace IRI bound to prefix; "xml" is always bound.
 func (p *xmlParser) lookup(prefix string) (string, bool) {
@@ -931,7 +1034,7 @@ func (p *xmlParser) xmlLiteral() (string, error) {
 	depth := 0
 	for {
 		p.line, p.col = p.pos.at(p.dec.InputOffset())
-		t, err := p.dec.RawToken()
+		t, err := p.rawToken()
 		if err != nil {
 			if err == io.EOF && !p.pos.bad {
 				n := len(p.stack)

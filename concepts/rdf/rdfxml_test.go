@@ -129,6 +129,16 @@ func TestReadRDFXMLForms(t *testing.T) {
 			},
 		},
 		{
+			// Source: XML 1.0 §3.3.3 (attribute-value normalization): white
+			// space written in a value becomes a space, a character reference stays.
+			name: "attribute value normalization",
+			body: "<rdf:Description rdf:about=\"http://ex.org/a\" ex:p=\"one\n\ttwo&#10;three &amp;\r\nfour\" ex:q='x&#9;y'/>",
+			want: []string{
+				`<http://ex.org/a> <http://ex.org/p> "one  two\nthree & four" .`,
+				"<http://ex.org/a> <http://ex.org/q> \"x\ty\" .",
+			},
+		},
+		{
 			// Source: RDF 1.1 XML Syntax §2.12 (empty property element with
 			// property attributes describes a new blank node).
 			name: "empty property element with property attributes",
