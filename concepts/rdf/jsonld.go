@@ -59,11 +59,7 @@ func ReadJSONLD(r io.Reader, opt Options, fn func(Triple) error) error {
 		return jsonErrAt(opt, src, int(dec.InputOffset()), "data after the JSON-LD document", ErrSyntax)
 	}
 
-	proc := ld.NewJsonLdProcessor()
-	lopt := ld.NewJsonLdOptions(opt.Base)
-	lopt.DocumentLoader = refusingLoader{}
-	lopt.ProcessingMode = ld.JsonLd_1_1
-	out, err := proc.ToRDF(doc, lopt)
+	out, err := toRDF(doc, opt.Base)
 	if err != nil {
 		return jsonLDErr(opt, src, err)
 	}
@@ -94,6 +90,21 @@ func ReadJSONLD(r io.Reader, opt Options, fn func(Triple) error) error {
 		}
 	}
 	return nil
+}
+
+// toRDF runs json-gold's expansion and RDF conversion. A panic inside the
+// library on some odd document becomes an error, as user input must never
+// crash the program.
+func toRDF(doc any, base string) (out any, err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			out, err = nil, fmt.Errorf("json-gold failed on this document: %v", r)
+		}
+	}()
+	lopt := ld.NewJsonLdOptions(base)
+	lopt.DocumentLoader = refusingLoader{}
+	lopt.ProcessingMode = ld.JsonLd_1_1
+	return ld.NewJsonLdProcessor().ToRDF(doc, lopt)
 }
 
 // refusingLoader is a json-gold document loader that loads nothing, so

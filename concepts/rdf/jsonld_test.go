@@ -1,6 +1,7 @@
 package rdf
 
 import (
+	"bytes"
 	"errors"
 	"sort"
 	"strings"
@@ -157,4 +158,26 @@ func TestReadJSONLDBadInput(t *testing.T) {
 			}
 		})
 	}
+}
+
+// FuzzJSONLD checks that no input panics (json-gold included) and every
+// failure is a *ParseError with a position.
+func FuzzJSONLD(f *testing.F) {
+	f.Add([]byte(skosJSONLD))
+	f.Add([]byte(`{"@context": {"ex": "http://ex.org/"}, "@id": "ex:g", "@graph": [{"@id": "ex:a", "ex:p": "v"}]}`))
+	f.Add([]byte(`{"@context": {"@base": "http://ex.org/", "l": {"@id": "http://ex.org/l", "@container": "@list"}}, "@id": "a", "l": [1, 2.5, true, {"@value": "x", "@direction": "rtl"}]}`))
+	f.Add([]byte(`[{"@id": "_:b", "@type": "http://ex.org/T", "http://ex.org/p": {"@json": {"a": 1}}}]`))
+	f.Fuzz(func(t *testing.T, b []byte) {
+		var ts []Triple
+		err := ReadJSONLD(bytes.NewReader(b), Options{Base: "http://ex.org/d"}, func(tr Triple) error {
+			ts = append(ts, tr)
+			return nil
+		})
+		if err != nil {
+			var pe *ParseError
+			if !errors.As(err, &pe) || pe.Line < 1 || pe.Col < 1 || !errors.Is(err, ErrSyntax) {
+				t.Fatalf("error %v (%T) is not a *ParseError with a position", err, err)
+			}
+		}
+	})
 }
