@@ -181,6 +181,41 @@ if [ -n "$server_pid" ]; then
   echo "server stopped cleanly: $(grep 'msg=stopped' "$log" | sed 's/^time=[^ ]* //')"
 fi
 
+# --- screenshots (only when asked: DEMO_SCREENSHOTS=docs) -------------------
+# Regenerates the PNGs the README shows, with headless Chromium (Debian
+# package chromium). A page section is shot through an iframe scrolled to its
+# anchor, since a fragment in the screenshot URL itself is not honoured.
+shot() { # shot PAGE ANCHOR OUT.png HEIGHT
+  local page=$1 anchor=$2 png=$3 height=$4 url
+  local profile wrap
+  profile=$(mktemp -d)
+  url="file://$PWD/$page"
+  if [ -n "$anchor" ]; then
+    wrap="$out/.shot-$anchor.html"
+    printf '<!doctype html><html><body style="margin:0;overflow:hidden"><iframe src="%s#%s" style="width:100%%;height:%spx;border:0"></iframe></body></html>\n' \
+      "$url" "$anchor" "$height" >"$wrap"
+    url="file://$PWD/$wrap"
+  fi
+  timeout 60 "$chrome" --headless --no-sandbox --disable-gpu --disable-background-networking \
+    --disable-component-update --disable-sync --no-first-run --hide-scrollbars \
+    --allow-file-access-from-files --user-data-dir="$profile" \
+    --window-size="1280,$height" --screenshot="$png" "$url" >/dev/null 2>&1 ||
+    fail "chromium could not take $png"
+  rm -rf "$profile" "${wrap:-}"
+  [ -s "$png" ] || fail "chromium wrote no $png"
+  echo "  screenshot $png"
+}
+if [ -n "${DEMO_SCREENSHOTS:-}" ]; then
+  banner "screenshots into $DEMO_SCREENSHOTS"
+  chrome=$(command -v chromium || command -v chromium-browser || true)
+  [ -n "$chrome" ] || fail "DEMO_SCREENSHOTS needs chromium (Debian package chromium)"
+  [ "$annotated" = 1 ] || fail "DEMO_SCREENSHOTS needs the annotate step"
+  mkdir -p "$DEMO_SCREENSHOTS"
+  shot "$out/gaps.html" "" "$DEMO_SCREENSHOTS/gaps.png" 1600
+  shot "$out/gaps.html" themes "$DEMO_SCREENSHOTS/gaps-themes.png" 1100
+  shot "$out/holdout.html" "" "$DEMO_SCREENSHOTS/annotate.png" 1600
+fi
+
 # --- where things are -------------------------------------------------------
 elapsed=$(($(date +%s) - started))
 banner "outputs (in $elapsed s)"
