@@ -214,6 +214,9 @@ func (b *builder) add(t rdf.Triple) error {
 		} else {
 			f.text = t.O.String()
 		}
+		if n.lits == nil {
+			n.lits = make([]litFact, 0, 4) // a concept has a few labels and notes
+		}
 		n.lits = append(n.lits, f)
 	default:
 		if t.O.Kind != rdf.IRI && t.O.Kind != rdf.Blank {
@@ -227,6 +230,9 @@ func (b *builder) add(t rdf.Triple) error {
 			if t.O.Kind == rdf.IRI {
 				b.lastO, b.lastOID = t.O.Value, o
 			}
+		}
+		if b.nodes[s].links == nil {
+			b.nodes[s].links = make([]linkFact, 0, 4)
 		}
 		b.nodes[s].links = append(b.nodes[s].links, linkFact{p: p, o: o})
 	}
