@@ -20,6 +20,6 @@ func ExampleAnalyzer_Analyze() {
 	// Output:
 	// 4:18 "Screen-Readers" -> "screen reader"
 	// 22:26 "1848" -> "1848"
-	// 4 words
+	// 5 words
 	// églis
 }
