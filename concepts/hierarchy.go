@@ -66,7 +66,7 @@ func (s *Scheme) ensure() {
 }
 
 // Depth returns the length of the longest broader chain from concept i up
-// to a concept with no broader (0 for a top concept).
+// to a concept with no broader (0 for such a root, e.g. a top concept).
 func (s *Scheme) Depth(i int) int {
 	s.ensure()
 	return int(s.depth[i])

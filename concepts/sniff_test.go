@@ -3,6 +3,8 @@ package concepts
 import (
 	"strings"
 	"testing"
+
+	"termgrove/concepts/rdf"
 )
 
 func TestSniff(t *testing.T) {
@@ -63,5 +65,26 @@ func TestNormalizeFormat(t *testing.T) {
 		if got := NormalizeFormat(in); got != want {
 			t.Errorf("NormalizeFormat(%q) = %q, want %q", in, got, want)
 		}
+	}
+}
+
+func TestReadTriplesFormatOverride(t *testing.T) {
+	// N-Triples is valid Turtle: forcing "ttl" must read it the same.
+	doc := "<https://example.org/t/a> <http://www.w3.org/1999/02/22-rdf-syntax-ns#type> <http://www.w3.org/2004/02/skos/core#Concept> .\n"
+	for _, format := range []string{"", "ttl", "nt"} {
+		n := 0
+		got, err := ReadTriples(strings.NewReader(doc), LoadOptions{Format: format}, func(rdf.Triple) error { n++; return nil })
+		if IsNotImplemented(err) {
+			t.Skip(err)
+		}
+		if err != nil || n != 1 {
+			t.Errorf("format %q: %d triples, err %v", format, n, err)
+		}
+		if want := map[string]string{"": FormatNTriples, "ttl": FormatTurtle, "nt": FormatNTriples}[format]; got != want {
+			t.Errorf("format %q read as %q, want %q", format, got, want)
+		}
+	}
+	if DetectFormat([]byte(doc), "") != FormatNTriples || DetectFormat([]byte("hello"), "x.ttl") != "" {
+		t.Errorf("DetectFormat disagrees with sniff")
 	}
 }
