@@ -210,6 +210,7 @@ type checkSummary struct {
 	Concepts      int                    `json:"concepts"`
 	Deprecated    int                    `json:"deprecated"`
 	TopConcepts   int                    `json:"top_concepts"`
+	Roots         int                    `json:"roots"` // concepts with no broader concept
 	MaxDepth      int                    `json:"max_depth"`
 	PolyHierarchy int                    `json:"poly_hierarchy"`
 	Collections   int                    `json:"collections"`
@@ -228,7 +229,7 @@ func summarize(s *concepts.Scheme, problems []concepts.Problem) checkSummary {
 	info := s.Info()
 	sum := checkSummary{File: info.File, Format: info.Format, Triples: info.Triples, Scheme: s.IRI,
 		Schemes: info.Schemes, Concepts: len(s.Concepts), MaxDepth: s.MaxDepth(),
-		Collections: len(s.Collections), Labels: map[string]*labelCount{},
+		Collections: len(s.Collections), Roots: len(s.Roots()), Labels: map[string]*labelCount{},
 		ProblemCounts: map[string]int{}, Problems: problems}
 	if sum.Schemes == nil {
 		sum.Schemes = []string{}
@@ -289,7 +290,7 @@ func writeCheckText(w io.Writer, sum checkSummary, max int) {
 	}
 	row("scheme", "%s", scheme)
 	row("concepts", "%d (%d deprecated)", sum.Concepts, sum.Deprecated)
-	row("top concepts", "%d", sum.TopConcepts)
+	row("top concepts", "%d (%s with no broader concept)", sum.TopConcepts, plural(sum.Roots, "concept"))
 	row("max depth", "%d", sum.MaxDepth)
 	row("poly-hierarchy", "%s with more than one broader concept", plural(sum.PolyHierarchy, "concept"))
 	row("collections", "%d", sum.Collections)

@@ -19,7 +19,7 @@ func TestCheckCommand(t *testing.T) {
 		stderr []string // substrings of stderr
 	}{
 		{"clean", []string{"--lang", "en,fr", td + "small.ttl"}, 0,
-			[]string{"concepts        19 (1 deprecated)", "top concepts    3", "max depth       2", "1 concept with more than one broader", "collections     1", "en             19        8        2", "no problems found"}, nil},
+			[]string{"concepts        19 (1 deprecated)", "top concepts    3 (4 concepts with no broader concept)", "max depth       2", "1 concept with more than one broader", "collections     1", "en             19        8        2", "no problems found"}, nil},
 		{"flags after the file", []string{td + "small.ttl", "--lang", "en"}, 0, []string{"no problems found"}, nil},
 		{"problems", []string{td + "check/cycle.ttl"}, 1,
 			[]string{"1 problem:", "cycle (1)", "broader cycle: https://example.org/t/a → https://example.org/t/b → https://example.org/t/c → https://example.org/t/a"}, nil},
