@@ -68,8 +68,8 @@ const (
 const (
 	DefaultTop      = 10
 	DefaultMaxBytes = 1 << 20 // 1 MiB
-	DefaultBurnIn   = 12
-	DefaultSamples  = 24
+	DefaultBurnIn   = 10
+	DefaultSamples  = 20
 	DefaultBoost    = 20.0
 	// pathPool: aggregated path scores count the descendants among this many
 	// best-ranked concepts (or Top, when larger).
@@ -95,7 +95,7 @@ type Options struct {
 	// MaxBytes refuses longer texts with ErrTooLarge (default 1 MiB;
 	// negative: no limit). Memory grows with distinct words times topics met.
 	MaxBytes int
-	// BurnIn and Samples are the sweeps discarded and averaged (defaults 12, 24).
+	// BurnIn and Samples are the sweeps discarded and averaged (defaults 10, 20).
 	BurnIn, Samples int
 	// BoostFactor multiplies known subjects' α in Boost mode (default 20).
 	BoostFactor float64
@@ -180,7 +180,7 @@ type Annotator struct {
 	wal   []alias   // per word, over α_k·s_kw; views into shared storage
 	aw    []float64 // A_w = q + Σ_k α_k·s_kw
 	awF   []float64 // Σ_{k ≥ C} α_k·φ_kw
-	best  []int32   // argmax_k α_k·φ_kw
+	best  []int32   // argmax over concepts k of α_k·φ_kw (-1: no concepts)
 	bestV []float64
 
 	pool sync.Pool // *state
@@ -327,17 +327,21 @@ func New(m *model.Model) (*Annotator, error) {
 			if k >= int32(C) {
 				free += v
 			}
-			if f := v + dw[k]; f > bv || (f == bv && k < bk) {
+			if f := v + dw[k]; k < int32(C) && (f > bv || (f == bv && k < bk)) {
 				bk, bv = k, f
 			}
 		}
-		// Topics off the list weigh α_k·φ⁰_k; the largest of those is among
-		// the first hi-lo+1 of order, since list topics weigh more still.
-		for _, k := range a.order[:min(int(hi-lo)+1, K)] {
-			if f := dw[k]; f > bv || (f == bv && k < bk) {
-				if !a.inList(w, k) {
+		// Concepts off the list weigh α_k·φ⁰_k: the best of them is the
+		// first in order that is not on the list.
+		for _, k := range a.order {
+			if k >= int32(C) {
+				continue
+			}
+			if !a.inList(w, k) {
+				if f := dw[k]; f > bv || (f == bv && k < bk) {
 					bk, bv = k, f
 				}
+				break
 			}
 		}
 		a.wal[w] = newAlias(buf, prob[lo:hi:hi], al[lo:hi:hi])
@@ -371,10 +375,21 @@ func (a *Annotator) find(w int, k int32) (int32, bool) {
 	return lo, lo < a.off[w+1] && a.topic[lo] == k
 }
 
-// sv returns s_kw = (n_kw + λ·π_kw)/(n_k + B_k), searching topic k's
-// rows: they are short and compact, where a common word's list is long.
+// sv returns s_kw = (n_kw + λ·π_kw)/(n_k + B_k), searching whichever is
+// shorter: the word's topic list or topic k's rows (a common word's list is
+// long; a free topic's row is long).
 func (a *Annotator) sv(w int, k int32) float64 {
 	row := a.m.Counts[k]
+	var pr []model.WordWeight
+	if int(k) < len(a.m.Prior) {
+		pr = a.m.Prior[k]
+	}
+	if int(a.off[w+1]-a.off[w]) <= len(row)+len(pr) {
+		if i, ok := a.find(w, k); ok {
+			return a.s[i]
+		}
+		return 0
+	}
 	lo, hi := 0, len(row)
 	for lo < hi {
 		mid := int(uint(lo+hi) >> 1)
@@ -388,20 +403,17 @@ func (a *Annotator) sv(w int, k int32) float64 {
 	if lo < len(row) && int(row[lo].Word) == w {
 		num = float64(row[lo].Count)
 	}
-	if int(k) < len(a.m.Prior) {
-		pr := a.m.Prior[k]
-		lo, hi := 0, len(pr)
-		for lo < hi {
-			mid := int(uint(lo+hi) >> 1)
-			if int(pr[mid].Word) < w {
-				lo = mid + 1
-			} else {
-				hi = mid
-			}
+	lo, hi = 0, len(pr)
+	for lo < hi {
+		mid := int(uint(lo+hi) >> 1)
+		if int(pr[mid].Word) < w {
+			lo = mid + 1
+		} else {
+			hi = mid
 		}
-		if lo < len(pr) && int(pr[lo].Word) == w {
-			num += a.m.Lambda * pr[lo].Weight
-		}
+	}
+	if lo < len(pr) && int(pr[lo].Word) == w {
+		num += a.m.Lambda * pr[lo].Weight
 	}
 	return num * a.invDen[k]
 }
@@ -462,16 +474,20 @@ func baseTag(l string) string {
 // state is the scratch space of one annotation, reused through a pool.
 // Dense per-topic arrays are cleared through the lists of touched topics.
 type state struct {
-	toks  []terms.Token
-	ndk   []int32   // K: tokens of the record on topic k
-	ext   []float64 // K: extra α of topic k routed through the record part
-	slot  []int32   // K: k's slot, -1 when none
-	th    []float64 // K: θ accumulation
-	agg   []float64 // C: descendants' scores, cleared through aggT
-	mark  []uint32  // C: visit stamps of the hierarchy walks
-	gen   uint32
-	aggT  []int32
-	stack []int32
+	toks []terms.Token
+	ndk  []int32   // K: tokens of the record on topic k
+	ext  []float64 // K: extra α of topic k routed through the record part
+	slot []int32   // K: k's slot, -1 when none
+	th   []float64 // K: θ accumulation
+	agg  []float64 // C: descendants' scores, cleared through aggT
+	mark []uint32  // C: visit stamps of the hierarchy walks
+	gen  uint32
+	aggT []int32
+	// blocks hold the per-slot vectors (sval, acc), reused across records;
+	// bi and boff are the next free block and offset.
+	blocks   [][]float64
+	bi, boff int
+	stack    []int32
 
 	slotTopic []int32     // slot → topic
 	pos       []int32     // slot → position in act, -1 when inactive
@@ -519,8 +535,9 @@ func (a *Annotator) put(st *state) {
 	st.sval, st.acc, st.nacc = st.sval[:0], st.acc[:0], st.nacc[:0]
 	st.uw, st.ucnt, st.cacc, st.tu, st.z = st.uw[:0], st.ucnt[:0], st.cacc[:0], st.tu[:0], st.z[:0]
 	clear(st.uOf)
-	if cap(st.toks) > 1<<16 {
-		st.toks = nil // do not keep a huge record's buffers
+	st.bi, st.boff = 0, 0
+	if cap(st.toks) > 1<<16 || len(st.blocks) > 64 {
+		st.toks, st.blocks = nil, nil // do not keep a huge record's buffers
 	}
 	a.pool.Put(st)
 }
@@ -535,14 +552,35 @@ func (a *Annotator) slotOf(st *state, k int32) int32 {
 	st.slotTopic = append(st.slotTopic, k)
 	st.pos = append(st.pos, -1)
 	U := len(st.uw)
-	sv := make([]float64, U)
+	sv := st.alloc(U)
+	nan := math.NaN()
 	for i := range sv {
-		sv[i] = math.NaN()
+		sv[i] = nan
 	}
 	st.sval = append(st.sval, sv)
-	st.acc = append(st.acc, make([]float64, U))
+	acc := st.alloc(U)
+	clear(acc)
+	st.acc = append(st.acc, acc)
 	st.nacc = append(st.nacc, 0)
 	return s
+}
+
+// alloc returns n floats from the state's reusable blocks (not cleared).
+func (st *state) alloc(n int) []float64 {
+	for st.bi < len(st.blocks) {
+		b := st.blocks[st.bi]
+		if len(b)-st.boff >= n {
+			st.boff += n
+			return b[st.boff-n : st.boff : st.boff]
+		}
+		st.bi++
+		st.boff = 0
+	}
+	b := make([]float64, max(64*n, 1<<14))
+	st.blocks = append(st.blocks, b)
+	st.bi = len(st.blocks) - 1
+	st.boff = n
+	return b[:n:n]
 }
 
 // nextGen starts a new hierarchy walk.
@@ -710,7 +748,12 @@ func (a *Annotator) draw(st *state, u int32, rng *rand.Rand, record bool) int32 
 	bt := 0.0
 	for _, s := range st.act {
 		k := st.slotTopic[s]
-		v := (float64(st.ndk[k]) + st.ext[k]) * (a.phi0[k] + a.sOf(st, s, u))
+		sv := st.sval[s][u]
+		if sv != sv { // NaN: not looked up yet
+			sv = a.sv(int(w), k)
+			st.sval[s][u] = sv
+		}
+		v := (float64(st.ndk[k]) + st.ext[k]) * (a.phi0[k] + sv)
 		st.buf = append(st.buf, v)
 		bt += v
 	}
@@ -974,18 +1017,10 @@ func (a *Annotator) words(res *Result, text string, toks []terms.Token, st *stat
 				try(k)
 			}
 		}
-		try(a.best[w])
-		// The best concept by α_k·φ_kw alone, when a free topic leads that list.
-		if int(a.best[w]) >= a.C {
-			for i := a.off[w]; i < a.off[w+1]; i++ {
-				try(a.topic[i])
-			}
-			for _, k := range a.order {
-				if int(k) < a.C {
-					try(k)
-					break
-				}
-			}
+		// The best concept by α_k·φ_kw alone: those without record mass
+		// cannot beat it.
+		if a.best[w] >= 0 {
+			try(a.best[w])
 		}
 		pf := a.freePost(st, u, samples)
 		if pf > bp || bk < 0 {
