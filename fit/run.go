@@ -102,7 +102,7 @@ func (st *state) run(ctx context.Context) (*Result, error) {
 func (st *state) buildModel() *model.Model {
 	m := &model.Model{
 		C: st.C, F: st.F,
-		Alpha:     slices.Clone(st.alpha),
+		Alpha:     st.marginalAlpha(),
 		Beta0:     st.beta0,
 		Lambda:    st.lambda,
 		Counts:    make([][]model.WordCount, st.K),
@@ -183,4 +183,32 @@ func (st *state) buildModel() *model.Model {
 // String summarises a result in the CLI's closing format.
 func (r *Result) String() string {
 	return fmt.Sprintf("tokens=%d sweeps=%d seconds=%.1f tokens/s=%.0f", r.TrainTokens, r.Sweeps, r.Seconds, r.TokensPerSec)
+}
+
+// marginalAlpha is the α a record of unknown subjects should use. A concept
+// topic was only allowed in the unrestricted records and the restricted
+// ones naming it, so its learned α_k holds for that share q_k of the
+// records; the model stores α_k·q_k, its expected weight in any record.
+// Without restricted records this is α itself.
+func (st *state) marginalAlpha() []float64 {
+	a := slices.Clone(st.alpha)
+	allowed := make([]int, st.C)
+	unrestricted := 0
+	for i := range st.docs {
+		if st.docs[i].subjects == nil {
+			unrestricted++
+			continue
+		}
+		for _, k := range st.docs[i].subjects {
+			allowed[k]++
+		}
+	}
+	if unrestricted == len(st.docs) {
+		return a
+	}
+	for k := 0; k < st.C; k++ {
+		q := float64(unrestricted+allowed[k]) / float64(len(st.docs))
+		a[k] = max(a[k]*q, minAlpha)
+	}
+	return a
 }

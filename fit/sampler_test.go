@@ -350,3 +350,30 @@ func TestHeldOutComputed(t *testing.T) {
 		t.Fatalf("held-out %v per token, uniform %v", res.HeldOutLLPerWord, math.Log(1.0/30))
 	}
 }
+
+// TestMarginalAlpha: the model's α of a concept is the learned α scaled by
+// the share of records allowed to use it. Common practice, no source.
+func TestMarginalAlpha(t *testing.T) {
+	p, c := randomSetup(3, 6, 20, 30, 10)
+	st, err := newState(p, c, Options{FreeTopics: 2, Workers: 1, Alpha: 0.5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	a := st.marginalAlpha()
+	for k := 0; k < st.K; k++ {
+		n := 0
+		for _, d := range st.docs {
+			ok := d.subjects == nil || k >= st.C
+			for _, s := range d.subjects {
+				ok = ok || int(s) == k
+			}
+			if ok {
+				n++
+			}
+		}
+		want := 0.5 * float64(n) / float64(len(st.docs))
+		if math.Abs(a[k]-want) > 1e-12 {
+			t.Errorf("α_%d = %v, want %v", k, a[k], want)
+		}
+	}
+}

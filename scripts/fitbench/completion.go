@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 
 	"termgrove/fit"
 	"termgrove/internal/records"
@@ -40,7 +41,7 @@ func completion(modelPath, recsPath string) error {
 		a0 += a
 	}
 	r := rand.New(rand.NewPCG(1, 1))
-	var llTopic, llUni float64
+	var llTopic, llUni, llAlpha float64
 	var scored, recs int
 	cols := map[int32][]float64{}
 	nd := make([]float64, K)
@@ -107,6 +108,11 @@ func completion(modelPath, recsPath string) error {
 				s += theta[k] * c[k]
 			}
 			llTopic += math.Log(s)
+			var sa float64
+			for k := range theta {
+				sa += m.Alpha[k] / a0 * c[k]
+			}
+			llAlpha += math.Log(sa)
 			llUni += math.Log((freq[w] + 1) / (total + float64(W)))
 			scored++
 		}
@@ -118,6 +124,8 @@ func completion(modelPath, recsPath string) error {
 	}
 	fmt.Printf("document completion on %s: %d records, %d scored tokens\n", recsPath, recs, scored)
 	fmt.Printf("  termgrove model: %.4f nats/token, perplexity %.1f\n", llTopic/float64(scored), math.Exp(-llTopic/float64(scored)))
+	fmt.Printf("  α only (no fold-in): %.4f nats/token, perplexity %.1f\n", llAlpha/float64(scored), math.Exp(-llAlpha/float64(scored)))
+	fmt.Printf("  α: sum %.3f, largest %.3f, K %d\n", a0, slices.Max(m.Alpha), K)
 	fmt.Printf("  unigram:         %.4f nats/token, perplexity %.1f\n", llUni/float64(scored), math.Exp(-llUni/float64(scored)))
 	return nil
 }
