@@ -492,12 +492,13 @@ type state struct {
 	slotTopic []int32     // slot → topic
 	pos       []int32     // slot → position in act, -1 when inactive
 	act       []int32     // active slots: ndk > 0 or ext > 0
-	sval      [][]float64 // slot → per word type s_kw (NaN: not looked up yet)
+	sval      [][]float64 // slot → per word type s_kw
 	acc       [][]float64 // slot → per word type Σ p(z = k)
 	nacc      []float64   // slot → Σ over sampling sweeps of n_dk
 	touched   []int32
 
 	uw    []int32   // word type u → word id
+	usort []int32   // word types ordered by word id
 	ucnt  []int32   // occurrences of u
 	cacc  []float64 // u → Σ A_w/Z
 	tu    []int32   // token → u
@@ -534,6 +535,7 @@ func (a *Annotator) put(st *state) {
 	st.slotTopic, st.pos, st.act = st.slotTopic[:0], st.pos[:0], st.act[:0]
 	st.sval, st.acc, st.nacc = st.sval[:0], st.acc[:0], st.nacc[:0]
 	st.uw, st.ucnt, st.cacc, st.tu, st.z = st.uw[:0], st.ucnt[:0], st.cacc[:0], st.tu[:0], st.z[:0]
+	st.usort = st.usort[:0]
 	clear(st.uOf)
 	st.bi, st.boff = 0, 0
 	if cap(st.toks) > 1<<16 || len(st.blocks) > 64 {
@@ -553,10 +555,7 @@ func (a *Annotator) slotOf(st *state, k int32) int32 {
 	st.pos = append(st.pos, -1)
 	U := len(st.uw)
 	sv := st.alloc(U)
-	nan := math.NaN()
-	for i := range sv {
-		sv[i] = nan
-	}
+	a.fill(st, k, sv)
 	st.sval = append(st.sval, sv)
 	acc := st.alloc(U)
 	clear(acc)
@@ -611,14 +610,67 @@ func (st *state) deactivate(s int32) {
 	st.pos[s] = -1
 }
 
-// s returns s_kw for slot s and word type u, looking it up once.
-func (a *Annotator) sOf(st *state, s, u int32) float64 {
-	v := st.sval[s][u]
-	if v != v { // NaN: not looked up yet
-		v = a.sv(int(st.uw[u]), st.slotTopic[s])
-		st.sval[s][u] = v
+// sOf returns s_kw for slot s and word type u.
+func (a *Annotator) sOf(st *state, s, u int32) float64 { return st.sval[s][u] }
+
+// fill sets sv[u] = s_kw for topic k and every word type of the record:
+// a merge of topic k's sorted rows with the record's sorted words, or a
+// binary search per word when a row is much longer than the record.
+func (a *Annotator) fill(st *state, k int32, sv []float64) {
+	clear(sv)
+	row := a.m.Counts[k]
+	U := len(st.usort)
+	if len(row) <= 16*U {
+		i := 0
+		for _, u := range st.usort {
+			w := st.uw[u]
+			for i < len(row) && row[i].Word < w {
+				i++
+			}
+			if i == len(row) {
+				break
+			}
+			if row[i].Word == w {
+				sv[u] = float64(row[i].Count)
+			}
+		}
+	} else {
+		for _, u := range st.usort {
+			w := st.uw[u]
+			lo, hi := 0, len(row)
+			for lo < hi {
+				mid := int(uint(lo+hi) >> 1)
+				if row[mid].Word < w {
+					lo = mid + 1
+				} else {
+					hi = mid
+				}
+			}
+			if lo < len(row) && row[lo].Word == w {
+				sv[u] = float64(row[lo].Count)
+			}
+		}
 	}
-	return v
+	if int(k) < len(a.m.Prior) {
+		pr := a.m.Prior[k]
+		i := 0
+		for _, u := range st.usort {
+			w := st.uw[u]
+			for i < len(pr) && pr[i].Word < w {
+				i++
+			}
+			if i == len(pr) {
+				break
+			}
+			if pr[i].Word == w {
+				sv[u] += a.m.Lambda * pr[i].Weight
+			}
+		}
+	}
+	inv := a.invDen[k]
+	for u := range sv {
+		sv[u] *= inv
+	}
 }
 
 // infer runs the sampler over toks and fills res.
@@ -644,6 +696,10 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 	}
 	N := len(st.tu)
 	res.Tokens = N
+	for u := range st.uw {
+		st.usort = append(st.usort, int32(u))
+	}
+	slices.SortFunc(st.usort, func(x, y int32) int { return int(st.uw[x] - st.uw[y]) })
 
 	// Known subjects.
 	var subj []int32
@@ -748,12 +804,7 @@ func (a *Annotator) draw(st *state, u int32, rng *rand.Rand, record bool) int32 
 	bt := 0.0
 	for _, s := range st.act {
 		k := st.slotTopic[s]
-		sv := st.sval[s][u]
-		if sv != sv { // NaN: not looked up yet
-			sv = a.sv(int(w), k)
-			st.sval[s][u] = sv
-		}
-		v := (float64(st.ndk[k]) + st.ext[k]) * (a.phi0[k] + sv)
+		v := (float64(st.ndk[k]) + st.ext[k]) * (a.phi0[k] + st.sval[s][u])
 		st.buf = append(st.buf, v)
 		bt += v
 	}
