@@ -11,7 +11,6 @@ package rdf
 // gives <http://ex.org/a> <…skos/core#prefLabel> "cat"@en .
 
 import (
-	"bufio"
 	"bytes"
 	"encoding/xml"
 	"errors"
@@ -53,7 +52,7 @@ const maxXMLDepth = 10000
 // warns about (unknown rdf: names such as rdf:foo) are accepted silently.
 // Encodings other than UTF-8, US-ASCII and ISO-8859-1 are refused.
 func ReadRDFXML(r io.Reader, opt Options, fn func(Triple) error) error {
-	pr := &posReader{r: bufio.NewReaderSize(r, 64<<10), line: 1, col: 1, validate: true}
+	pr := &posReader{r: r, buf: make([]byte, 64<<10), line: 1, col: 1, validate: true}
 	d := xml.NewDecoder(pr)
 	d.Strict = true
 	d.CharsetReader = func(label string, in io.Reader) (io.Reader, error) {
@@ -75,7 +74,9 @@ func ReadRDFXML(r io.Reader, opt Options, fn func(Triple) error) error {
 // the decoder may hold one byte back. It also rejects invalid UTF-8, which
 // the decoder checks only in some places.
 type posReader struct {
-	r          *bufio.Reader
+	r          io.Reader
+	buf        []byte // read buffer, reused; bytes buf[i:n] are not handed out yet
+	i, n       int
 	off        int64 // bytes handed out so far
 	line, col  int   // position of the next byte
 	pline, pcl int   // position of the last byte handed out
@@ -84,9 +85,12 @@ type posReader struct {
 	lo, hi     byte  // allowed range of the next continuation byte
 	bad        bool  // an invalid byte sequence was met
 	ioErr      error // a read error of the underlying reader, not EOF
-	// raw holds the bytes read since the current token began (the decoder
-	// may have read its first byte already), for attribute normalization.
-	raw []byte
+	// The bytes read since the current token began (the decoder may have
+	// read its first byte already) are raw followed by buf[rawStart:i];
+	// raw only fills when the buffer is refilled inside a token. They serve
+	// attribute normalization.
+	raw      []byte
+	rawStart int
 	// bline, bcol locate the first byte of the current (or the invalid)
 	// UTF-8 sequence.
 	bline, bcol int
@@ -96,21 +100,32 @@ type posReader struct {
 var errBadUTF8 = errors.New("invalid UTF-8")
 
 func (p *posReader) ReadByte() (byte, error) {
-	b, err := p.r.ReadByte()
-	if err != nil {
-		if err == io.EOF && p.validate && p.need > 0 {
-			p.bad = true
-			p.bline, p.bcol = p.line, p.col
-			return 0, errBadUTF8
+	if p.i == p.n {
+		if err := p.fill(); err != nil {
+			if err == io.EOF && p.validate && p.need > 0 {
+				p.bad = true
+				p.bline, p.bcol = p.line, p.col
+				return 0, errBadUTF8
+			}
+			if err != io.EOF {
+				p.ioErr = err
+			}
+			return 0, err
 		}
-		if err != io.EOF {
-			p.ioErr = err
-		}
-		return b, err
 	}
+	b := p.buf[p.i]
+	p.i++
 	p.pline, p.pcl = p.line, p.col
 	p.off++
-	p.raw = append(p.raw, b)
+	if b < 0x80 && p.need == 0 { // ASCII outside a multi-byte sequence
+		if b == '\n' {
+			p.line++
+			p.col = 1
+		} else {
+			p.col++
+		}
+		return b, nil
+	}
 	if b == '\n' {
 		p.line++
 		p.col = 1
@@ -122,6 +137,35 @@ func (p *posReader) ReadByte() (byte, error) {
 		return 0, errBadUTF8
 	}
 	return b, nil
+}
+
+// fill reads more input into buf, keeping the current token's bytes.
+func (p *posReader) fill() error {
+	p.raw = append(p.raw, p.buf[p.rawStart:p.n]...)
+	p.rawStart = 0
+	for range 100 {
+		n, err := p.r.Read(p.buf)
+		p.i, p.n = 0, n
+		if n > 0 {
+			return nil
+		}
+		if err != nil {
+			return err
+		}
+	}
+	return io.ErrNoProgress
+}
+
+// startToken marks the start of a token's bytes.
+func (p *posReader) startToken() {
+	p.raw = p.raw[:0]
+	p.rawStart = p.i
+}
+
+// tokenBytes returns the bytes read since startToken; valid until the next
+// read.
+func (p *posReader) tokenBytes() []byte {
+	return append(p.raw, p.buf[p.rawStart:p.i]...)
 }
 
 // checkUTF8 advances the UTF-8 state by one byte (Unicode 15 Table 3-7,
@@ -159,8 +203,9 @@ func (p *posReader) checkUTF8(b byte) bool {
 	return true
 }
 
-// Read serves a charset reader installed after an encoding declaration; the
-// positions it reports are then only as good as the byte count.
+// Read serves a charset reader installed after an encoding declaration.
+// Each call stops after a '>', so the decoder's read-ahead, and with it the
+// error positions reported, stays within about one tag.
 func (p *posReader) Read(b []byte) (int, error) {
 	n := 0
 	for n < len(b) {
@@ -225,6 +270,7 @@ type xmlParser struct {
 
 	ns    []nsBinding // in-scope namespace declarations, innermost last
 	stack []frame     // open elements
+	elems []*element  // elems[d] is reused for every element at depth d
 	// line, col locate the start of the token read last.
 	line, col int
 	bnodes    int
@@ -354,7 +400,7 @@ func (p *xmlParser) next() (int, *element, string, error) {
 
 // rawToken reads one token, keeping its bytes in p.pos.raw.
 func (p *xmlParser) rawToken() (xml.Token, error) {
-	p.pos.raw = p.pos.raw[:0]
+	p.pos.startToken()
 	return p.dec.RawToken()
 }
 
@@ -374,7 +420,14 @@ func (p *xmlParser) open(t xml.StartElement) (*element, error) {
 	if n := len(p.stack); n > 0 {
 		f.base, f.lang = p.stack[n-1].base, p.stack[n-1].lang
 	}
-	e := &element{prefix: t.Name.Space, local: t.Name.Local, line: p.line, col: p.col}
+	// One element value per depth, reused: an element is only used while
+	// it is open, and its children live one level deeper.
+	depth := len(p.stack)
+	if depth == len(p.elems) {
+		p.elems = append(p.elems, &element{})
+	}
+	e := p.elems[depth]
+	*e = element{prefix: t.Name.Space, local: t.Name.Local, line: p.line, col: p.col, attrs: e.attrs[:0]}
 	for _, a := range t.Attr {
 		switch {
 		case a.Name.Space == "xmlns":
@@ -394,7 +447,6 @@ func (p *xmlParser) open(t xml.StartElement) (*element, error) {
 		return nil, p.errEl(e, "undeclared namespace prefix %q", t.Name.Space)
 	}
 	e.ns = uri
-	e.attrs = make([]attr, 0, len(t.Attr))
 	for i := range t.Attr {
 		// Not after a Latin-1 declaration: raw bytes are then not UTF-8.
 		if p.pos.validate && strings.ContainsAny(t.Attr[i].Value, "\t\n\r") {
@@ -435,7 +487,7 @@ func (p *xmlParser) open(t xml.StartElement) (*element, error) {
 // character reference stays. The values are decoded again from the raw
 // bytes of the start tag.
 func (p *xmlParser) normalizeAttrs(attrs []xml.Attr) {
-	raw := p.pos.raw
+	raw := p.pos.tokenBytes()
 	for i := range attrs {
 		// Each value is the next quoted string after an "=".
 		eq := bytes.IndexByte(raw, '=')
