@@ -76,6 +76,7 @@ func TestClientDisconnectsMidStream(t *testing.T) {
 	}
 	stillServes(t, ts)
 	settle(t, base+4)
+	waitCalls(t, ts)
 	for deadline := time.Now().Add(5 * time.Second); ts.s.metrics.inFlightValue() != 0; {
 		if time.Now().After(deadline) {
 			t.Fatalf("%d annotations still in flight", ts.s.metrics.inFlightValue())
@@ -161,6 +162,19 @@ func TestClientNeverReads(t *testing.T) {
 	<-sends
 	settle(t, base+4)
 	stillServes(t, ts)
+	waitCalls(t, ts)
+}
+
+// waitCalls fails unless the server's count of Annotate calls in progress
+// drops back to zero: every admitted call's end was seen.
+func waitCalls(t *testing.T, ts *testServer) {
+	t.Helper()
+	for deadline := time.Now().Add(5 * time.Second); ts.s.calls.Load() != 0; {
+		if time.Now().After(deadline) {
+			t.Fatalf("%d Annotate calls still counted in progress", ts.s.calls.Load())
+		}
+		time.Sleep(10 * time.Millisecond)
+	}
 }
 
 var _ = errors.Is

@@ -47,6 +47,7 @@ type Server struct {
 	health  *health.Server
 	grpc    *grpc.Server
 	sem     chan struct{} // annotation slots; a full channel means overload
+	calls   atomic.Int64  // Annotate calls admitted by shed and not yet ended
 	cert    atomic.Pointer[tls.Certificate]
 
 	mu          sync.Mutex
@@ -283,16 +284,24 @@ const annotateMethod = "/" + ServiceName + "/Annotate"
 
 // shed refuses an Annotate call with RESOURCE_EXHAUSTED in the transport,
 // before a goroutine is started or the message is read, while every
-// annotation slot is taken. Under overload this keeps the cost of a refusal
-// small, so refusals do not starve the calls in progress of CPU. Calls that
-// pass can still be refused by the slot check in the handler (a race this
-// check does not close, only makes rare).
+// annotation slot is taken or 2×MaxConcurrent Annotate calls are already in
+// the server (reading, waiting for CPU, annotating or writing). Under
+// overload this keeps refusals cheap and stops a backlog from building up
+// in front of the slots, where it would only add latency. A call that
+// passes can still be refused by the slot check in the handler.
 func (s *Server) shed(ctx context.Context, info *tap.Info) (context.Context, error) {
-	if info.FullMethodName == annotateMethod && len(s.sem) == cap(s.sem) {
+	if info.FullMethodName != annotateMethod {
+		return ctx, nil
+	}
+	if n := s.calls.Add(1); n > int64(2*s.cfg.MaxConcurrent) || len(s.sem) == cap(s.sem) {
+		s.calls.Add(-1)
 		s.metrics.requests.WithLabelValues(annotateMethod, codes.ResourceExhausted.String()).Inc()
 		s.metrics.shed.Inc()
 		return ctx, errBusy
 	}
+	// The transport cancels a stream's context when the stream ends, however
+	// it ends, so the count cannot leak.
+	context.AfterFunc(ctx, func() { s.calls.Add(-1) })
 	return ctx, nil
 }
 

@@ -340,6 +340,37 @@ func TestResourceExhausted(t *testing.T) {
 	if _, err := ts.c.Annotate(ctxT(t), &pb.AnnotateRequest{Text: "cat"}); err != nil {
 		t.Fatalf("after release: %v", err)
 	}
+	waitCalls(t, ts)
+}
+
+func TestShedBacklog(t *testing.T) {
+	// One slot: a second call is refused in the transport at once.
+	release := make(chan struct{})
+	entered := make(chan struct{}, 1)
+	ts := startServer(t, Config{MaxConcurrent: 1}, func(text string) {
+		if text == "block" {
+			entered <- struct{}{}
+			<-release
+		}
+	})
+	done := make(chan error, 1)
+	go func() {
+		_, err := ts.c.Annotate(ctxT(t), &pb.AnnotateRequest{Text: "block"})
+		done <- err
+	}()
+	<-entered
+	for range 20 {
+		_, err := ts.c.Annotate(ctxT(t), &pb.AnnotateRequest{Text: "cat"})
+		wantCode(t, err, codes.ResourceExhausted)
+	}
+	if n := ts.s.calls.Load(); n != 1 {
+		t.Fatalf("%d calls counted in progress, want 1", n)
+	}
+	close(release)
+	if err := <-done; err != nil {
+		t.Fatal(err)
+	}
+	waitCalls(t, ts)
 }
 
 func TestDefaultDeadline(t *testing.T) {

@@ -27,7 +27,9 @@ trap 'kill -TERM $pid 2>/dev/null; wait $pid 2>/dev/null || true' EXIT
 
 echo "## $(date -u +%FT%TZ) $(nproc) cores, load average: $(cut -d' ' -f1-3 /proc/loadavg)"
 bin/loadtest -mode local -concurrency 1,2 -duration 10s -words-from "$model"
-out=$(bin/loadtest -mode sweep -concurrency 1,8,64 -duration 10s "${src[@]}" | tee /dev/stderr)
+bin/loadtest -mode sweep -concurrency 1,8,64 -duration 10s "${src[@]}" > .cache/load/sweep.txt
+cat .cache/load/sweep.txt
+out=$(cat .cache/load/sweep.txt)
 # Capacity: the best accepted rate of the sweep.
 cap=$(echo "$out" | sed -n 's/.*ok=[0-9]* (\([0-9]*\)\/s).*/\1/p' | sort -n | tail -1)
 echo "## capacity ${cap}/s; overload at 3x = $((cap * 3))/s for $OVERLOAD"
