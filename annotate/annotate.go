@@ -617,8 +617,8 @@ func (a *Annotator) sOf(st *state, s, u int32) float64 { return st.sval[s][u] }
 // a merge of topic k's sorted rows with the record's sorted words, or a
 // binary search per word when a row is much longer than the record.
 func (a *Annotator) fill(st *state, k int32, sv []float64) {
-	clear(sv)
 	row := a.m.Counts[k]
+	inv := a.invDen[k]
 	U := len(st.usort)
 	if len(row) <= 16*U {
 		i := 0
@@ -627,12 +627,11 @@ func (a *Annotator) fill(st *state, k int32, sv []float64) {
 			for i < len(row) && row[i].Word < w {
 				i++
 			}
-			if i == len(row) {
-				break
+			v := 0.0
+			if i < len(row) && row[i].Word == w {
+				v = float64(row[i].Count) * inv
 			}
-			if row[i].Word == w {
-				sv[u] = float64(row[i].Count)
-			}
+			sv[u] = v
 		}
 	} else {
 		for _, u := range st.usort {
@@ -646,30 +645,28 @@ func (a *Annotator) fill(st *state, k int32, sv []float64) {
 					hi = mid
 				}
 			}
+			v := 0.0
 			if lo < len(row) && row[lo].Word == w {
-				sv[u] = float64(row[lo].Count)
+				v = float64(row[lo].Count) * inv
 			}
+			sv[u] = v
 		}
 	}
 	if int(k) < len(a.m.Prior) {
 		pr := a.m.Prior[k]
 		i := 0
 		for _, u := range st.usort {
+			if i == len(pr) {
+				break
+			}
 			w := st.uw[u]
 			for i < len(pr) && pr[i].Word < w {
 				i++
 			}
-			if i == len(pr) {
-				break
-			}
-			if pr[i].Word == w {
-				sv[u] += a.m.Lambda * pr[i].Weight
+			if i < len(pr) && pr[i].Word == w {
+				sv[u] += a.m.Lambda * pr[i].Weight * inv
 			}
 		}
-	}
-	inv := a.invDen[k]
-	for u := range sv {
-		sv[u] *= inv
 	}
 }
 
@@ -930,13 +927,22 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 			}
 		}
 	}
-	sort.Slice(cand, func(i, j int) bool {
-		si, sj := score(cand[i]), score(cand[j])
-		if si != sj {
-			return si > sj
+	ranked := make([]scored, len(cand))
+	for i, k := range cand {
+		ranked[i] = scored{k, score(k)}
+	}
+	slices.SortFunc(ranked, func(x, y scored) int {
+		switch {
+		case x.v > y.v:
+			return -1
+		case x.v < y.v:
+			return 1
 		}
-		return cand[i] < cand[j]
+		return int(x.k - y.k)
 	})
+	for i := range ranked {
+		cand[i] = ranked[i].k
+	}
 	if len(cand) > want {
 		cand = cand[:want]
 	}
@@ -1009,6 +1015,12 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 	if opt.IncludeWords {
 		a.words(res, text, toks, st, samples)
 	}
+}
+
+// scored is a topic with its score.
+type scored struct {
+	k int32
+	v float64
 }
 
 // support lists the terms carrying most of concept k's share of the

@@ -3,14 +3,20 @@ package annotate
 import (
 	"fmt"
 	"math/rand/v2"
+	"os"
+	"path/filepath"
 	"runtime"
 	"slices"
+	"strings"
 	"sync"
 	"testing"
 	"time"
 
+	"termgrove/concepts"
+	"termgrove/internal/records"
 	"termgrove/model"
 	"termgrove/model/modeltest"
+	"termgrove/prior"
 	"termgrove/terms"
 )
 
@@ -115,4 +121,166 @@ func TestMemory117k(t *testing.T) {
 	runtime.ReadMemStats(&m1)
 	t.Logf("model + annotator heap: %.0f MiB", float64(m1.HeapAlloc-m0.HeapAlloc)/(1<<20))
 	runtime.KeepAlive(a)
+}
+
+// BenchmarkAnnotateFile measures a real model: TG_ANN_MODEL (a .grove file)
+// and TG_ANN_RECORDS (JSON Lines, title + text). Records are concatenated
+// and cut into texts of exactly 150 analysed tokens. Skipped when unset.
+//
+//	TG_ANN_MODEL=.cache/annbench/debtags.grove TG_ANN_RECORDS=.cache/debtags/test.jsonl \
+//	    go test -run XXX -bench AnnotateFile -benchtime 2000x ./annotate
+func BenchmarkAnnotateFile(b *testing.B) {
+	mp, rp := os.Getenv("TG_ANN_MODEL"), os.Getenv("TG_ANN_RECORDS")
+	if mp == "" || rp == "" {
+		b.Skip("set TG_ANN_MODEL and TG_ANN_RECORDS")
+	}
+	if !filepath.IsAbs(mp) {
+		mp = filepath.Join("..", mp)
+	}
+	if !filepath.IsAbs(rp) {
+		rp = filepath.Join("..", rp)
+	}
+	t0 := time.Now()
+	m, err := model.Load(mp)
+	if err != nil {
+		b.Fatal(err)
+	}
+	a, err := New(m)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.Logf("K=%d W=%d loaded and prepared in %v", m.K(), m.W(), time.Since(t0))
+	var texts []string
+	var cur strings.Builder
+	err = records.Read(rp, records.Options{}, func(r records.Record) error {
+		if len(texts) >= 500 {
+			return nil
+		}
+		cur.WriteString(r.Join(nil))
+		cur.WriteString("\n\n")
+		toks, _ := a.an.Analyze(cur.String(), nil, false)
+		if len(toks) >= 150 {
+			texts = append(texts, cur.String()[:toks[149].End])
+			cur.Reset()
+		}
+		return nil
+	})
+	if err != nil || len(texts) == 0 {
+		b.Fatalf("records: %v (%d texts)", err, len(texts))
+	}
+	lat := make([]time.Duration, 0, b.N)
+	cpu := make([]time.Duration, 0, b.N)
+	opt := Options{IncludeWords: true}
+	runtime.LockOSThread()
+	defer runtime.UnlockOSThread()
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		c0 := threadCPU()
+		t1 := time.Now()
+		if _, err := a.Annotate("r", texts[i%len(texts)], opt); err != nil {
+			b.Fatal(err)
+		}
+		lat = append(lat, time.Since(t1))
+		cpu = append(cpu, threadCPU()-c0)
+	}
+	b.StopTimer()
+	slices.Sort(lat)
+	slices.Sort(cpu)
+	b.ReportMetric(float64(lat[len(lat)/2].Microseconds()), "median-µs")
+	b.ReportMetric(float64(lat[len(lat)*99/100].Microseconds()), "p99-µs")
+	b.ReportMetric(float64(cpu[len(cpu)/2].Microseconds()), "cpu-median-µs")
+	b.ReportMetric(float64(cpu[len(cpu)*99/100].Microseconds()), "cpu-p99-µs")
+}
+
+// BenchmarkAnnotateVocab measures a model over a real vocabulary with
+// synthetic counts (modeltest.FromPrior): TG_ANN_VOCAB names the SKOS file
+// (e.g. the 117k-concept WordNet one); the model is built once and kept
+// in .cache/annbench/vocab.grove. It logs the model's load time and heap,
+// then the latency of 150-token records drawn from the model's topics.
+//
+//	TG_ANN_VOCAB=.cache/wordnet/vocabulary.nt go test -run XXX -bench AnnotateVocab -benchtime 2000x -timeout 30m ./annotate
+func BenchmarkAnnotateVocab(b *testing.B) {
+	vp := os.Getenv("TG_ANN_VOCAB")
+	if vp == "" {
+		b.Skip("set TG_ANN_VOCAB")
+	}
+	if !filepath.IsAbs(vp) {
+		vp = filepath.Join("..", vp)
+	}
+	mp := filepath.Join("..", ".cache", "annbench", "vocab.grove")
+	if _, err := os.Stat(mp); err != nil {
+		t0 := time.Now()
+		s, err := concepts.Load(vp, concepts.LoadOptions{})
+		if err != nil {
+			b.Fatal(err)
+		}
+		an, err := terms.New(terms.Options{Languages: []string{"en"}}, terms.NewDictionary())
+		if err != nil {
+			b.Fatal(err)
+		}
+		p, err := prior.Build(s, an, prior.Options{})
+		if err != nil {
+			b.Fatal(err)
+		}
+		m := modeltest.FromPrior(p, modeltest.Options{Free: 50, Words: 100000, Seed: 1})
+		os.MkdirAll(filepath.Dir(mp), 0o755)
+		if err := model.Save(mp, m); err != nil {
+			b.Fatal(err)
+		}
+		b.Logf("built %s in %v: C=%d W=%d", mp, time.Since(t0), m.C, m.W())
+	}
+	runtime.GC()
+	var m0, m1 runtime.MemStats
+	runtime.ReadMemStats(&m0)
+	t0 := time.Now()
+	m, err := model.Load(mp)
+	if err != nil {
+		b.Fatal(err)
+	}
+	tl := time.Since(t0)
+	a, err := New(m)
+	if err != nil {
+		b.Fatal(err)
+	}
+	tn := time.Since(t0) - tl
+	runtime.GC()
+	runtime.ReadMemStats(&m1)
+	var nnz int
+	for _, r := range m.Counts {
+		nnz += len(r)
+	}
+	b.Logf("K=%d W=%d nnz=%d: Load %v, New %v, heap of model + annotator %.0f MiB",
+		m.K(), m.W(), nnz, tl, tn, float64(m1.HeapAlloc-m0.HeapAlloc)/(1<<20))
+	r := rand.New(rand.NewPCG(7, 7))
+	type rec struct {
+		text string
+		toks []terms.Token
+	}
+	recs := make([]rec, 500)
+	for i := range recs {
+		recs[i].text, recs[i].toks = benchRecord(m, r)
+	}
+	lat := make([]time.Duration, 0, b.N)
+	cpu := make([]time.Duration, 0, b.N)
+	opt := Options{IncludeWords: true}
+	runtime.LockOSThread()
+	defer runtime.UnlockOSThread()
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		x := recs[i%len(recs)]
+		c0 := threadCPU()
+		t1 := time.Now()
+		if _, err := a.AnnotateTokens("r", x.text+fmt.Sprint(i), x.toks, opt); err != nil {
+			b.Fatal(err)
+		}
+		lat = append(lat, time.Since(t1))
+		cpu = append(cpu, threadCPU()-c0)
+	}
+	b.StopTimer()
+	slices.Sort(lat)
+	slices.Sort(cpu)
+	b.ReportMetric(float64(lat[len(lat)/2].Microseconds()), "median-µs")
+	b.ReportMetric(float64(lat[len(lat)*99/100].Microseconds()), "p99-µs")
+	b.ReportMetric(float64(cpu[len(cpu)/2].Microseconds()), "cpu-median-µs")
+	b.ReportMetric(float64(cpu[len(cpu)*99/100].Microseconds()), "cpu-p99-µs")
 }
