@@ -24,9 +24,11 @@ const (
 )
 
 // DefaultMaxConcurrent is the default limit of annotations in progress:
-// annotation is CPU-bound, so a few per core keeps every core busy while
-// bounding latency; more would only queue inside the scheduler.
-func DefaultMaxConcurrent() int { return 4 * runtime.GOMAXPROCS(0) }
+// annotation is CPU-bound, so two per core keep every core busy while a
+// call's transport work overlaps; more only queue inside the scheduler and
+// add latency (bench/serve.md: on 2 cores, 4 slots instead of 8 raised the
+// accepted rate under overload and cut its p99 by half).
+func DefaultMaxConcurrent() int { return 2 * runtime.GOMAXPROCS(0) }
 
 // ModelSpec names one model file. Requests choose a model by Name.
 type ModelSpec struct {
