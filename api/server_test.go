@@ -537,7 +537,7 @@ func TestReloadUnderTraffic(t *testing.T) {
 }
 
 func TestShutdownUnderTraffic(t *testing.T) {
-	ts := startServer(t, Config{}, func(text string) {
+	ts := startServer(t, Config{MaxConcurrent: 16}, func(text string) {
 		if text == "slow" {
 			time.Sleep(300 * time.Millisecond)
 		}
