@@ -483,7 +483,7 @@ func TestMetrics(t *testing.T) {
 }
 
 func TestReloadUnderTraffic(t *testing.T) {
-	ts := startServer(t, Config{}, nil)
+	ts := startServer(t, Config{MaxConcurrent: 16}, nil)
 	stop := make(chan struct{})
 	var calls, failures atomic.Int64
 	var wg sync.WaitGroup
