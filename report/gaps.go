@@ -113,8 +113,8 @@ type UnusedGroup struct {
 type UnusedConcept struct {
 	IRI     string  `json:"iri"`
 	Label   string  `json:"label"`
-	Share   float64 `json:"share"`
-	Records int     `json:"records"`
+	Share   float64 `json:"share"`   // with its narrower concepts
+	Records int     `json:"records"` // with its narrower concepts
 }
 
 // Theme is one free topic.
@@ -209,10 +209,13 @@ func Gaps(m *model.Model, a Annotator, recs []records.Record, opt GapOptions) (*
 		}
 		return 0
 	}
-	unused := func(c int) bool { return share(c) < opt.MinShare || docs(c) < opt.MinRecords }
+	// A broader concept whose narrower concepts are used is no gap: the
+	// thresholds apply to the concept together with everything below it.
+	subShare, subDocs := subtreeTotals(s, m.C, share, docs)
+	unused := func(c int) bool { return subShare[c] < opt.MinShare || subDocs[c] < opt.MinRecords }
 
 	// (a) unused concepts, grouped under their top concepts, and the tree.
-	g.Tree = buildTree(s, m.C, label, share, docs, unused)
+	g.Tree = buildTree(s, m.C, label, share, subShare, subDocs, unused)
 	groups := map[int]*UnusedGroup{}
 	var order []int
 	nUnused := 0
@@ -228,7 +231,7 @@ func Gaps(m *model.Model, a Annotator, recs []records.Record, opt GapOptions) (*
 			groups[top] = grp
 			order = append(order, top)
 		}
-		grp.Concepts = append(grp.Concepts, UnusedConcept{IRI: s.Concepts[c].IRI, Label: label(c), Share: share(c), Records: docs(c)})
+		grp.Concepts = append(grp.Concepts, UnusedConcept{IRI: s.Concepts[c].IRI, Label: label(c), Share: subShare[c], Records: subDocs[c]})
 	}
 	sort.Slice(order, func(i, j int) bool { return label(order[i]) < label(order[j]) })
 	for _, t := range order {
@@ -324,35 +327,42 @@ func topOf(s *concepts.Scheme, c int) int {
 	return c
 }
 
-func buildTree(s *concepts.Scheme, C int, label func(int) string, share func(int) float64, docs func(int) int, unused func(int) bool) []*TreeNode {
-	n := len(s.Concepts)
-	if C < n {
-		n = C
-	}
-	subtree := make([]float64, n)
-	done := make([]int8, n) // 0 new, 1 in progress, 2 done
-	var sub func(c int) float64
-	sub = func(c int) float64 {
-		if done[c] == 2 {
-			return subtree[c]
-		}
-		if done[c] == 1 { // a cycle: count once
-			return 0
-		}
-		done[c] = 1
-		v := share(c)
-		for _, ch := range s.Concepts[c].Narrower {
-			if ch < n {
-				v += sub(ch)
+// subtreeTotals adds every concept's own share and record count to each of
+// its ancestors, once per ancestor even in a poly-hierarchy (cycle-safe):
+// O(Σ ancestors), not O(concepts²).
+func subtreeTotals(s *concepts.Scheme, C int, share func(int) float64, docs func(int) int) ([]float64, []int) {
+	n := min(len(s.Concepts), C)
+	subShare := make([]float64, n)
+	subDocs := make([]int, n)
+	seen := make([]int, n) // seen[a] == c+1: a already credited for c
+	var stack []int
+	for c := 0; c < n; c++ {
+		sh, d := share(c), docs(c)
+		stack = append(stack[:0], c)
+		seen[c] = c + 1
+		for len(stack) > 0 {
+			a := stack[len(stack)-1]
+			stack = stack[:len(stack)-1]
+			subShare[a] += sh
+			subDocs[a] += d
+			for _, b := range s.Concepts[a].Broader {
+				if b < n && seen[b] != c+1 {
+					seen[b] = c + 1
+					stack = append(stack, b)
+				}
 			}
 		}
-		subtree[c] = v
-		done[c] = 2
-		return v
 	}
+	return subShare, subDocs
+}
+
+// buildTree lays the concepts out from the roots down; a concept with
+// several broader concepts appears under each.
+func buildTree(s *concepts.Scheme, C int, label func(int) string, share func(int) float64, subShare []float64, subDocs []int, unused func(int) bool) []*TreeNode {
+	n := min(len(s.Concepts), C)
 	var node func(c int, path map[int]bool) *TreeNode
 	node = func(c int, path map[int]bool) *TreeNode {
-		t := &TreeNode{IRI: s.Concepts[c].IRI, Label: label(c), Share: share(c), Subtree: sub(c), Records: docs(c), Unused: unused(c)}
+		t := &TreeNode{IRI: s.Concepts[c].IRI, Label: label(c), Share: share(c), Subtree: subShare[c], Records: subDocs[c], Unused: unused(c)}
 		path[c] = true
 		for _, ch := range s.Concepts[c].Narrower {
 			if ch < n && !path[ch] {

@@ -326,3 +326,24 @@ func chromiumCheck(t *testing.T, page string, ids []string) {
 		}
 	}
 }
+
+// A broader concept that takes no tokens itself but whose narrower
+// concepts are used is no gap. Common practice, no source.
+func TestGapsBroaderConceptUsedThroughNarrower(t *testing.T) {
+	m := gapModel()
+	m.Counts[0], m.Totals[0], m.DocCounts[0] = nil, 0, 0
+	g, err := Gaps(m, nil, nil, GapOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, grp := range g.Unused {
+		for _, c := range grp.Concepts {
+			if c.Label == "Trades" {
+				t.Errorf("Trades listed as unused though Milling below it is used: %+v", c)
+			}
+		}
+	}
+	if tr := g.Tree[0]; tr.Label != "Trades" || tr.Unused || tr.Records != 30 {
+		t.Errorf("tree root = %+v; want Trades used, with Milling's 30 records", tr)
+	}
+}
