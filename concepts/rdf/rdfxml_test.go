@@ -252,6 +252,17 @@ func TestReadRDFXMLBadInput(t *testing.T) {
 			line: 3, col: 3, msg: "rdf:li is not allowed as a node element",
 		},
 		{
+			// Columns count characters: 日本 is two columns, six bytes.
+			name: "column after multi-byte characters",
+			doc:  xmlHead + `<rdf:Description rdf:about="http://ex.org/日本"><rdf:Description/>`,
+			line: 2, col: 47, msg: "rdf:Description is not allowed as a property element",
+		},
+		{
+			name: "nesting too deep",
+			doc:  xmlHead + "<rdf:Description>" + strings.Repeat(`<ex:p rdf:parseType="Resource">`, maxXMLDepth),
+			line: 2, col: 18 + 31*(maxXMLDepth-2), msg: "nested deeper than",
+		},
+		{
 			name: "text mixed with a node element",
 			doc:  xmlHead + "<rdf:Description><ex:p>x<rdf:Description/></ex:p></rdf:Description></rdf:RDF>",
 			line: 2, col: 25, msg: "after text",
