@@ -11,6 +11,7 @@ import (
 	"sort"
 	"strings"
 	"testing"
+	"time"
 )
 
 // readXMLLines parses doc and returns its triples as sorted N-Triples lines.
@@ -465,3 +466,34 @@ func BenchmarkRDFXML(b *testing.B) {
 }
 
 func BenchmarkWordNetRDFXML(b *testing.B) { benchWordNet(b, "vocabulary.rdf", ReadRDFXML) }
+
+func TestReadRDFXMLStreams(t *testing.T) {
+	// The first triple must reach the callback before the rest of the
+	// document has been written, so a large file is never held whole.
+	pr, pw := io.Pipe()
+	first := make(chan struct{})
+	go func() {
+		pw.Write([]byte(xmlHead + `<rdf:Description rdf:about="http://ex.org/a" ex:p="1">` + "\n"))
+		select {
+		case <-first:
+		case <-time.After(5 * time.Second):
+		}
+		pw.Write([]byte(`</rdf:Description></rdf:RDF>`))
+		pw.Close()
+	}()
+	n := 0
+	start := time.Now()
+	err := ReadRDFXML(pr, Options{}, func(Triple) error {
+		if n == 0 {
+			close(first)
+		}
+		n++
+		return nil
+	})
+	if err != nil || n != 1 {
+		t.Fatalf("got %d triples, error %v", n, err)
+	}
+	if time.Since(start) > 4*time.Second {
+		t.Errorf("the first triple waited for the end of the document")
+	}
+}
