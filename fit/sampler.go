@@ -1,6 +1,9 @@
 package fit
 
-import "sync"
+import (
+	"sync"
+	"unsafe"
+)
 
 // change is one token that moved from topic old to topic new in a sweep,
 // replayed on the shared counts by the AD-LDA merge.
@@ -39,7 +42,6 @@ type worker struct {
 	pbuf []float64 // prior bucket terms, parallel to the prior list of w
 
 	changes []change
-	sink    int32 // keeps the prefetching loads in doc from being dropped
 }
 
 func newWorker(st *state, r *rng, local bool) *worker {
@@ -160,11 +162,15 @@ func (wk *worker) doc(d *sdoc, first bool) {
 	for i := d.start; i < d.end; i++ {
 		w := st.words[i]
 		old := st.z[i]
-		if i+1 < d.end {
-			// Touch the next token's word list now: its cache miss then
-			// overlaps this token's work instead of stalling the next one.
-			if nl := wk.wt[st.words[i+1]]; len(nl) > 0 {
-				wk.sink += nl[0].n
+		// Prefetch the word lists of tokens ahead (the list header four
+		// tokens ahead, its entries two ahead): at large K the sampler waits
+		// mostly on these cache misses.
+		if i+4 < d.end {
+			prefetch(unsafe.Pointer(&wk.wt[st.words[i+4]]))
+		}
+		if i+2 < d.end {
+			if nl := wk.wt[st.words[i+2]]; cap(nl) > 0 {
+				prefetch(unsafe.Pointer(unsafe.SliceData(nl)))
 			}
 		}
 		if !first {
