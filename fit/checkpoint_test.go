@@ -3,9 +3,11 @@ package fit
 import (
 	"context"
 	"errors"
+	"io"
 	"os"
 	"path/filepath"
 	"reflect"
+	"strings"
 	"testing"
 )
 
@@ -59,5 +61,31 @@ func TestResumeSameAsUninterrupted(t *testing.T) {
 	os.WriteFile(bad, data[:len(data)/3], 0o644)
 	if _, err := Resume(t.Context(), bad, p, c, Options{}); !errors.Is(err, ErrCheckpoint) {
 		t.Fatalf("truncated checkpoint: %v", err)
+	}
+}
+
+// TestWriteAtomicFailure: a write that fails half-way (a full disk, say)
+// leaves the old file as it was and no temporary file behind.
+// Common practice, no source.
+func TestWriteAtomicFailure(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "state.checkpoint")
+	if err := os.WriteFile(path, []byte("old"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	full := errors.New("no space left on device")
+	err := writeAtomic(path, func(w io.Writer) error {
+		w.Write(make([]byte, 4<<20))
+		return full
+	})
+	if !errors.Is(err, full) || !strings.Contains(err.Error(), path) {
+		t.Fatalf("error %v should wrap the cause and name the file", err)
+	}
+	if b, _ := os.ReadFile(path); string(b) != "old" {
+		t.Fatalf("old file changed: %q", b)
+	}
+	ents, _ := os.ReadDir(dir)
+	if len(ents) != 1 {
+		t.Fatalf("left behind: %v", ents)
 	}
 }
