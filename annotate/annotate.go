@@ -495,6 +495,13 @@ type state struct {
 	sval      [][]float64 // slot → per word type s_kw
 	acc       [][]float64 // slot → per word type Σ p(z = k)
 	nacc      []float64   // slot → Σ over sampling sweeps of n_dk
+	cs        []float64   // slot → c_k = n_dk + extra α
+	phi0s     []float64   // slot → φ⁰_k
+	dsm       []float64   // slot → Σ over sampling sweeps of c_k·φ⁰_k / D
+	nz        [][]int32   // word type → slots with s_kw > 0
+	dacc      []float64   // word type → Σ D/Z
+	d         float64     // D = Σ_k c_k·φ⁰_k over the active slots
+	idx       []int32
 	touched   []int32
 
 	uw    []int32   // word type u → word id
@@ -534,6 +541,12 @@ func (a *Annotator) put(st *state) {
 	st.aggT = st.aggT[:0]
 	st.slotTopic, st.pos, st.act = st.slotTopic[:0], st.pos[:0], st.act[:0]
 	st.sval, st.acc, st.nacc = st.sval[:0], st.acc[:0], st.nacc[:0]
+	st.cs, st.phi0s, st.dsm, st.dacc = st.cs[:0], st.phi0s[:0], st.dsm[:0], st.dacc[:0]
+	for u := range st.nz {
+		st.nz[u] = st.nz[u][:0]
+	}
+	st.nz = st.nz[:0]
+	st.d = 0
 	st.uw, st.ucnt, st.cacc, st.tu, st.z = st.uw[:0], st.ucnt[:0], st.cacc[:0], st.tu[:0], st.z[:0]
 	st.usort = st.usort[:0]
 	clear(st.uOf)
@@ -557,6 +570,14 @@ func (a *Annotator) slotOf(st *state, k int32) int32 {
 	sv := st.alloc(U)
 	a.fill(st, k, sv)
 	st.sval = append(st.sval, sv)
+	for u, v := range sv {
+		if v > 0 {
+			st.nz[u] = append(st.nz[u], s)
+		}
+	}
+	st.cs = append(st.cs, float64(st.ndk[k])+st.ext[k])
+	st.phi0s = append(st.phi0s, a.phi0[k])
+	st.dsm = append(st.dsm, 0)
 	acc := st.alloc(U)
 	clear(acc)
 	st.acc = append(st.acc, acc)
@@ -687,6 +708,12 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 			st.uw = append(st.uw, w)
 			st.ucnt = append(st.ucnt, 0)
 			st.cacc = append(st.cacc, 0)
+			st.dacc = append(st.dacc, 0)
+			if len(st.nz) < cap(st.nz) {
+				st.nz = st.nz[:len(st.nz)+1]
+			} else {
+				st.nz = append(st.nz, nil)
+			}
 		}
 		st.ucnt[u]++
 		st.tu = append(st.tu, u)
@@ -716,21 +743,15 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 				f = DefaultBoost
 			}
 			for _, k := range subj {
-				s := a.slotOf(st, k)
-				st.ext[k] = (f - 1) * a.alpha[k]
-				if st.ext[k] > 0 {
-					st.activate(s)
-				}
+				a.setExt(st, k, (f-1)*a.alpha[k])
 			}
 		default:
 			st.allow = true
 			for _, k := range subj {
-				st.ext[k] = a.alpha[k]
-				st.activate(a.slotOf(st, k))
+				a.setExt(st, k, a.alpha[k])
 			}
 			for k := a.C; k < a.K; k++ {
-				st.ext[k] = a.alpha[k]
-				st.activate(a.slotOf(st, int32(k)))
+				a.setExt(st, int32(k), a.alpha[k])
 			}
 		}
 	}
@@ -770,22 +791,26 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 	// remove and redraw each token.
 	for sweep := 0; sweep <= burn+samples; sweep++ {
 		record := sweep > burn
+		// Re-sum the smoothing bucket so that rounding cannot drift.
+		st.d = 0
+		for _, s := range st.act {
+			st.d += st.cs[s] * st.phi0s[s]
+		}
 		for i, u := range st.tu {
 			if sweep > 0 {
-				k := st.z[i]
-				st.ndk[k]--
-				if st.ndk[k] == 0 && st.ext[k] == 0 {
-					st.deactivate(st.slot[k])
-				}
+				a.add(st, st.z[i], -1)
 			}
 			st.z[i] = a.draw(st, u, rng, record)
-			k := st.z[i]
-			st.ndk[k]++
-			st.activate(a.slotOf(st, k))
+			a.add(st, st.z[i], 1)
 		}
 		if record {
+			dn := 0.0
 			for _, s := range st.act {
 				st.nacc[s] += float64(st.ndk[st.slotTopic[s]])
+				dn += st.cs[s] * st.phi0s[s]
+			}
+			for _, s := range st.act {
+				st.dsm[s] += st.cs[s] * st.phi0s[s] / dn
 			}
 		}
 	}
@@ -793,46 +818,97 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 	return res, nil
 }
 
+// add changes n_dk by delta, keeping the slot's weight and the smoothing
+// bucket total in step.
+func (a *Annotator) add(st *state, k int32, delta int32) {
+	s := a.slotOf(st, k)
+	st.ndk[k] += delta
+	st.cs[s] = float64(st.ndk[k]) + st.ext[k] // recomputed: no drift
+	st.d += float64(delta) * st.phi0s[s]
+	if st.cs[s] > 0 {
+		st.activate(s)
+	} else {
+		st.deactivate(s)
+	}
+}
+
+// setExt routes extra α for topic k through the record part.
+func (a *Annotator) setExt(st *state, k int32, e float64) {
+	s := a.slotOf(st, k)
+	st.ext[k] = e
+	st.cs[s] = float64(st.ndk[k]) + e
+	if st.cs[s] > 0 {
+		st.activate(s)
+	}
+}
+
 // draw samples a topic for one occurrence of word type u given the other
-// tokens; with record it adds the exact conditional to the accumulators.
+// tokens; with record it adds the conditional to the accumulators.
+//
+// The record part Σ_k c_k·(φ⁰_k + s_kw), c_k = n_dk (+ extra α), splits
+// into the word bucket Σ c_k·s_kw over the record's topics that hold w (the
+// list nz[u], usually a handful) and the smoothing bucket D = Σ c_k·φ⁰_k,
+// whose total is kept up to date (SparseLDA, Yao, Mimno & McCallum 2009).
 func (a *Annotator) draw(st *state, u int32, rng *rand.Rand, record bool) int32 {
 	w := st.uw[u]
 	st.buf = st.buf[:0]
+	st.idx = st.idx[:0]
 	bt := 0.0
-	for _, s := range st.act {
-		k := st.slotTopic[s]
-		v := (float64(st.ndk[k]) + st.ext[k]) * (a.phi0[k] + st.sval[s][u])
-		st.buf = append(st.buf, v)
-		bt += v
+	for _, s := range st.nz[u] {
+		if c := st.cs[s]; c > 0 {
+			v := c * st.sval[s][u]
+			st.buf = append(st.buf, v)
+			st.idx = append(st.idx, s)
+			bt += v
+		}
+	}
+	d := st.d
+	if d < 0 {
+		d = 0
 	}
 	aw := 0.0
 	if !st.allow {
 		aw = a.aw[w]
 	}
-	z := bt + aw
+	z := bt + d + aw
 	if record {
 		inv := 1 / z
-		for j, s := range st.act {
+		for j, s := range st.idx {
 			st.acc[s][u] += st.buf[j] * inv
 		}
+		st.dacc[u] += d * inv
 		st.cacc[u] += aw * inv
 	}
 	x := rng.Float64() * z
 	if x < bt {
 		for j, v := range st.buf {
 			if x < v {
-				return st.slotTopic[st.act[j]]
+				return st.slotTopic[st.idx[j]]
 			}
 			x -= v
 		}
-		// Rounding left x at the top end: take the last positive entry.
-		for j := len(st.buf) - 1; j >= 0; j-- {
-			if st.buf[j] > 0 {
-				return st.slotTopic[st.act[j]]
+		return st.slotTopic[st.idx[len(st.idx)-1]]
+	}
+	x -= bt
+	if x < d || aw == 0 {
+		last := int32(-1)
+		for _, s := range st.act {
+			v := st.cs[s] * st.phi0s[s]
+			if v <= 0 {
+				continue
 			}
+			if x < v {
+				return st.slotTopic[s]
+			}
+			x -= v
+			last = s
+		}
+		if last >= 0 { // rounding left x at the top end
+			return st.slotTopic[last]
 		}
 	}
-	if x-bt < a.q || a.off[w] == a.off[w+1] {
+	x -= d
+	if x < a.q || a.off[w] == a.off[w+1] {
 		return a.dense.draw(rng)
 	}
 	return a.topic[a.off[w]+a.wal[w].draw(rng)]
@@ -845,7 +921,7 @@ func (a *Annotator) post(st *state, u int32, k int32, samples float64) float64 {
 	p := 0.0
 	sk := 0.0
 	if s := st.slot[k]; s >= 0 {
-		p = st.acc[s][u] / n
+		p = st.acc[s][u]/n + st.dacc[u]/n*st.dsm[s]/samples
 		sk = a.sOf(st, s, u)
 	} else {
 		sk = a.sv(w, k)
@@ -856,13 +932,14 @@ func (a *Annotator) post(st *state, u int32, k int32, samples float64) float64 {
 // freePost returns word type u's posterior mass on all free topics.
 func (a *Annotator) freePost(st *state, u int32, samples float64) float64 {
 	n := float64(st.ucnt[u]) * samples
-	p := 0.0
+	p, ds := 0.0, 0.0
 	for s, k := range st.slotTopic {
 		if int(k) >= a.C {
 			p += st.acc[s][u]
+			ds += st.dsm[s]
 		}
 	}
-	return p/n + st.cacc[u]/n*a.awF[st.uw[u]]/a.aw[st.uw[u]]
+	return p/n + st.dacc[u]/n*ds/samples + st.cacc[u]/n*a.awF[st.uw[u]]/a.aw[st.uw[u]]
 }
 
 // summarise turns the accumulators into scores, paths, supports and words.
@@ -1063,6 +1140,12 @@ func (a *Annotator) words(res *Result, text string, toks []terms.Token, st *stat
 		p   float64
 	}
 	ch := make([]choice, len(st.uw))
+	dk, dv := int32(-1), 0.0
+	for s, k := range st.slotTopic {
+		if int(k) < a.C && st.dsm[s] > dv {
+			dk, dv = k, st.dsm[s]
+		}
+	}
 	for u := range st.uw {
 		u := int32(u)
 		w := int(st.uw[u])
@@ -1079,6 +1162,10 @@ func (a *Annotator) words(res *Result, text string, toks []terms.Token, st *stat
 			if st.acc[s][u] > 0 {
 				try(k)
 			}
+		}
+		// The concept taking most of the smoothing bucket.
+		if dk >= 0 {
+			try(dk)
 		}
 		// The best concept by α_k·φ_kw alone: those without record mass
 		// cannot beat it.

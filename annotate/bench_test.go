@@ -168,6 +168,18 @@ func BenchmarkAnnotateFile(b *testing.B) {
 	if err != nil || len(texts) == 0 {
 		b.Fatalf("records: %v (%d texts)", err, len(texts))
 	}
+	if dir := os.Getenv("TG_ANN_EXPORT"); dir != "" {
+		exportIDs(b, a, filepath.Join(dir, "docs.txt"), texts)
+		if tp := os.Getenv("TG_ANN_TRAIN"); tp != "" {
+			var train []string
+			records.Read(filepath.Join("..", tp), records.Options{}, func(r records.Record) error {
+				train = append(train, r.Join(nil))
+				return nil
+			})
+			exportIDs(b, a, filepath.Join(dir, "train.txt"), train)
+		}
+		b.Logf("exported word ids to %s (W=%d, K=%d)", dir, m.W(), m.K())
+	}
 	lat := make([]time.Duration, 0, b.N)
 	cpu := make([]time.Duration, 0, b.N)
 	opt := Options{IncludeWords: true}
@@ -283,4 +295,28 @@ func BenchmarkAnnotateVocab(b *testing.B) {
 	b.ReportMetric(float64(lat[len(lat)*99/100].Microseconds()), "p99-µs")
 	b.ReportMetric(float64(cpu[len(cpu)/2].Microseconds()), "cpu-median-µs")
 	b.ReportMetric(float64(cpu[len(cpu)*99/100].Microseconds()), "cpu-p99-µs")
+}
+
+// exportIDs writes each text's known word ids, space-separated, one text a
+// line, for the gensim comparison (bench/annotate_gensim.py).
+func exportIDs(b *testing.B, a *Annotator, path string, texts []string) {
+	var sb strings.Builder
+	for _, t := range texts {
+		toks, _ := a.an.Analyze(t, nil, false)
+		first := true
+		for _, tk := range toks {
+			if tk.ID < 0 {
+				continue
+			}
+			if !first {
+				sb.WriteByte(' ')
+			}
+			first = false
+			sb.WriteString(fmt.Sprint(tk.ID))
+		}
+		sb.WriteByte('\n')
+	}
+	if err := os.WriteFile(path, []byte(sb.String()), 0o644); err != nil {
+		b.Fatal(err)
+	}
 }
