@@ -1,12 +1,15 @@
 package main
 
 import (
+	"crypto/sha256"
+	"encoding/binary"
 	"encoding/csv"
 	"encoding/json"
 	"flag"
 	"fmt"
 	"io"
 	"os"
+	"path/filepath"
 	"sort"
 	"strconv"
 
@@ -25,8 +28,11 @@ func cmdScore(args []string) int {
 	fields := fs.String("fields", "title,text", "record fields to read")
 	lang := fs.String("lang", "en", "language of labels in per-concept figures")
 	skipBad := fs.Bool("skip-bad", false, "skip records that are not valid JSON (counted) instead of stopping")
+	split := fs.Float64("split", 0, "fit-and-score: keep this share of --records out as the test split (deterministic by id), fit --vocab on the rest, score the test split")
+	vocab := fs.String("vocab", "", "vocabulary to fit with --split")
 	fs.Usage = func() {
 		fmt.Fprint(os.Stderr, `usage: termgrove score --model M.grove --records GOLD.jsonl [--format text|json] [--per-concept FILE.csv]
+       termgrove score --split 0.2 --vocab V.ttl --records GOLD.jsonl [options] [-- fit options]
 
 Annotates records that people already indexed and compares termgrove's
 ranked suggestions with their subjects: precision, recall and F1 at
@@ -34,8 +40,13 @@ k = 1, 3, 5, 10 (micro and macro), NDCG, hierarchical precision/recall/F1
 (both sets extended with ancestors), and the min score that gives the best
 F1 on these records. Score a split the model was not fitted on.
 
-Example:
+With --split, a record is in the test split when the first 8 bytes of the
+SHA-256 of its id, as a big-endian number, modulo 10000 fall below
+split·10000; fit options after "--" are passed to termgrove fit.
+
+Examples:
   termgrove score --model demo.grove --records test.jsonl --per-concept concepts.csv
+  termgrove score --split 0.2 --vocab thesaurus.ttl --records indexed.jsonl -- --free-topics 10
 
 Options:
 `)
@@ -47,7 +58,24 @@ Options:
 		}
 		return 2
 	}
-	if *modelPath == "" || *recPath == "" || fs.NArg() > 0 {
+	fitArgs := fs.Args()
+	if *split == 0 && len(fitArgs) > 0 {
+		fmt.Fprintf(os.Stderr, "termgrove score: unexpected argument %q (fit options need --split)\n", fitArgs[0])
+		return 2
+	}
+	if *split != 0 {
+		if *split <= 0 || *split >= 1 || *vocab == "" || *recPath == "" || *modelPath != "" {
+			fmt.Fprintln(os.Stderr, "termgrove score: --split needs 0 < SHARE < 1, --vocab and --records, and no --model")
+			return 2
+		}
+		path, testPath, cleanup, code := fitSplitModel(*vocab, *recPath, *split, *skipBad, fitArgs)
+		defer cleanup()
+		if code != 0 {
+			return code
+		}
+		*modelPath, *recPath = path, testPath
+	}
+	if *modelPath == "" || *recPath == "" {
 		fs.Usage()
 		return 2
 	}
@@ -104,6 +132,70 @@ Options:
 		return 1
 	}
 	return 0
+}
+
+// fitSplitModel splits the records deterministically, fits the training
+// part with termgrove fit in a temporary folder and returns the model and
+// the test split's paths.
+func fitSplitModel(vocab, recPath string, share float64, skipBad bool, fitArgs []string) (modelPath, testPath string, cleanup func(), code int) {
+	dir, err := os.MkdirTemp("", "termgrove-split-")
+	cleanup = func() { os.RemoveAll(dir) }
+	if err != nil {
+		fmt.Fprintf(os.Stderr, "termgrove score: %v\n", err)
+		return "", "", cleanup, 1
+	}
+	recs, _, err := readAll(recPath, nil, skipBad, "score")
+	if err != nil {
+		fmt.Fprintf(os.Stderr, "termgrove score: %v\n", err)
+		return "", "", cleanup, 2
+	}
+	trainPath, testPath := filepath.Join(dir, "train.jsonl"), filepath.Join(dir, "test.jsonl")
+	var nTrain, nTest int
+	write := func(path string, test bool) error {
+		return writeOutput(path, func(w io.Writer) error {
+			enc := json.NewEncoder(w)
+			for _, r := range recs {
+				if inTestSplit(r.ID, share) != test {
+					continue
+				}
+				if test {
+					nTest++
+				} else {
+					nTrain++
+				}
+				if err := enc.Encode(r); err != nil {
+					return err
+				}
+			}
+			return nil
+		})
+	}
+	if err := write(trainPath, false); err != nil {
+		fmt.Fprintf(os.Stderr, "termgrove score: %v\n", err)
+		return "", "", cleanup, 1
+	}
+	if err := write(testPath, true); err != nil {
+		fmt.Fprintf(os.Stderr, "termgrove score: %v\n", err)
+		return "", "", cleanup, 1
+	}
+	if nTrain == 0 || nTest == 0 {
+		fmt.Fprintf(os.Stderr, "termgrove score: the split leaves %d training and %d test records; both must be non-empty\n", nTrain, nTest)
+		return "", "", cleanup, 2
+	}
+	fmt.Fprintf(os.Stderr, "termgrove score: split %s: %d records to fit, %d to score\n", recPath, nTrain, nTest)
+	modelPath = filepath.Join(dir, "split.grove")
+	args := append([]string{"--vocab", vocab, "--records", trainPath, "--out", modelPath, "--checkpoint", "0", "--quiet"}, fitArgs...)
+	if c := cmdFit(args); c != 0 {
+		return "", "", cleanup, c
+	}
+	return modelPath, testPath, cleanup, 0
+}
+
+// inTestSplit puts a record in the test split when the first 8 bytes of
+// SHA-256(id), big-endian, modulo 10000 fall below share·10000.
+func inTestSplit(id string, share float64) bool {
+	h := sha256.Sum256([]byte(id))
+	return binary.BigEndian.Uint64(h[:8])%10000 < uint64(share*10000)
 }
 
 func writeScoreText(w io.Writer, r *report.ScoreResult) error {
