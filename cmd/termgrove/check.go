@@ -43,10 +43,11 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 		w := fs.Output()
 		fmt.Fprint(w, `usage: termgrove check [options] VOCAB
 
-Load a SKOS vocabulary (Turtle, N-Triples, N-Quads, RDF/XML or JSON-LD; the
-format is read from the content), summarise it and report integrity problems:
-the SKOS Reference conditions S9, S12, S13, S14, S27, S37, S46, broader
-cycles, concepts without a prefLabel, orphans and shared prefLabels.
+Load a SKOS vocabulary ("-" reads standard input) in Turtle, N-Triples,
+N-Quads, RDF/XML or JSON-LD (the format is read from the content),
+summarise it and report integrity problems: the SKOS Reference conditions
+S9, S12, S13, S14, S27, S37, S46, broader cycles, concepts without a
+prefLabel, orphans and shared prefLabels.
 
 Exit status: 0 no problems, 1 problems found (or no concepts), 2 bad usage
 or unreadable file (reported as file:line:col: message).
@@ -59,6 +60,7 @@ examples:
   termgrove check --lang en,fr testdata/small.ttl
   termgrove check --format json --scheme https://example.org/garden/scheme vocab.rdf
   termgrove check --emit ntriples vocab.ttl > vocab.nt
+  curl -s https://example.org/vocab.rdf | termgrove check -
 `)
 	}
 	file, err := parseInterspersed(fs, args)
@@ -86,7 +88,7 @@ examples:
 	}
 
 	start, startCPU := time.Now(), cpuTime()
-	s, err := concepts.Load(file, opt)
+	s, err := loadVocab(file, opt)
 	loaded, loadedCPU := time.Now(), cpuTime()
 	if err != nil {
 		return reportLoadError(stderr, file, err)
@@ -146,6 +148,15 @@ func parseInterspersed(fs *flag.FlagSet, args []string) (string, error) {
 	return files[0], nil
 }
 
+// loadVocab loads a file, or standard input when file is "-".
+func loadVocab(file string, opt concepts.LoadOptions) (*concepts.Scheme, error) {
+	if file == "-" {
+		opt.File = "-"
+		return concepts.LoadReader(os.Stdin, opt)
+	}
+	return concepts.Load(file, opt)
+}
+
 // reportLoadError prints a load error and returns the exit status: 1 when
 // the file was read but holds no concepts, 2 otherwise.
 func reportLoadError(stderr io.Writer, file string, err error) int {
@@ -170,15 +181,18 @@ func emitTriples(file, syntax string, opt concepts.LoadOptions, stdout, stderr i
 		fmt.Fprintf(stderr, "termgrove check: --emit %q: only ntriples is supported\n", syntax)
 		return 2
 	}
-	in, err := os.Open(file)
-	if err != nil {
-		fmt.Fprintf(stderr, "termgrove check: %v\n", err)
-		return 2
-	}
-	defer in.Close()
+	in := os.Stdin
 	opt.File = file
-	if opt.Base == "" {
-		opt.Base = concepts.FileIRI(file)
+	var err error
+	if file != "-" {
+		if in, err = os.Open(file); err != nil {
+			fmt.Fprintf(stderr, "termgrove check: %v\n", err)
+			return 2
+		}
+		defer in.Close()
+		if opt.Base == "" {
+			opt.Base = concepts.FileIRI(file)
+		}
 	}
 	out := bufio.NewWriterSize(stdout, 256<<10)
 	var line []byte

@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"encoding/json"
+	"os"
 	"strings"
 	"testing"
 
@@ -90,5 +91,24 @@ func TestCheckCommandJSON(t *testing.T) {
 	if got.Concepts != 1 || got.Labels["en"].Pref != 2 || got.ProblemCounts["S14"] != 1 || len(got.Problems) != 1 ||
 		got.Problems[0].Concept != "https://example.org/t/a" || got.Format != "turtle" || got.Triples != 7 {
 		t.Errorf("summary = %+v", got)
+	}
+}
+
+func TestCheckCommandStdin(t *testing.T) {
+	f, err := os.Open("../../testdata/check/orphan.ttl")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	saved := os.Stdin
+	os.Stdin = f
+	defer func() { os.Stdin = saved }()
+	var out, errb bytes.Buffer
+	code := runCheck([]string{"-"}, &out, &errb)
+	if concepts.IsNotImplemented(errorsFrom(errb.String())) {
+		t.Skip(errb.String())
+	}
+	if code != 1 || !strings.Contains(out.String(), "-: turtle, 8 triples") || !strings.Contains(out.String(), "orphan (1)") {
+		t.Errorf("exit %d\nstdout: %s\nstderr: %s", code, out.String(), errb.String())
 	}
 }
