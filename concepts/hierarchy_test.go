@@ -138,3 +138,24 @@ func TestReindexAfterDecode(t *testing.T) {
 		t.Errorf("Check on a decoded scheme should still find the orphan ex:e")
 	}
 }
+
+// TestConcurrentReads backs the package doc's promise; run with -race.
+func TestConcurrentReads(t *testing.T) {
+	s := mustBuild(t, diamond)
+	done := make(chan bool)
+	for g := 0; g < 4; g++ {
+		go func() {
+			for i := range s.Concepts {
+				s.Lookup(s.Concepts[i].IRI)
+				s.Depth(i)
+				s.PathsToTop(i)
+				s.Ancestors(i)
+			}
+			s.Check(CheckOptions{})
+			done <- true
+		}()
+	}
+	for g := 0; g < 4; g++ {
+		<-done
+	}
+}
