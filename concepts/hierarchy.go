@@ -10,6 +10,10 @@ import "slices"
 // many paths.
 const MaxPaths = 4096
 
+// maxPathSteps bounds the work of one PathsToTop call: a dense tangle of
+// broader cycles can hold exponentially many simple paths that reach no root.
+const maxPathSteps = 1 << 18
+
 // computeDepth returns the longest broader chain from each concept to one
 // with no broader (0 for such a root). Inside a cycle the edge that closes
 // it is ignored, so results stay finite.
@@ -60,7 +64,7 @@ func (s *Scheme) computeDepth() []int32 {
 }
 
 func (s *Scheme) ensure() {
-	if s.index == nil || len(s.depth) != len(s.Concepts) {
+	if s.index == nil || len(s.depth) != len(s.Concepts) || len(s.reachesRoot) != len(s.Concepts) {
 		s.Reindex()
 	}
 }
@@ -114,13 +118,17 @@ func (s *Scheme) walk(i int, next func(*Concept) []int) []int {
 }
 
 // PathsToTop returns every broader path from a root (a concept with no
-// broader) down to i, root first and i last, at most MaxPaths of them,
-// shortest first then by indices. A path never repeats a concept, so a
-// cycle ends the paths that enter it.
+// broader) down to i, root first and i last, shortest first then by
+// indices. A path never repeats a concept, so a cycle ends the paths that
+// enter it. It returns at most MaxPaths paths, and on a dense tangle of
+// cycles it stops searching after a fixed amount of work (a few hundred
+// thousand steps), so the list may then be incomplete but the call ends.
 func (s *Scheme) PathsToTop(i int) [][]int {
+	s.ensure()
 	var out [][]int
 	path := []int{i}
 	on := map[int]bool{i: true}
+	steps := 0
 	var up func(c int)
 	up = func(c int) {
 		bs := s.Concepts[c].Broader
@@ -132,10 +140,22 @@ func (s *Scheme) PathsToTop(i int) [][]int {
 			}
 			return
 		}
+		// Roots first, so that a path one step away is never lost to the
+		// step budget spent on a tangle of cycles.
 		for _, p := range bs {
-			if on[p] || len(out) >= MaxPaths {
-				continue // a cycle: this way never reaches a root
+			if len(s.Concepts[p].Broader) == 0 && !on[p] {
+				path = append(path, p)
+				up(p)
+				path = path[:len(path)-1]
 			}
+		}
+		for _, p := range bs {
+			// Skip roots (done), concepts on the path (a cycle) and those
+			// from which no root can be reached at all.
+			if len(s.Concepts[p].Broader) == 0 || on[p] || !s.reachesRoot[p] || len(out) >= MaxPaths || steps >= maxPathSteps {
+				continue
+			}
+			steps++
 			on[p] = true
 			path = append(path, p)
 			up(p)
@@ -151,6 +171,30 @@ func (s *Scheme) PathsToTop(i int) [][]int {
 		return slices.Compare(a, b)
 	})
 	return out
+}
+
+// computeReachesRoot marks the concepts from which some broader chain
+// ends at a concept with no broader: a walk down Narrower from the roots.
+func (s *Scheme) computeReachesRoot() []bool {
+	reach := make([]bool, len(s.Concepts))
+	var queue []int
+	for i := range s.Concepts {
+		if len(s.Concepts[i].Broader) == 0 {
+			reach[i] = true
+			queue = append(queue, i)
+		}
+	}
+	for len(queue) > 0 {
+		c := queue[len(queue)-1]
+		queue = queue[:len(queue)-1]
+		for _, n := range s.Concepts[c].Narrower {
+			if n >= 0 && n < len(reach) && !reach[n] {
+				reach[n] = true
+				queue = append(queue, n)
+			}
+		}
+	}
+	return reach
 }
 
 // TopConcepts returns the concepts marked as top concepts of the scheme;

@@ -1,6 +1,7 @@
 package concepts
 
 import (
+	"fmt"
 	"reflect"
 	"testing"
 	"time"
@@ -157,5 +158,34 @@ func TestConcurrentReads(t *testing.T) {
 	}
 	for g := 0; g < 4; g++ {
 		<-done
+	}
+}
+
+func TestPathsToTopDenseCycles(t *testing.T) {
+	// 30 concepts, each broader of every other; only k0 leads on to the
+	// root. Walking up from q through k0 meets exponentially many simple
+	// paths that all dead-end on k0; the query must still end quickly and
+	// find the one real path.
+	src := "ex:root a skos:Concept\nex:k0 skos:broader ex:root\n"
+	for a := 0; a < 30; a++ {
+		src += fmt.Sprintf("ex:k%d a skos:Concept\n", a)
+		for b := 0; b < 30; b++ {
+			if a != b {
+				src += fmt.Sprintf("ex:k%d skos:broader ex:k%d\n", a, b)
+			}
+		}
+	}
+	src += "ex:q a skos:Concept\nex:q skos:broader ex:k0\n"
+	s := mustBuild(t, src)
+	start := time.Now()
+	var paths [][]string
+	for _, p := range s.PathsToTop(idx(t, s, "q")) {
+		paths = append(paths, iris(s, p))
+	}
+	if took := time.Since(start); took > 20*time.Second {
+		t.Errorf("PathsToTop took %v", took)
+	}
+	if want := [][]string{{"root", "k0", "q"}}; !reflect.DeepEqual(paths, want) {
+		t.Errorf("paths = %v, want %v", paths, want)
 	}
 }

@@ -63,9 +63,10 @@ type Scheme struct {
 	Collections []Collection
 	index       map[string]int // IRI -> index in Concepts, e.g. "http://ex.org/c/42" -> 17
 
-	depth []int32  // longest broader chain to a root per concept; built by Reindex
-	info  LoadInfo // what Load read; zero for a decoded scheme
-	facts *facts   // raw facts Check needs beyond the fields above; nil when decoded
+	depth       []int32  // longest broader chain to a root per concept; built by Reindex
+	reachesRoot []bool   // some broader chain from the concept ends at a root; built by Reindex
+	info        LoadInfo // what Load read; zero for a decoded scheme
+	facts       *facts   // raw facts Check needs beyond the fields above; nil when decoded
 }
 
 // facts keeps what Load saw that the Scheme's fields do not carry.
@@ -108,6 +109,7 @@ func (s *Scheme) Reindex() {
 		s.index[s.Concepts[i].IRI] = i
 	}
 	s.depth = s.computeDepth()
+	s.reachesRoot = s.computeReachesRoot()
 }
 
 // Lookup returns the index of the concept with this IRI.
