@@ -7,6 +7,8 @@
 #   annotate suggest concepts for the 6 held-out texts (terminal view, plus
 #            an HTML page and JSON)
 #   report   gap report: terminal text and an HTML page
+#   score    fit on 70% of the records, score the hand-indexed ones of the
+#            other 30% against their subjects
 #   serve    start the gRPC service on a free loopback port, annotate one
 #            record through it with `termgrove annotate --server`, stop it
 #            with SIGTERM
@@ -90,12 +92,12 @@ banner() {
 }
 
 # --- check ------------------------------------------------------------------
-banner "1/5 check: load and validate the thesaurus"
+banner "1/6 check: load and validate the thesaurus"
 echo "\$ termgrove check --lang en,fr $data/vocabulary.ttl"
 step check - "$tg" check --lang en,fr "$data/vocabulary.ttl"
 
 # --- fit --------------------------------------------------------------------
-banner "2/5 fit: the thesaurus fitted to 260 catalogue records"
+banner "2/6 fit: the thesaurus fitted to 260 catalogue records"
 echo "\$ termgrove fit --vocab $data/vocabulary.ttl --records $data/records.jsonl \\"
 echo "    --out $out/demo.grove --lang en,fr --free-topics $free --sweeps $sweeps --seed $seed --workers 1"
 step fit - "$tg" fit --vocab "$data/vocabulary.ttl" --records "$data/records.jsonl" \
@@ -104,7 +106,7 @@ step fit - "$tg" fit --vocab "$data/vocabulary.ttl" --records "$data/records.jso
 [ -s "$out/demo.grove" ] || fail "fit wrote no model file $out/demo.grove"
 
 # --- annotate ---------------------------------------------------------------
-banner "3/5 annotate: suggestions for the 6 held-out texts"
+banner "3/6 annotate: suggestions for the 6 held-out texts"
 echo "\$ termgrove annotate --model $out/demo.grove --top 5 --records $data/holdout.jsonl"
 annotated=0
 # Flags go before "--records FILE" so that the file is read as input.
@@ -123,7 +125,7 @@ if step annotate - "$tg" annotate --model "$out/demo.grove" --top 5 --records "$
 fi || true
 
 # --- report -----------------------------------------------------------------
-banner "4/5 report: where thesaurus and collection part ways"
+banner "4/6 report: where thesaurus and collection part ways"
 echo "\$ termgrove report --model $out/demo.grove --records $data/records.jsonl --out $out/gaps.txt"
 step report - "$tg" report --model "$out/demo.grove" --records "$data/records.jsonl" --out "$out/gaps.txt"
 step "report --format html" - "$tg" report --model "$out/demo.grove" --records "$data/records.jsonl" \
@@ -136,8 +138,17 @@ echo
 sed -n '1,45p' "$out/gaps.txt"
 [ "$lines" -le 45 ] || echo "  ... ($lines lines in all: $out/gaps.txt)"
 
+# --- score ------------------------------------------------------------------
+banner "5/6 score: suggestions against the hand-indexed records left out of a fit"
+echo "\$ termgrove score --split 0.3 --vocab $data/vocabulary.ttl --records $data/records.jsonl \\"
+echo "    -- --lang en,fr --free-topics $free --sweeps $sweeps --seed $seed --workers 1"
+step score "$out/score.txt" "$tg" score --split 0.3 --vocab "$data/vocabulary.ttl" \
+  --records "$data/records.jsonl" -- --lang en,fr --free-topics "$free" --sweeps "$sweeps" \
+  --seed "$seed" --workers 1
+cat "$out/score.txt"
+
 # --- serve ------------------------------------------------------------------
-banner "5/5 serve: the gRPC service, one call, a clean stop"
+banner "6/6 serve: the gRPC service, one call, a clean stop"
 served=0
 log="$out/serve.log"
 echo "\$ termgrove serve --model demo=$out/demo.grove --listen 127.0.0.1:0 --metrics-listen off"
@@ -228,6 +239,7 @@ fi
 echo "  gap report, HTML       $out/gaps.html   (open in a browser)"
 echo "  gap report, text       $out/gaps.txt"
 echo "  gap report, JSON       $out/gaps.json"
+echo "  scores (held-out)      $out/score.txt"
 echo "  server log             $log"
 rm -f "$out/.stderr"
 if [ ${#not_implemented[@]} -gt 0 ]; then

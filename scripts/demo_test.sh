@@ -38,7 +38,7 @@ else
   ok "full demo exited 0 in $secs s"
 fi
 [ "$secs" -lt 120 ] || bad "full demo took $secs s (limit 120 s)"
-for f in demo.grove holdout.html holdout.json holdout.ttl gaps.html gaps.txt gaps.json serve.log; do
+for f in demo.grove holdout.html holdout.json holdout.ttl gaps.html gaps.txt gaps.json score.txt serve.log; do
   [ -s "$out1/$f" ] || bad "missing or empty output $f"
   grep -q "$out1/$f" "$tmp/full.log" || bad "the demo does not print where $f is"
 done
@@ -64,7 +64,7 @@ FAIL_WHEN="--free-topics" TERMGROVE=$tmp/tg DEMO_OUT=$out2 bash scripts/demo.sh 
 rc=$?
 if [ $rc -eq 0 ]; then bad "demo exited 0 although fit failed"; else ok "failing fit: exit $rc"; fi
 grep -q 'demo: FAILED: fit exited with status 7' "$tmp/failfit.log" || bad "failure message does not name the fit step"
-grep -q '3/5 annotate' "$tmp/failfit.log" && bad "demo went on after fit failed"
+grep -q '3/6 annotate' "$tmp/failfit.log" && bad "demo went on after fit failed"
 
 # 3. a failure while the server runs: the trap stops the server
 out3=$tmp/failclient
