@@ -19,19 +19,27 @@
 //	α_k·φ_kw   the same for every occurrence of w: its total A_w is cached;
 //	           α_k·φ⁰_k is one alias table per model (Walker 1977, Vose 1991),
 //	           α_k·s_kw one small alias table per word;
-//	n_dk·φ_kw  sparse in the record: summed over its current topics only.
+//	n_dk·s_kw  the record's topics that hold w (a short list per word type);
+//	n_dk·φ⁰_k  the record's smoothing bucket, whose total is kept up to date
+//	           (after SparseLDA, Yao, Mimno & McCallum 2009),
 //
-// so a draw costs O(topics in the record), whatever K is. Several burn-in
-// sweeps are followed by sampling sweeps. Scores are the record's topic
-// proportions averaged over those sweeps,
+// so a draw costs about O(record topics holding w), whatever K is
+// (TestConditionalEqualsDense and TestDrawFrequencies check it against the
+// dense formula). Several burn-in sweeps are followed by sampling sweeps
+// (defaults 10 and 20). Scores are the record's topic proportions averaged
+// over those sweeps,
 //
 //	θ_k = mean_s (n_dk + α_k) / (N + Σ_k α_k)
 //
 // (the usual estimate, Griffiths & Steyvers 2004), so concept scores plus
 // the uncovered share (free topics) sum to 1. For the words, each token's
-// exact conditional (not just its draw) is accumulated (Rao–Blackwellised)
-// per word type: occurrences of one word in one text are exchangeable, so
-// they share a posterior.
+// conditional (not just its draw) is accumulated (Rao–Blackwellised) per
+// word type: occurrences of one word in one text are exchangeable, so they
+// share a posterior. Only the smoothing bucket's split over topics is taken
+// per sweep rather than per token; the posterior still sums to 1.
+//
+// Memory per call grows with distinct words × topics met, so texts are
+// limited by Options.MaxBytes (default 1 MiB).
 //
 // The random seed is a hash of the model's checksum, the text and the
 // options, so the same model and text always give the same result, whatever

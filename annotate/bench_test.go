@@ -244,12 +244,12 @@ func BenchmarkAnnotateVocab(b *testing.B) {
 	runtime.GC()
 	var m0, m1 runtime.MemStats
 	runtime.ReadMemStats(&m0)
-	t0 := time.Now()
+	t0, c0 := time.Now(), processCPU()
 	m, err := model.Load(mp)
 	if err != nil {
 		b.Fatal(err)
 	}
-	tl := time.Since(t0)
+	tl, cl := time.Since(t0), processCPU()-c0
 	a, err := New(m)
 	if err != nil {
 		b.Fatal(err)
@@ -261,8 +261,9 @@ func BenchmarkAnnotateVocab(b *testing.B) {
 	for _, r := range m.Counts {
 		nnz += len(r)
 	}
-	b.Logf("K=%d W=%d nnz=%d: Load %v, New %v, heap of model + annotator %.0f MiB",
-		m.K(), m.W(), nnz, tl, tn, float64(m1.HeapAlloc-m0.HeapAlloc)/(1<<20))
+	fi, _ := os.Stat(mp)
+	b.Logf("K=%d W=%d nnz=%d file %d bytes: Load %v (process CPU %v), New %v, heap of model + annotator %.0f MiB",
+		m.K(), m.W(), nnz, fi.Size(), tl, cl, tn, float64(m1.HeapAlloc-m0.HeapAlloc)/(1<<20))
 	r := rand.New(rand.NewPCG(7, 7))
 	type rec struct {
 		text string

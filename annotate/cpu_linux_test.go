@@ -16,3 +16,12 @@ func threadCPU() time.Duration {
 	}
 	return time.Duration(ts.Nano())
 }
+
+// processCPU is the process's CPU time, user + system (all threads).
+func processCPU() time.Duration {
+	var ru unix.Rusage
+	if err := unix.Getrusage(unix.RUSAGE_SELF, &ru); err != nil {
+		return 0
+	}
+	return time.Duration(ru.Utime.Nano() + ru.Stime.Nano())
+}
