@@ -31,7 +31,14 @@ type CorpusBuilder struct {
 // unknown is unrestricted). A record left without tokens is not added and
 // Add returns false.
 func (b *CorpusBuilder) Add(id, text string, subjects []string, date string) (added bool, unknown []string) {
-	toks, stats := b.Analyzer.Analyze(text, b.toks[:0], true)
+	return b.AddLang(id, text, "", subjects, date)
+}
+
+// AddLang is Add for a record in language lang (a BCP 47 tag, "" = the
+// analyzer's main language): its stopwords and stemmer are that language's,
+// so a French record meets the French labels' terms.
+func (b *CorpusBuilder) AddLang(id, text, lang string, subjects []string, date string) (added bool, unknown []string) {
+	toks, stats := b.Analyzer.AnalyzeLang(text, lang, b.toks[:0], true)
 	b.toks = toks
 	b.InvalidUTF8 += stats.Invalid
 	if stats.Fallback {

@@ -75,6 +75,12 @@ type Options struct {
 	FreeTopics int     // F, topics with the flat base prior
 	Lambda     float64 // prior strength; 0 = the prior's λ
 	Beta0      float64 // base smoothing; 0 = the prior's β0 (or 0.01 without prior)
+	// Anchor restricts every record without subjects to the concepts whose
+	// label terms occur in it, plus the free topics (needs FreeTopics > 0).
+	// A concept then explains only records that name it in some way, so a
+	// theme no label names goes to the free topics instead of to concepts
+	// nobody uses. Annotation of new text stays unrestricted.
+	Anchor bool
 	// Alpha is the starting α_k for every topic (default min(0.1, 50/K)).
 	Alpha float64
 	// FixedAlpha keeps α at its starting value (no Minka updates).
@@ -227,6 +233,9 @@ func (o *Options) check() error {
 	}
 	if o.Lambda < 0 || o.Beta0 < 0 {
 		return fmt.Errorf("fit: negative λ or β0")
+	}
+	if o.Anchor && o.FreeTopics == 0 {
+		return fmt.Errorf("fit: anchored records need free topics")
 	}
 	if o.HoldoutFraction < 0 || o.HoldoutFraction >= 1 {
 		return fmt.Errorf("fit: holdout fraction %g not in [0,1)", o.HoldoutFraction)

@@ -169,7 +169,9 @@ func TestBucketsEqualDense(t *testing.T) {
 			F = 0
 		}
 		p, c := randomSetup(uint64(trial), C, 9+trial, 30, 15)
-		st, err := newState(p, c, Options{FreeTopics: F, Seed: int64(trial), Workers: 1, Alpha: 0.3})
+		// Anchored records (every other trial with free topics) are
+		// restricted to label-matched concepts, some to none at all.
+		st, err := newState(p, c, Options{FreeTopics: F, Seed: int64(trial), Workers: 1, Alpha: 0.3, Anchor: F > 0 && trial%2 == 0})
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -173,6 +173,10 @@ func (st *state) buildDocs() error {
 	}
 	st.words = make([]int32, 0, n)
 	st.z = make([]int32, n)
+	var anchors *anchorIndex
+	if st.opt.Anchor {
+		anchors = newAnchorIndex(st.prior, st.W)
+	}
 	for i := range st.corpus.Docs {
 		d := &st.corpus.Docs[i]
 		if len(d.Words) == 0 || holdout(d.ID, st.opt.HoldoutFraction) {
@@ -191,6 +195,8 @@ func (st *state) buildDocs() error {
 			}
 			slices.Sort(subj)
 			sd.subjects = slices.Compact(subj)
+		} else if anchors != nil {
+			sd.subjects = anchors.concepts(d.Words)
 		}
 		st.docs = append(st.docs, sd)
 		st.ids = append(st.ids, d.ID)
@@ -384,4 +390,74 @@ func decList(l *[]tc, k int32) {
 	if s[i].n == 0 {
 		*l = s[:len(s)-1]
 	}
+}
+
+// AnchorShare is the least weight, relative to the heaviest term of its row,
+// that makes a prior term a label term for Options.Anchor: label words weigh
+// 0.2–1 of a row's top term, words of definitions and notes 0.1 (prior's
+// default weights), so notes alone do not anchor a concept.
+const AnchorShare = 0.15
+
+// anchorIndex lists per word type the concepts having it as a label term.
+type anchorIndex struct {
+	start   []int32 // W+1
+	concept []int32
+	mark    []int32 // scratch: last record that met each concept, +1
+	rec     int32
+}
+
+func newAnchorIndex(p *prior.Prior, W int) *anchorIndex {
+	ai := &anchorIndex{start: make([]int32, W+1)}
+	if p == nil {
+		return ai
+	}
+	label := func(row []prior.Entry) func(e prior.Entry) bool {
+		top := 0.0
+		for _, e := range row {
+			top = max(top, e.Weight)
+		}
+		return func(e prior.Entry) bool { return e.Weight > 0 && e.Weight >= AnchorShare*top }
+	}
+	for _, row := range p.Rows {
+		is := label(row)
+		for _, e := range row {
+			if is(e) {
+				ai.start[e.Word+1]++
+			}
+		}
+	}
+	for w := 0; w < W; w++ {
+		ai.start[w+1] += ai.start[w]
+	}
+	ai.concept = make([]int32, ai.start[W])
+	fill := slices.Clone(ai.start[:W])
+	for k, row := range p.Rows {
+		is := label(row)
+		for _, e := range row {
+			if is(e) {
+				ai.concept[fill[e.Word]] = int32(k)
+				fill[e.Word]++
+			}
+		}
+	}
+	ai.mark = make([]int32, len(p.Rows))
+	return ai
+}
+
+// concepts returns the sorted concepts anchored by the words of one record;
+// never nil, so that a record naming no concept is restricted to the free
+// topics.
+func (ai *anchorIndex) concepts(words []int32) []int32 {
+	ai.rec++
+	out := []int32{}
+	for _, w := range words {
+		for _, k := range ai.concept[ai.start[w]:ai.start[w+1]] {
+			if ai.mark[k] != ai.rec {
+				ai.mark[k] = ai.rec
+				out = append(out, k)
+			}
+		}
+	}
+	slices.Sort(out)
+	return out
 }

@@ -183,6 +183,7 @@ type annJob struct {
 	where    string // "file:line" for messages
 	id, text string
 	subjects []string
+	lang     string // the record's own language ("" = --lang)
 	res      *annotate.Result
 	err      error
 	done     chan struct{}
@@ -203,6 +204,9 @@ func annRun(annotateFn func(id, text string, opt annotate.Options) (*annotate.Re
 				o := opt
 				if f.subjectsMode != "" {
 					o.Subjects = j.subjects
+				}
+				if j.lang != "" {
+					o.Language = j.lang
 				}
 				j.res, j.err = annotateFn(j.id, j.text, o)
 				close(j.done)
@@ -235,8 +239,8 @@ func annRun(annotateFn func(id, text string, opt annotate.Options) (*annotate.Re
 	}()
 
 	seq := 0
-	submit := func(where, id, text string, subjects []string) {
-		j := &annJob{seq: seq, where: where, id: id, text: text, subjects: subjects, done: make(chan struct{})}
+	submit := func(where, id, text, lang string, subjects []string) {
+		j := &annJob{seq: seq, where: where, id: id, text: text, lang: lang, subjects: subjects, done: make(chan struct{})}
 		seq++
 		order <- j
 		jobs <- j
@@ -272,7 +276,7 @@ func annRun(annotateFn func(id, text string, opt annotate.Options) (*annotate.Re
 }
 
 // annReadRecords reads JSON Lines records from path ("-": stdin).
-func annReadRecords(path string, stdin io.Reader, fields []string, skipBad bool, stderr io.Writer, submit func(where, id, text string, subjects []string)) error {
+func annReadRecords(path string, stdin io.Reader, fields []string, skipBad bool, stderr io.Writer, submit func(where, id, text, lang string, subjects []string)) error {
 	opt := records.Options{Fields: fields, SkipBad: skipBad, Bad: func(err error) {
 		fmt.Fprintf(stderr, "termgrove annotate: skipped: %v\n", err)
 	}}
@@ -281,7 +285,7 @@ func annReadRecords(path string, stdin io.Reader, fields []string, skipBad bool,
 		if id == "" {
 			id = fmt.Sprintf("%s:%d", filepath.Base(r.File), r.Line)
 		}
-		submit(fmt.Sprintf("%s:%d: %s", r.File, r.Line, id), id, r.Join(fields), r.Subjects)
+		submit(fmt.Sprintf("%s:%d: %s", r.File, r.Line, id), id, r.Join(fields), r.Lang, r.Subjects)
 		return nil
 	}
 	if path == "-" {
@@ -292,13 +296,13 @@ func annReadRecords(path string, stdin io.Reader, fields []string, skipBad bool,
 }
 
 // annReadText reads a plain-text file, a folder of .txt files or stdin.
-func annReadText(path string, stdin io.Reader, submit func(where, id, text string, subjects []string)) error {
+func annReadText(path string, stdin io.Reader, submit func(where, id, text, lang string, subjects []string)) error {
 	if path == "-" {
 		b, err := io.ReadAll(stdin)
 		if err != nil {
 			return fmt.Errorf("standard input: %w", err)
 		}
-		submit("-", "-", string(b), nil)
+		submit("-", "-", string(b), "", nil)
 		return nil
 	}
 	fi, err := os.Stat(path)
@@ -307,7 +311,7 @@ func annReadText(path string, stdin io.Reader, submit func(where, id, text strin
 	}
 	if fi.IsDir() {
 		return records.Read(path, records.Options{Fields: []string{"text"}}, func(r records.Record) error {
-			submit(r.File, r.ID, r.Text, nil)
+			submit(r.File, r.ID, r.Text, "", nil)
 			return nil
 		})
 	}
@@ -315,6 +319,6 @@ func annReadText(path string, stdin io.Reader, submit func(where, id, text strin
 	if err != nil {
 		return err
 	}
-	submit(path, strings.TrimSuffix(filepath.Base(path), ".txt"), string(b), nil)
+	submit(path, strings.TrimSuffix(filepath.Base(path), ".txt"), string(b), "", nil)
 	return nil
 }

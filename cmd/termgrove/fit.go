@@ -51,6 +51,7 @@ type fitFlags struct {
 	resume, skipBad   bool
 	langs, fields     string
 	quiet, noProgress bool
+	anchor            bool
 }
 
 func cmdFit(args []string) int {
@@ -62,6 +63,7 @@ func cmdFit(args []string) int {
 	fl.StringVar(&f.out, "out", "", "model file to write (`MODEL.grove`)")
 	fl.StringVar(&f.scheme, "scheme", "", "concept scheme `IRI` when the file holds several")
 	fl.IntVar(&f.free, "free-topics", 20, "free topics beside the concepts, for themes the vocabulary lacks")
+	fl.BoolVar(&f.anchor, "anchor", true, "records without subjects may use only the concepts whose label terms they contain, plus the free topics (off without free topics)")
 	fl.IntVar(&f.sweeps, "sweeps", 200, "Gibbs sweeps over all records")
 	fl.IntVar(&f.burnIn, "burn-in", 0, "sweeps before α is learned (0 = a quarter of --sweeps)")
 	fl.Int64Var(&f.seed, "seed", 1, "random seed (one worker + the same seed = the same model)")
@@ -150,7 +152,7 @@ func runFit(f *fitFlags) int {
 	unknownShown := 0
 	ropt := records.Options{Fields: fields, SkipBad: f.skipBad, Bad: func(err error) { warnf("skipped: %v", err) }}
 	rstats, err := records.ReadStats(f.recs, ropt, func(r records.Record) error {
-		_, unknown := b.Add(r.ID, r.Join(fields), r.Subjects, r.Date)
+		_, unknown := b.AddLang(r.ID, r.Join(fields), r.Lang, r.Subjects, r.Date)
 		for _, u := range unknown {
 			if unknownShown < 10 {
 				warnf("%s:%d: record %q: subject %q is not a concept of the vocabulary (ignored)", r.File, r.Line, r.ID, u)
@@ -175,6 +177,7 @@ func runFit(f *fitFlags) int {
 	ckPath := f.out + ".checkpoint"
 	opt := fit.Options{
 		Sweeps: f.sweeps, BurnIn: f.burnIn, FreeTopics: f.free, Lambda: f.lambda, Seed: f.seed,
+		Anchor:  f.anchor && f.free > 0,
 		Workers: f.workers, HoldoutFraction: f.holdout,
 		Checkpoint: f.checkpoint, CheckpointPath: ckPath,
 	}

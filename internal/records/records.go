@@ -40,7 +40,10 @@ type Record struct {
 	Text     string   `json:"text"`
 	Subjects []string `json:"subjects"`
 	Date     string   `json:"date"`
-	Line     int      `json:"-"`
+	// Lang is the record's language as a BCP 47 tag ("fr"), read from "lang"
+	// or, when that is absent, "language"; "" = unknown (the main language).
+	Lang string `json:"lang,omitempty"`
+	Line int    `json:"-"`
 	// File is the file the record came from ("-" for standard input).
 	File string `json:"-"`
 	// Extra holds other top-level string fields named in Options.Fields
@@ -279,6 +282,15 @@ func decode(b []byte, extra []string) (Record, string) {
 			return Record{}, msg
 		}
 	}
+	for _, key := range []string{"lang", "language"} {
+		if msg := str(key, &r.Lang); msg != "" {
+			return Record{}, msg
+		}
+		if r.Lang != "" {
+			break
+		}
+	}
+	r.Lang = strings.TrimSpace(r.Lang)
 	if v, ok := raw["subjects"]; ok && string(v) != "null" {
 		if err := json.Unmarshal(v, &r.Subjects); err != nil {
 			return Record{}, `"subjects" must be an array of strings`

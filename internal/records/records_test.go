@@ -173,3 +173,26 @@ func TestReadStopsOnCallbackError(t *testing.T) {
 		t.Errorf("missing file: %v", err)
 	}
 }
+
+// TestReadLang: the record's language comes from "lang", else "language".
+func TestReadLang(t *testing.T) {
+	p := write(t, "c.jsonl", `{"id":"a","text":"x","lang":"fr"}
+{"id":"b","text":"x","language":" en-GB "}
+{"id":"c","text":"x","lang":"de","language":"fr"}
+{"id":"d","text":"x"}
+`)
+	recs, _, err := collect(t, p, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var got []string
+	for _, r := range recs {
+		got = append(got, r.Lang)
+	}
+	if want := []string{"fr", "en-GB", "de", ""}; !reflect.DeepEqual(got, want) {
+		t.Errorf("langs %q, want %q", got, want)
+	}
+	if _, _, err := collect(t, write(t, "bad.jsonl", `{"id":"a","lang":3}`), Options{}); !errors.Is(err, ErrSyntax) {
+		t.Errorf("numeric lang accepted")
+	}
+}
