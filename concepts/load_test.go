@@ -110,6 +110,9 @@ func TestLoadBrokenFiles(t *testing.T) {
 		{"orphan.ttl", LoadOptions{}, nil, "", "orphan", ""},
 		{"turtle-named.rdf", LoadOptions{}, nil, "", "orphan", ""},
 		{"orphan.ttl", LoadOptions{Format: "csv"}, ErrFormat, "", "", ""},
+		{"bad-iri.ttl", LoadOptions{}, rdf.ErrSyntax, dir + "bad-iri.ttl:3:", "", ""},
+		// N-Triples with no extension: the content decides; one root concept, no scheme.
+		{"no-extension", LoadOptions{}, nil, "", "orphan", ""},
 	}
 	for _, tt := range tests {
 		t.Run(tt.file, func(t *testing.T) {
