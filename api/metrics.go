@@ -26,9 +26,10 @@ type metrics struct {
 }
 
 func newMetrics() *metrics {
-	// Buckets from 0.25 ms to 10 s: an annotation of a short record takes
-	// well under a millisecond, a long one or a queue can take seconds.
-	buckets := prometheus.ExponentialBuckets(0.00025, 2.5, 13)
+	// A 1-2-5 series from 0.5 ms to 10 s: an annotation of a short record
+	// takes about a millisecond, a long one or a backlog seconds; 50 ms, a
+	// common latency objective, is a bound.
+	buckets := []float64{.0005, .001, .002, .005, .01, .02, .05, .1, .2, .5, 1, 2, 5, 10}
 	m := &metrics{
 		reg: prometheus.NewRegistry(),
 		requests: prometheus.NewCounterVec(prometheus.CounterOpts{

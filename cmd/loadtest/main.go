@@ -296,6 +296,10 @@ type serverStats struct {
 	HeapStartMB, HeapMaxMB, HeapEndMB             float64
 	GoroutinesStart, GoroutinesMax, GoroutinesEnd float64
 	Samples                                       int
+	// Server-side Annotate handler time (interceptor start to end) of the
+	// step, from the termgrove_grpc_request_duration_seconds histogram: the
+	// bucket bounds (ms) holding the 50th and 99th percentiles.
+	HandlerP50ms, HandlerP99ms float64
 }
 
 // recorder collects latencies of accepted and rejected calls.
@@ -471,6 +475,7 @@ func sampleServer(o *options) func() *serverStats {
 		st.Samples++
 	}
 	take()
+	h0, _ := scrapeHist(o.metrics)
 	done := make(chan struct{})
 	stopped := make(chan struct{})
 	go func() {
@@ -490,6 +495,9 @@ func sampleServer(o *options) func() *serverStats {
 		close(done)
 		<-stopped
 		take()
+		if h1, err := scrapeHist(o.metrics); err == nil {
+			st.HandlerP50ms, st.HandlerP99ms = histQuantile(h0, h1, .5), histQuantile(h0, h1, .99)
+		}
 		mu.Lock()
 		defer mu.Unlock()
 		if st.Samples == 0 {
@@ -525,6 +533,60 @@ func scrape(addr string) (map[string]float64, error) {
 	return out, sc.Err()
 }
 
+// annotateHist is the bucket prefix of the server's Annotate latency.
+const annotateHist = `termgrove_grpc_request_duration_seconds_bucket{method="/termgrove.v1.AnnotationService/Annotate",le="`
+
+// scrapeHist reads the cumulative bucket counts of annotateHist by bound.
+func scrapeHist(addr string) (map[float64]float64, error) {
+	cl := http.Client{Timeout: 2 * time.Second}
+	resp, err := cl.Get("http://" + addr + "/metrics")
+	if err != nil {
+		return nil, err
+	}
+	defer resp.Body.Close()
+	out := map[float64]float64{}
+	sc := bufio.NewScanner(resp.Body)
+	for sc.Scan() {
+		rest, ok := strings.CutPrefix(sc.Text(), annotateHist)
+		if !ok {
+			continue
+		}
+		le, val, ok := strings.Cut(rest, `"} `)
+		if !ok {
+			continue
+		}
+		b, err1 := strconv.ParseFloat(le, 64) // "+Inf" parses as +Inf
+		n, err2 := strconv.ParseFloat(val, 64)
+		if err1 == nil && err2 == nil {
+			out[b] = n
+		}
+	}
+	return out, sc.Err()
+}
+
+// histQuantile returns the upper bound (ms) of the bucket holding quantile q
+// of the calls observed between two scrapes; 0 when none.
+func histQuantile(h0, h1 map[float64]float64, q float64) float64 {
+	var bounds []float64
+	for b := range h1 {
+		bounds = append(bounds, b)
+	}
+	slices.Sort(bounds)
+	if len(bounds) == 0 {
+		return 0
+	}
+	total := h1[bounds[len(bounds)-1]] - h0[bounds[len(bounds)-1]]
+	if total <= 0 {
+		return 0
+	}
+	for _, b := range bounds {
+		if h1[b]-h0[b] >= q*total {
+			return b * 1000
+		}
+	}
+	return math.Inf(1)
+}
+
 func report(o *options, step string, r result) {
 	r.Step = step
 	if o.jsonOut {
@@ -545,5 +607,6 @@ func report(o *options, step string, r result) {
 		fmt.Printf("  server: rss %.0f→max %.0f→%.0f MB, heap %.0f→max %.0f→%.0f MB, goroutines %.0f→max %.0f→%.0f (%d samples)\n",
 			s.RSSStartMB, s.RSSMaxMB, s.RSSEndMB, s.HeapStartMB, s.HeapMaxMB, s.HeapEndMB,
 			s.GoroutinesStart, s.GoroutinesMax, s.GoroutinesEnd, s.Samples)
+		fmt.Printf("  server-side Annotate handler time: p50 ≤ %.2fms, p99 ≤ %.2fms (histogram bucket bounds)\n", s.HandlerP50ms, s.HandlerP99ms)
 	}
 }
