@@ -331,8 +331,8 @@ func compareGensim(prefix string, W, K, workers int) error {
 		t := time.Now()
 		b.Sweep()
 		elapsed += time.Since(t).Seconds()
-		if sweep%5 != 0 {
-			continue
+		if sweep%5 != 0 && (sweep < 10 || sweep%2 != 0) {
+			continue // score at 5, 10, then every other sweep
 		}
 		m := b.Model()
 		ll, n := fit.LeftToRight(fit.ModelPhi(m), m.Alpha, test, lr)
