@@ -150,6 +150,8 @@ type builder struct {
 	lastLang  string
 	lastO     string // last IRI object interned, e.g. the scheme of inScheme
 	lastOID   int32
+
+	schemes []int32 // schemeIDs, once the document is read
 }
 
 func newBuilder() *builder {
@@ -243,6 +245,9 @@ func (b *builder) add(t rdf.Triple) error {
 // resources typed skos:ConceptScheme or named by inScheme, topConceptOf
 // or hasTopConcept (their rdfs:domain/range, SKOS Reference S6–S8).
 func (b *builder) schemeIDs() []int32 {
+	if b.schemes != nil {
+		return b.schemes
+	}
 	is := make([]bool, len(b.nodes))
 	for i := range b.nodes {
 		n := &b.nodes[i]
@@ -265,6 +270,10 @@ func (b *builder) schemeIDs() []int32 {
 		}
 	}
 	sort.Slice(ids, func(x, y int) bool { return b.nodes[ids[x]].iri < b.nodes[ids[y]].iri })
+	if ids == nil {
+		ids = []int32{} // non-nil: computed, and empty
+	}
+	b.schemes = ids
 	return ids
 }
 

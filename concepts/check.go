@@ -3,7 +3,6 @@ package concepts
 import (
 	"fmt"
 	"slices"
-	"sort"
 	"strings"
 )
 
@@ -59,6 +58,14 @@ var codeOrder = map[string]int{"S9": 0, "S12": 1, "S13": 2, "S14": 3, "S27": 4, 
 // decoded scheme (from a model file) is checked without them.
 func (s *Scheme) Check(opt CheckOptions) []Problem {
 	s.ensure()
+	// The shared-label scan is the costliest rule on a large scheme; it
+	// only reads the scheme, so it runs beside the others.
+	var shared []Problem
+	done := make(chan struct{})
+	go func() {
+		defer close(done)
+		shared = s.checkShared(opt)
+	}()
 	var out []Problem
 	if s.facts != nil {
 		out = append(out, s.facts.problems...)
@@ -80,15 +87,16 @@ func (s *Scheme) Check(opt CheckOptions) []Problem {
 				Message: "has no broader concept and is not a top concept"})
 		}
 	}
-	out = append(out, s.checkShared(opt)...)
-	sort.SliceStable(out, func(a, b int) bool {
-		if out[a].Code != out[b].Code {
-			return codeOrder[out[a].Code] < codeOrder[out[b].Code]
+	<-done
+	out = append(out, shared...)
+	slices.SortStableFunc(out, func(a, b Problem) int {
+		if a.Code != b.Code {
+			return codeOrder[a.Code] - codeOrder[b.Code]
 		}
-		if out[a].Concept != out[b].Concept {
-			return out[a].Concept < out[b].Concept
+		if c := strings.Compare(a.Concept, b.Concept); c != 0 {
+			return c
 		}
-		return out[a].Message < out[b].Message
+		return strings.Compare(a.Message, b.Message)
 	})
 	return out
 }
