@@ -105,7 +105,8 @@ type Options struct {
 	MaxBytes int
 	// BurnIn and Samples are the sweeps discarded and averaged (defaults 10, 20).
 	BurnIn, Samples int
-	// BoostFactor multiplies known subjects' α in Boost mode (default 20).
+	// BoostFactor multiplies known subjects' α in Boost mode (default 20;
+	// values below 1 count as 1).
 	BoostFactor float64
 }
 
@@ -749,6 +750,9 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 			f := opt.BoostFactor
 			if f == 0 {
 				f = DefaultBoost
+			}
+			if !(f >= 1) { // below 1 (or NaN) would weaken, not boost
+				f = 1
 			}
 			for _, k := range subj {
 				a.setExt(st, k, (f-1)*a.alpha[k])

@@ -181,28 +181,45 @@ func BenchmarkAnnotateFile(b *testing.B) {
 		}
 		b.Logf("exported word ids to %s (W=%d, K=%d)", dir, m.W(), m.K())
 	}
-	lat := make([]time.Duration, 0, b.N)
-	cpu := make([]time.Duration, 0, b.N)
-	opt := Options{IncludeWords: true}
-	runtime.LockOSThread()
-	defer runtime.UnlockOSThread()
-	b.ResetTimer()
-	for i := 0; i < b.N; i++ {
-		c0 := threadCPU()
-		t1 := time.Now()
-		if _, err := a.Annotate("r", texts[i%len(texts)], opt); err != nil {
-			b.Fatal(err)
-		}
-		lat = append(lat, time.Since(t1))
-		cpu = append(cpu, threadCPU()-c0)
+	// full: Annotate on the text, words included, as the CLI runs it.
+	// topics-only: pre-analysed tokens, no words, the job gensim's
+	// get_document_topics does.
+	toks := make([][]terms.Token, len(texts))
+	for i, t := range texts {
+		toks[i], _ = a.an.Analyze(t, nil, false)
 	}
-	b.StopTimer()
-	slices.Sort(lat)
-	slices.Sort(cpu)
-	b.ReportMetric(float64(lat[len(lat)/2].Microseconds()), "median-µs")
-	b.ReportMetric(float64(lat[len(lat)*99/100].Microseconds()), "p99-µs")
-	b.ReportMetric(float64(cpu[len(cpu)/2].Microseconds()), "cpu-median-µs")
-	b.ReportMetric(float64(cpu[len(cpu)*99/100].Microseconds()), "cpu-p99-µs")
+	for _, mode := range []string{"full", "topics-only"} {
+		b.Run(mode, func(b *testing.B) {
+			lat := make([]time.Duration, 0, b.N)
+			cpu := make([]time.Duration, 0, b.N)
+			runtime.LockOSThread()
+			defer runtime.UnlockOSThread()
+			b.ResetTimer()
+			for i := 0; i < b.N; i++ {
+				j := i % len(texts)
+				c0 := threadCPU()
+				t1 := time.Now()
+				var err error
+				if mode == "full" {
+					_, err = a.Annotate("r", texts[j], Options{IncludeWords: true})
+				} else {
+					_, err = a.AnnotateTokens("r", texts[j], toks[j], Options{})
+				}
+				if err != nil {
+					b.Fatal(err)
+				}
+				lat = append(lat, time.Since(t1))
+				cpu = append(cpu, threadCPU()-c0)
+			}
+			b.StopTimer()
+			slices.Sort(lat)
+			slices.Sort(cpu)
+			b.ReportMetric(float64(lat[len(lat)/2].Microseconds()), "median-µs")
+			b.ReportMetric(float64(lat[len(lat)*99/100].Microseconds()), "p99-µs")
+			b.ReportMetric(float64(cpu[len(cpu)/2].Microseconds()), "cpu-median-µs")
+			b.ReportMetric(float64(cpu[len(cpu)*99/100].Microseconds()), "cpu-p99-µs")
+		})
+	}
 }
 
 // BenchmarkAnnotateVocab measures a model over a real vocabulary with
@@ -330,5 +347,56 @@ func exportIDs(b *testing.B, a *Annotator, path string, texts []string) {
 	}
 	if err := os.WriteFile(path, []byte(sb.String()), 0o644); err != nil {
 		b.Fatal(err)
+	}
+}
+
+// TestSweepsQuality prints precision@5 against the records' human subjects
+// for several burn-in/sampling sweep counts, on TG_ANN_MODEL and the first
+// 1,500 records of TG_ANN_RECORDS (skipped when unset): the trade-off
+// behind DefaultBurnIn and DefaultSamples.
+//
+//	TG_ANN_MODEL=.cache/annbench/debtags.grove TG_ANN_RECORDS=.cache/debtags/test.jsonl \
+//	    go test -run SweepsQuality -v ./annotate
+func TestSweepsQuality(t *testing.T) {
+	mp, rp := os.Getenv("TG_ANN_MODEL"), os.Getenv("TG_ANN_RECORDS")
+	if mp == "" || rp == "" {
+		t.Skip("set TG_ANN_MODEL and TG_ANN_RECORDS")
+	}
+	m, err := model.Load(filepath.Join("..", mp))
+	if err != nil {
+		t.Fatal(err)
+	}
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var recs []records.Record
+	records.Read(filepath.Join("..", rp), records.Options{}, func(r records.Record) error {
+		if len(recs) < 1500 {
+			recs = append(recs, r)
+		}
+		return nil
+	})
+	for _, c := range [][2]int{{3, 5}, {5, 10}, {DefaultBurnIn, DefaultSamples}, {20, 40}} {
+		hit, n := 0, 0
+		t0 := time.Now()
+		for _, r := range recs {
+			res, err := a.Annotate(r.ID, r.Join(nil), Options{Top: 5, BurnIn: c[0], Samples: c[1]})
+			if err != nil {
+				t.Fatal(err)
+			}
+			gold := map[string]bool{}
+			for _, s := range r.Subjects {
+				gold[s] = true
+			}
+			for _, cc := range res.Concepts {
+				if gold[cc.IRI] {
+					hit++
+				}
+			}
+			n += 5
+		}
+		t.Logf("burn-in %2d, samples %2d: P@5 %.4f over %d records, %v per record",
+			c[0], c[1], float64(hit)/float64(n), len(recs), time.Since(t0)/time.Duration(len(recs)))
 	}
 }
