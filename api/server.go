@@ -55,6 +55,7 @@ type Server struct {
 	metricsLis  net.Listener
 	metricsHTTP *http.Server
 	stopOnce    sync.Once
+	watchQuit   chan struct{} // closed on shutdown: ends health Watch streams
 }
 
 // NewServer loads every model of cfg and builds the server; it does not
@@ -65,12 +66,13 @@ func NewServer(cfg Config) (*Server, error) {
 		return nil, err
 	}
 	s := &Server{
-		cfg:     cfg,
-		log:     cfg.Logger,
-		models:  newModels(cfg.Models),
-		metrics: newMetrics(),
-		health:  health.NewServer(),
-		sem:     make(chan struct{}, cfg.MaxConcurrent),
+		cfg:       cfg,
+		log:       cfg.Logger,
+		models:    newModels(cfg.Models),
+		metrics:   newMetrics(),
+		health:    health.NewServer(),
+		sem:       make(chan struct{}, cfg.MaxConcurrent),
+		watchQuit: make(chan struct{}),
 	}
 	for _, name := range s.models.names {
 		sv := s.models.byName[name]
@@ -101,7 +103,7 @@ func NewServer(cfg Config) (*Server, error) {
 	}
 	s.grpc = grpc.NewServer(opts...)
 	pb.RegisterAnnotationServiceServer(s.grpc, s)
-	healthpb.RegisterHealthServer(s.grpc, s.health)
+	healthpb.RegisterHealthServer(s.grpc, healthService{Server: s.health, quit: s.watchQuit})
 	reflection.Register(s.grpc)
 	s.health.SetServingStatus("", healthpb.HealthCheckResponse_SERVING)
 	s.health.SetServingStatus(ServiceName, healthpb.HealthCheckResponse_SERVING)
@@ -250,6 +252,9 @@ func (s *Server) Shutdown(grace time.Duration) bool {
 	s.stopOnce.Do(func() {
 		s.log.Info("shutting down", slog.Duration("grace", grace))
 		s.health.Shutdown()
+		// Give watchers a moment to receive NOT_SERVING, then end their
+		// streams so that they do not hold up the drain.
+		time.AfterFunc(100*time.Millisecond, func() { close(s.watchQuit) })
 		done := make(chan struct{})
 		go func() {
 			s.grpc.GracefulStop()

@@ -558,7 +558,22 @@ func TestShutdownUnderTraffic(t *testing.T) {
 	for ts.s.metrics.inFlightValue() < n && time.Now().Before(deadline) {
 		time.Sleep(5 * time.Millisecond)
 	}
+	// A health watcher must see NOT_SERVING and must not hold up the drain.
+	watch, err := healthpb.NewHealthClient(ts.conn).Watch(ctxT(t), &healthpb.HealthCheckRequest{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r, err := watch.Recv(); err != nil || r.GetStatus() != healthpb.HealthCheckResponse_SERVING {
+		t.Fatalf("watch: %v %v", r, err)
+	}
+	start := time.Now()
 	drained := ts.s.Shutdown(5 * time.Second)
+	if d := time.Since(start); d > 3*time.Second {
+		t.Errorf("drain took %v: a health watcher held it up", d)
+	}
+	if r, err := watch.Recv(); err != nil || r.GetStatus() != healthpb.HealthCheckResponse_NOT_SERVING {
+		t.Errorf("watcher after shutdown: %v %v", r, err)
+	}
 	wg.Wait()
 	close(errs)
 	for err := range errs {
