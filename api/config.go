@@ -86,6 +86,10 @@ type Config struct {
 	MaxConcurrent    int           // most annotations in progress at once
 	DefaultDeadline  time.Duration // applied to unary calls that carry none
 	Grace            time.Duration // drain time on shutdown before forcing
+	// MaxConnectionAge, when set, makes clients reconnect after about this
+	// long (a GOAWAY, then Grace for calls in progress), so that replicas
+	// behind a connection-level (L4) balancer even out; 0 = never.
+	MaxConnectionAge time.Duration
 
 	Logger *slog.Logger // default: slog.Default()
 
@@ -144,7 +148,7 @@ func (c Config) withDefaults() (Config, error) {
 		return c, fmt.Errorf("%w: max stream records %d below 1", ErrConfig, c.MaxStreamRecords)
 	case c.MaxConcurrent < 1:
 		return c, fmt.Errorf("%w: max concurrent %d below 1", ErrConfig, c.MaxConcurrent)
-	case c.DefaultDeadline < 0 || c.Grace < 0:
+	case c.DefaultDeadline < 0 || c.Grace < 0 || c.MaxConnectionAge < 0:
 		return c, fmt.Errorf("%w: negative deadline or grace", ErrConfig)
 	case (c.TLSCert == "") != (c.TLSKey == ""):
 		return c, fmt.Errorf("%w: --tls-cert and --tls-key go together", ErrConfig)

@@ -94,6 +94,10 @@ func NewServer(cfg Config) (*Server, error) {
 		// long-lived ingest streams do); faster pings close the connection.
 		grpc.KeepaliveEnforcementPolicy(keepalive.EnforcementPolicy{MinTime: 10 * time.Second, PermitWithoutStream: true}),
 	}
+	if cfg.MaxConnectionAge > 0 {
+		opts = append(opts, grpc.KeepaliveParams(keepalive.ServerParameters{
+			MaxConnectionAge: cfg.MaxConnectionAge, MaxConnectionAgeGrace: cfg.Grace}))
+	}
 	if cfg.TLSCert != "" {
 		tc, err := s.tlsConfig()
 		if err != nil {

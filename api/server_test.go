@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"io"
+	"net"
 	"net/http"
 	"strings"
 	"sync"
@@ -13,7 +14,9 @@ import (
 
 	dto "github.com/prometheus/client_model/go"
 	"google.golang.org/genproto/googleapis/rpc/errdetails"
+	"google.golang.org/grpc"
 	"google.golang.org/grpc/codes"
+	"google.golang.org/grpc/credentials/insecure"
 	healthpb "google.golang.org/grpc/health/grpc_health_v1"
 	rpb "google.golang.org/grpc/reflection/grpc_reflection_v1"
 	"google.golang.org/grpc/status"
@@ -611,5 +614,28 @@ func TestShutdownForcesAfterGrace(t *testing.T) {
 	}
 	if d := time.Since(start); d > 3*time.Second {
 		t.Fatalf("forced stop took %v", d)
+	}
+}
+
+func TestMaxConnectionAge(t *testing.T) {
+	ts := startServer(t, Config{MaxConnectionAge: 200 * time.Millisecond, Grace: time.Second}, nil)
+	var dials atomic.Int32
+	conn := dial(t, ts.s.Addr().String(), grpc.WithTransportCredentials(insecure.NewCredentials()),
+		grpc.WithContextDialer(func(ctx context.Context, addr string) (net.Conn, error) {
+			dials.Add(1)
+			return (&net.Dialer{}).DialContext(ctx, "tcp", addr)
+		}))
+	defer conn.Close()
+	c := pb.NewAnnotationServiceClient(conn)
+	// Calls keep working across the server's GOAWAYs: the client reconnects.
+	deadline := time.Now().Add(time.Second)
+	for n := 0; time.Now().Before(deadline); n++ {
+		if _, err := c.Annotate(ctxT(t), &pb.AnnotateRequest{Text: "cat"}); err != nil {
+			t.Fatalf("call %d: %v", n, err)
+		}
+		time.Sleep(10 * time.Millisecond)
+	}
+	if n := dials.Load(); n < 2 {
+		t.Fatalf("%d connections in 1 s with a 200 ms maximum age", n)
 	}
 }

@@ -49,6 +49,7 @@ func cmdServe(args []string) int {
 	maxConc := fs.Int("max-concurrent", api.DefaultMaxConcurrent(), "most annotations in progress; beyond it calls get RESOURCE_EXHAUSTED at once")
 	deadline := fs.Duration("default-deadline", api.DefaultDefaultDeadline, "deadline of unary calls whose client sets none")
 	grace := fs.Duration("grace", api.DefaultGrace, "on SIGTERM/SIGINT, time for calls in progress to finish before they are cut")
+	maxAge := fs.Duration("max-connection-age", 0, "ask clients to reconnect after this long (e.g. 5m) so replicas behind a connection-level balancer even out; 0 = never")
 	logFormat := fs.String("log-format", "text", "log format on standard error: text or json")
 	logLevel := fs.String("log-level", "info", "log level: debug, info, warn or error")
 	fs.Usage = func() {
@@ -100,6 +101,7 @@ Options:
 		MaxConcurrent:    *maxConc,
 		DefaultDeadline:  *deadline,
 		Grace:            *grace,
+		MaxConnectionAge: *maxAge,
 		Logger:           log,
 		Gaps:             api.ReportGaps{},
 	})
