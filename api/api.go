@@ -10,7 +10,11 @@
 //
 // Limits. A call beyond Config.MaxConcurrent annotations in progress gets
 // RESOURCE_EXHAUSTED at once (a non-blocking semaphore: no queue grows under
-// overload). A request that fails validation gets INVALID_ARGUMENT with a
+// overload); while the slots are full, or twice as many Annotate calls are
+// already inside the server, the call is refused in the transport before a
+// goroutine is started or its message read, so that refusals stay cheap.
+// Unary calls without a deadline get Config.DefaultDeadline; streams live
+// until the client ends them or the server shuts down. A request that fails validation gets INVALID_ARGUMENT with a
 // google.rpc.BadRequest detail listing every bad field. An unknown model or
 // concept gets NOT_FOUND. A panic in a handler becomes INTERNAL for that call
 // only, and is logged with its stack.
@@ -20,6 +24,9 @@
 // with, later calls see the new one. A file that fails to load leaves the old
 // model in service; the failure is logged, counted in the
 // termgrove_model_reloads_total metric and shown by GetModel.
+//
+// Gap reports. GetGapReport answers through Config.Gaps (ReportGaps wraps
+// report.Gaps over the model alone); without one it is UNIMPLEMENTED.
 //
 // Health. The health service reports "" (overall) and
 // "termgrove.v1.AnnotationService" as SERVING while the server serves, and
