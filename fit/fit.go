@@ -23,6 +23,13 @@
 // checks it, and TestGeweke checks the whole sampler against the model's
 // joint distribution (Geweke 2004, "Getting it right").
 //
+// The smoothing bucket is drawn through two Fenwick trees (concept and free
+// topics), so even its rare draws cost O(log K).
+//
+// The model's α_k of a concept is the learned value times the share of
+// training records allowed to use k (see marginalAlpha): the weight a
+// record of unknown subjects should give it.
+//
 // Several workers share documents and merge word–topic count deltas after
 // each sweep (AD-LDA, Newman, Asuncion, Smyth & Welling 2009). With one
 // worker and a seed, a fit is reproducible bit for bit.
