@@ -7,7 +7,6 @@ import (
 	"io"
 	"log/slog"
 	"runtime/debug"
-	"sort"
 	"strconv"
 	"strings"
 	"time"
@@ -339,64 +338,17 @@ func (s *Server) GetConcept(ctx context.Context, r *pb.GetConceptRequest) (*pb.G
 	return out, nil
 }
 
-// topWords returns the n most probable words of topic k by φ_kw, with the
-// prior's mass included so that a concept fitted to few records still shows
-// its label terms. Ties go to the smaller word id, so the order is stable.
+// topWords returns the n most probable words of topic k by φ_kw (prior
+// mass included, so a concept fitted to few records still shows its label
+// terms), with their fitted counts.
 func topWords(m *model.Model, k, n int) []*pb.TopWord {
-	type cand struct {
-		w     int32
-		count int64
-		phi   float64
-	}
-	counts := map[int32]int64{}
-	if k < len(m.Counts) {
-		for _, wc := range m.Counts[k] {
-			counts[wc.Word] = int64(wc.Count)
-		}
-	}
-	var prior []model.WordWeight
-	if k < m.C && k < len(m.Prior) {
-		prior = m.Prior[k]
-	}
-	words := map[int32]bool{}
-	for w := range counts {
-		words[w] = true
-	}
-	for _, ww := range prior {
-		words[ww.Word] = true
-	}
-	var total int64
-	if k < len(m.Totals) {
-		total = m.Totals[k]
-	}
-	// φ_kw = (n_kw + β0 + λ·π_kw) / (n_k + W·β0 + λ·Σ_w π_kw), see package model.
-	var priorSum float64
-	pi := map[int32]float64{}
-	for _, ww := range prior {
-		pi[ww.Word] = ww.Weight
-		priorSum += ww.Weight
-	}
-	den := float64(total) + float64(len(m.Words))*m.Beta0 + m.Lambda*priorSum
-	cands := make([]cand, 0, len(words))
-	for w := range words {
-		if int(w) < 0 || int(w) >= len(m.Words) {
+	ws := m.TopWords(k, n)
+	out := make([]*pb.TopWord, 0, len(ws))
+	for _, w := range ws {
+		if int(w.Word) < 0 || int(w.Word) >= len(m.Words) {
 			continue
 		}
-		num := float64(counts[w]) + m.Beta0 + m.Lambda*pi[w]
-		cands = append(cands, cand{w: w, count: counts[w], phi: num / den})
-	}
-	sort.Slice(cands, func(i, j int) bool {
-		if cands[i].phi != cands[j].phi {
-			return cands[i].phi > cands[j].phi
-		}
-		return cands[i].w < cands[j].w
-	})
-	if len(cands) > n {
-		cands = cands[:n]
-	}
-	out := make([]*pb.TopWord, len(cands))
-	for i, c := range cands {
-		out[i] = &pb.TopWord{Term: m.Words[c.w], Count: c.count, Probability: c.phi}
+		out = append(out, &pb.TopWord{Term: m.Words[w.Word], Count: int64(m.Count(k, int(w.Word))), Probability: w.Weight})
 	}
 	return out
 }
