@@ -507,7 +507,7 @@ type state struct {
 	cs        []float64   // slot → c_k = n_dk + extra α
 	phi0s     []float64   // slot → φ⁰_k
 	dsm       []float64   // slot → Σ over sampling sweeps of c_k·φ⁰_k / D
-	nz        [][]int32   // word type → slots with s_kw > 0
+	nz        [][]nzEntry // word type → slots with s_kw > 0, and s_kw
 	dacc      []float64   // word type → Σ D/Z
 	d         float64     // D = Σ_k c_k·φ⁰_k over the active slots
 	idx       []int32
@@ -581,7 +581,7 @@ func (a *Annotator) slotOf(st *state, k int32) int32 {
 	st.sval = append(st.sval, sv)
 	for u, v := range sv {
 		if v > 0 {
-			st.nz[u] = append(st.nz[u], s)
+			st.nz[u] = append(st.nz[u], nzEntry{s, v})
 		}
 	}
 	st.cs = append(st.cs, float64(st.ndk[k])+st.ext[k])
@@ -610,6 +610,12 @@ func (st *state) alloc(n int) []float64 {
 	st.bi = len(st.blocks) - 1
 	st.boff = n
 	return b[:n:n]
+}
+
+// nzEntry is a slot whose topic holds a word type, with s_kw.
+type nzEntry struct {
+	s int32
+	v float64
 }
 
 // nextGen starts a new hierarchy walk.
@@ -866,11 +872,11 @@ func (a *Annotator) draw(st *state, u int32, rng *rand.Rand, record bool) int32 
 	st.buf = st.buf[:0]
 	st.idx = st.idx[:0]
 	bt := 0.0
-	for _, s := range st.nz[u] {
-		if c := st.cs[s]; c > 0 {
-			v := c * st.sval[s][u]
+	for _, e := range st.nz[u] {
+		if c := st.cs[e.s]; c > 0 {
+			v := c * e.v
 			st.buf = append(st.buf, v)
-			st.idx = append(st.idx, s)
+			st.idx = append(st.idx, e.s)
 			bt += v
 		}
 	}
