@@ -9,6 +9,7 @@ import (
 	"fmt"
 	"os"
 	"time"
+	"unicode/utf8"
 
 	"google.golang.org/grpc"
 	"google.golang.org/grpc/codes"
@@ -98,7 +99,8 @@ func annotateRemote(addr string, rc remoteConfig) (annotateFunc func(id, text st
 		retries = 5
 	}
 	annotateFunc = func(id, text string, opt annotate.Options) (*annotate.Result, error) {
-		req := api.RequestFromOptions(rc.Model, id, text, opt)
+		clean, invalid := spaceInvalidUTF8(text)
+		req := api.RequestFromOptions(rc.Model, id, clean, opt)
 		backoff := 50 * time.Millisecond
 		for try := 0; ; try++ {
 			ctx, cancel := context.WithTimeout(context.Background(), timeout)
@@ -106,6 +108,7 @@ func annotateRemote(addr string, rc remoteConfig) (annotateFunc func(id, text st
 			cancel()
 			if err == nil {
 				res := api.ResultFromProto(resp)
+				res.Invalid += invalid
 				return &res, nil
 			}
 			code := status.Code(err)
@@ -118,4 +121,26 @@ func annotateRemote(addr string, rc remoteConfig) (annotateFunc func(id, text st
 		}
 	}
 	return annotateFunc, conn.Close, nil
+}
+
+// spaceInvalidUTF8 replaces each byte of an invalid UTF-8 sequence by a
+// space, which keeps every byte offset of the text (so the result's word
+// spans still index the caller's text) and splits words there, as the local
+// analyzer's U+FFFD does. The wire format needs valid UTF-8: protobuf
+// refuses to encode a string field holding anything else.
+func spaceInvalidUTF8(s string) (string, int) {
+	if utf8.ValidString(s) {
+		return s, 0
+	}
+	b := []byte(s)
+	n := 0
+	for i := 0; i < len(b); {
+		r, size := utf8.DecodeRune(b[i:])
+		if r == utf8.RuneError && size == 1 {
+			b[i] = ' '
+			n++
+		}
+		i += size
+	}
+	return string(b), n
 }

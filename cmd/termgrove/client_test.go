@@ -71,6 +71,18 @@ func TestAnnotateRemote(t *testing.T) {
 			t.Fatalf("options %+v:\nlocal  %s\nremote %s", opt, wj, gj)
 		}
 	}
+	// Invalid UTF-8 cannot go on the wire: its bytes become spaces, offsets
+	// stay those of the caller's text, and the result counts them.
+	bad := "w1 w2\xff\xfew3 w10 w11"
+	res, err := remote("utf8", bad, annotate.Options{IncludeWords: true})
+	if err != nil || res.Invalid != 2 || len(res.Words) == 0 {
+		t.Fatalf("invalid UTF-8: %+v %v", res, err)
+	}
+	for _, w := range res.Words {
+		if bad[w.Start:w.End] != w.Text {
+			t.Fatalf("word %+v does not index the original text", w)
+		}
+	}
 	if _, err := remote("bad", "", annotate.Options{}); err == nil {
 		t.Fatal("empty text accepted")
 	}
