@@ -2,6 +2,7 @@ package main
 
 import (
 	"bufio"
+	"bytes"
 	"encoding/json"
 	"errors"
 	"flag"
@@ -102,9 +103,30 @@ examples:
 	out := bufio.NewWriter(stdout)
 	sum := summarize(s, problems)
 	if f.format == "json" {
+		// With --prior, JSON output stays one document: the prior report
+		// becomes its "prior" member.
+		doc := struct {
+			checkSummary
+			Prior json.RawMessage `json:"prior,omitempty"`
+		}{checkSummary: sum}
+		if f.prior {
+			var pb bytes.Buffer
+			if err := priorReport(&pb, s, langs, "json"); err != nil {
+				fmt.Fprintf(stderr, "termgrove check: prior report: %v\n", err)
+				return 2
+			}
+			var pj struct {
+				Prior json.RawMessage `json:"prior"`
+			}
+			if err := json.Unmarshal(pb.Bytes(), &pj); err != nil {
+				fmt.Fprintf(stderr, "termgrove check: prior report: %v\n", err)
+				return 2
+			}
+			doc.Prior = pj.Prior
+		}
 		enc := json.NewEncoder(out)
 		enc.SetIndent("", "  ")
-		err = enc.Encode(sum)
+		err = enc.Encode(doc)
 	} else {
 		writeCheckText(out, sum, f.max)
 	}
@@ -115,7 +137,7 @@ examples:
 		fmt.Fprintf(stderr, "termgrove check: %v\n", err)
 		return 2
 	}
-	if f.prior {
+	if f.prior && f.format != "json" {
 		if err := priorReport(stdout, s, langs, f.format); err != nil {
 			fmt.Fprintf(stderr, "termgrove check: prior report: %v\n", err)
 			return 2
