@@ -186,29 +186,49 @@ func (r *Result) String() string {
 }
 
 // marginalAlpha is the α a record of unknown subjects should use. A concept
-// topic was only allowed in the unrestricted records and the restricted
-// ones naming it, so its learned α_k holds for that share q_k of the
-// records; the model stores α_k·q_k, its expected weight in any record.
-// Without restricted records this is α itself.
+// topic was only allowed in some records: the unrestricted ones, the
+// anchored ones whose text names it, and the indexed ones whose subjects
+// include it. Its learned α_k holds for those records only, so the model
+// stores the expected weight of k in any record:
+//
+//	α'_k = α_k·q_k + f_k
+//
+// where q_k is the share of records that were allowed k without a human
+// choosing it (unrestricted or anchored) and f_k is the share of records
+// whose people-assigned subjects include k: the label-frequency prior of
+// Prior-LDA (Rubin, Chambers, Smyth & Steyvers 2012, "Statistical topic
+// models for multi-label document classification", §4.1, with η = 1, so
+// that Σ_k f_k is the mean number of subjects per record). A concept people
+// often assign but whose records' words go to more specific co-subjects
+// keeps a weight as large as its use. Without restricted records this is
+// α itself.
 func (st *state) marginalAlpha() []float64 {
 	a := slices.Clone(st.alpha)
-	allowed := make([]int, st.C)
+	free := make([]int, st.C)  // records allowed k without a person choosing it
+	human := make([]int, st.C) // records whose subjects name k
 	unrestricted := 0
 	for i := range st.docs {
-		if st.docs[i].subjects == nil {
+		d := &st.docs[i]
+		switch {
+		case d.subjects == nil:
 			unrestricted++
-			continue
-		}
-		for _, k := range st.docs[i].subjects {
-			allowed[k]++
+		case d.anchored:
+			for _, k := range d.subjects {
+				free[k]++
+			}
+		default:
+			for _, k := range d.subjects {
+				human[k]++
+			}
 		}
 	}
 	if unrestricted == len(st.docs) {
 		return a
 	}
+	D := float64(len(st.docs))
 	for k := 0; k < st.C; k++ {
-		q := float64(unrestricted+allowed[k]) / float64(len(st.docs))
-		a[k] = max(a[k]*q, minAlpha)
+		q := float64(unrestricted+free[k]) / D
+		a[k] = max(a[k]*q+float64(human[k])/D, minAlpha)
 	}
 	return a
 }

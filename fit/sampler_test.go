@@ -354,28 +354,43 @@ func TestHeldOutComputed(t *testing.T) {
 }
 
 // TestMarginalAlpha: the model's α of a concept is the learned α scaled by
-// the share of records allowed to use it. Common practice, no source.
+// the share of records allowed to use it without a person choosing it, plus
+// the share of records whose subjects name it (Prior-LDA's label-frequency
+// prior, Rubin et al. 2012, §4.1). Common practice for the first part, no
+// source.
 func TestMarginalAlpha(t *testing.T) {
-	p, c := randomSetup(3, 6, 20, 30, 10)
-	st, err := newState(p, c, Options{FreeTopics: 2, Workers: 1, Alpha: 0.5})
-	if err != nil {
-		t.Fatal(err)
-	}
-	a := st.marginalAlpha()
-	for k := 0; k < st.K; k++ {
-		n := 0
-		for _, d := range st.docs {
-			ok := d.subjects == nil || k >= st.C
-			for _, s := range d.subjects {
-				ok = ok || int(s) == k
-			}
-			if ok {
-				n++
-			}
+	for _, anchor := range []bool{false, true} {
+		p, c := randomSetup(3, 6, 20, 30, 10)
+		st, err := newState(p, c, Options{FreeTopics: 2, Workers: 1, Alpha: 0.5, Anchor: anchor})
+		if err != nil {
+			t.Fatal(err)
 		}
-		want := 0.5 * float64(n) / float64(len(st.docs))
-		if math.Abs(a[k]-want) > 1e-12 {
-			t.Errorf("α_%d = %v, want %v", k, a[k], want)
+		a := st.marginalAlpha()
+		for k := 0; k < st.K; k++ {
+			free, human := 0, 0
+			for i, d := range st.docs {
+				named := false
+				for _, s := range d.subjects {
+					named = named || int(s) == k
+				}
+				switch {
+				case d.subjects == nil || k >= st.C:
+					free++
+				case !named:
+				case len(c.Docs[i].Subjects) > 0: // ids and docs align: no holdout
+					human++
+				default:
+					free++
+				}
+			}
+			D := float64(len(st.docs))
+			want := 0.5*float64(free)/D + float64(human)/D
+			if k >= st.C {
+				want = 0.5
+			}
+			if math.Abs(a[k]-want) > 1e-12 {
+				t.Errorf("anchor %v: α_%d = %v, want %v", anchor, k, a[k], want)
+			}
 		}
 	}
 }

@@ -20,6 +20,7 @@ type tc struct{ k, n int32 }
 type sdoc struct {
 	start, end int64
 	subjects   []int32 // nil: unrestricted; else the allowed concepts (free topics always allowed)
+	anchored   bool    // subjects come from Options.Anchor, not from people
 }
 
 // state is the whole sampler: counts, assignments, hyperparameters.
@@ -197,6 +198,7 @@ func (st *state) buildDocs() error {
 			sd.subjects = slices.Compact(subj)
 		} else if anchors != nil {
 			sd.subjects = anchors.concepts(d.Words)
+			sd.anchored = true
 		}
 		st.docs = append(st.docs, sd)
 		st.ids = append(st.ids, d.ID)
