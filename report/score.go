@@ -16,6 +16,9 @@ type ScoreOptions struct {
 	Lang   string   // labels in per-concept figures ["en"]
 	// PerConceptK is the k of the per-concept table [5].
 	PerConceptK int
+	// Annotate holds the fold-in settings (BurnIn, Samples); Top is set to
+	// the largest k and Language to each record's own language.
+	Annotate annotate.Options
 	// Progress, when set, is called after each record.
 	Progress func(done int)
 }
@@ -79,7 +82,12 @@ func Score(m *model.Model, a Annotator, recs []records.Record, opt ScoreOptions)
 			res.NoSubjects++
 			continue
 		}
-		out, err := a.Annotate(r.ID, r.Join(opt.Fields), annotate.Options{Top: maxK})
+		ao := opt.Annotate
+		ao.Top = maxK
+		if r.Lang != "" {
+			ao.Language = r.Lang
+		}
+		out, err := a.Annotate(r.ID, r.Join(opt.Fields), ao)
 		if err != nil {
 			return nil, fmt.Errorf("record %s (line %d): %w", r.ID, r.Line, err)
 		}
