@@ -132,6 +132,11 @@ func runFit(f *fitFlags) int {
 		return code
 	}
 
+	// Catch interrupts from the start, so that one arriving while the
+	// records load stops the run cleanly too.
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+
 	scheme, err := concepts.Load(f.vocab, concepts.LoadOptions{Scheme: f.scheme})
 	if err != nil {
 		return fail(2, "%v", fitFileErr(f.vocab, err))
@@ -229,8 +234,9 @@ func runFit(f *fitFlags) int {
 		}
 	}
 
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
-	defer stop()
+	if ctx.Err() != nil {
+		return fail(1, "interrupted before fitting")
+	}
 	var res *fit.Result
 	if _, statErr := os.Stat(ckPath); f.resume && statErr == nil {
 		logf("resuming from %s", ckPath)
