@@ -17,7 +17,7 @@
 # prints where each one is. It stops with a non-zero status as soon as a
 # step fails, and never leaves the server running, whatever happens.
 #
-# Settings (environment): DEMO_FREE (free topics, default 10), DEMO_SWEEPS
+# Settings (environment): DEMO_FREE (free topics, default 12), DEMO_SWEEPS
 # (default 300), DEMO_SEED (default 1), TERMGROVE (binary, default
 # bin/termgrove, built when missing).
 set -euo pipefail
@@ -26,7 +26,7 @@ cd "$(dirname "$0")/.."
 tg=${TERMGROVE:-bin/termgrove}
 out=${DEMO_OUT:-build/demo}
 data=testdata/demo
-free=${DEMO_FREE:-10}
+free=${DEMO_FREE:-12}
 sweeps=${DEMO_SWEEPS:-300}
 seed=${DEMO_SEED:-1}
 started=$(date +%s)
