@@ -384,10 +384,15 @@ func buildTree(s *concepts.Scheme, C int, label func(int) string, share func(int
 }
 
 // nearestConcept returns the concept topic c minimising the Hellinger
-// distance H(φ_f, φ_c) = sqrt(1 − Σ_w sqrt(φ_fw φ_cw)). φ_c is a floor
+// distance H(φ_f, φ_c) = sqrt(1 − Σ_w sqrt(φ_fw φ_cw)) among the concepts
+// that hold at least minLearned tokens (all, when none does). A concept
+// the corpus hardly uses has no learned distribution, only its flat prior,
+// which is close to any broad theme: on the demo the beekeeping theme was
+// sent to Mining. φ_c is a floor
 // β0/(n_c+B_c) plus a sparse part, so the Bhattacharyya sum costs O(nnz):
 // Σ_w sqrt(φ_fw·floor) + Σ_{w sparse} (sqrt(φ_fw·φ_cw) − sqrt(φ_fw·floor)).
 func nearestConcept(m *model.Model, f int) (int, float64, bool) {
+	const minLearned = 10
 	W := m.W()
 	if m.C == 0 || W == 0 {
 		return 0, 0, false
@@ -399,7 +404,14 @@ func nearestConcept(m *model.Model, f int) (int, float64, bool) {
 		sqrtF += math.Sqrt(phiF[w])
 	}
 	best, bestBC := -1, -1.0
+	learned := false
 	for c := 0; c < m.C; c++ {
+		learned = learned || m.Totals[c] >= minLearned
+	}
+	for c := 0; c < m.C; c++ {
+		if learned && m.Totals[c] < minLearned {
+			continue
+		}
 		den := float64(m.Totals[c]) + m.BetaSum(c)
 		floor := m.Beta0 / den
 		bc := math.Sqrt(floor) * sqrtF

@@ -347,3 +347,20 @@ func TestGapsBroaderConceptUsedThroughNarrower(t *testing.T) {
 		t.Errorf("tree root = %+v; want Trades used, with Milling's 30 records", tr)
 	}
 }
+
+// TestNearestSkipsUnusedConcepts: a free topic's nearest concept is one the
+// corpus used; Mining holds no token, so its distribution is only its flat
+// prior and must not be offered as the home of the honey theme. Common
+// practice, no source.
+func TestNearestSkipsUnusedConcepts(t *testing.T) {
+	g, err := Gaps(gapModel(), nil, nil, GapOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(g.Themes) != 1 {
+		t.Fatalf("%d themes, want 1", len(g.Themes))
+	}
+	if n := g.Themes[0].Nearest; n == "" || n == "http://ex.org/mining" {
+		t.Errorf("nearest concept of the honey theme = %q, want a used concept", n)
+	}
+}
