@@ -41,7 +41,7 @@ type worker struct {
 	qbuf []float64 // word bucket terms, parallel to wt[w]
 	pbuf []float64 // prior bucket terms, parallel to the prior list of w
 
-	changes []change
+	changes [][]change // per merge partition (word mod workers)
 }
 
 func newWorker(st *state, r *rng, local bool) *worker {
@@ -180,7 +180,8 @@ func (wk *worker) doc(d *sdoc, first bool) {
 		wk.add(w, k)
 		st.z[i] = k
 		if wk.local && !first && k != old {
-			wk.changes = append(wk.changes, change{w, old, k})
+			p := int(w) % len(wk.changes)
+			wk.changes[p] = append(wk.changes[p], change{w, old, k})
 		}
 	}
 	wk.end()
@@ -373,7 +374,9 @@ func (st *state) sweepOnce() {
 		wg.Add(1)
 		go func(wk *worker, sh [2]int) {
 			defer wg.Done()
-			wk.changes = wk.changes[:0]
+			for p := range wk.changes {
+				wk.changes[p] = wk.changes[p][:0]
+			}
 			wk.refresh()
 			for i := sh[0]; i < sh[1]; i++ {
 				wk.doc(&st.docs[i], false)
@@ -405,11 +408,18 @@ func (st *state) merge() {
 		go func(p int) {
 			defer wg.Done()
 			for _, wk := range st.workers {
-				for _, c := range wk.changes {
-					if int(c.w)%P == p {
-						decList(&st.wt[c.w], c.old)
-						incList(&st.wt[c.w], c.new)
+				cs := wk.changes[p]
+				for i, c := range cs {
+					if i+4 < len(cs) {
+						prefetch(unsafe.Pointer(&st.wt[cs[i+4].w]))
 					}
+					if i+2 < len(cs) {
+						if l := st.wt[cs[i+2].w]; cap(l) > 0 {
+							prefetch(unsafe.Pointer(unsafe.SliceData(l)))
+						}
+					}
+					decList(&st.wt[c.w], c.old)
+					incList(&st.wt[c.w], c.new)
 				}
 			}
 		}(p)

@@ -308,6 +308,7 @@ func (st *state) makeWorkers() {
 	for w := range st.workers {
 		st.rngs[w] = newRNG(st.opt.Seed, uint64(w))
 		st.workers[w] = newWorker(st, st.rngs[w], nw > 1)
+		st.workers[w].changes = make([][]change, nw)
 	}
 }
 
