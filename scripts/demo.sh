@@ -194,25 +194,37 @@ fi
 
 # --- screenshots (only when asked: DEMO_SCREENSHOTS=docs) -------------------
 # Regenerates the PNGs the README shows, with headless Chromium (Debian
-# package chromium). A page section is shot through an iframe scrolled to its
-# anchor, since a fragment in the screenshot URL itself is not honoured.
-shot() { # shot PAGE ANCHOR OUT.png HEIGHT
-  local page=$1 anchor=$2 png=$3 height=$4 url
-  local profile wrap
+# package chromium). A part of a page is shot through a wrapper page whose
+# script scrolls an iframe to the element with id ANCHOR, or to the first
+# table row containing TEXT (a fragment in the screenshot URL itself is not
+# honoured in headless mode).
+shot() { # shot PAGE OUT.png HEIGHT [ANCHOR [TEXT]]
+  local page=$1 png=$2 height=$3 anchor=${4:-} text=${5:-} url profile wrap=""
   profile=$(mktemp -d)
   url="file://$PWD/$page"
   if [ -n "$anchor" ]; then
-    wrap="$out/.shot-$anchor.html"
-    printf '<!doctype html><html><body style="margin:0;overflow:hidden"><iframe src="%s#%s" style="width:100%%;height:%spx;border:0"></iframe></body></html>\n' \
-      "$url" "$anchor" "$height" >"$wrap"
+    wrap="$out/.shot.html"
+    cat >"$wrap" <<EOF
+<!doctype html><html><body style="margin:0;overflow:hidden">
+<iframe id="f" src="$url" style="width:100%;height:${height}px;border:0"></iframe>
+<script>
+document.getElementById("f").addEventListener("load", function () {
+  var d = this.contentDocument, rows = d.querySelectorAll("tr"), i, text = "$text";
+  d.getElementById("$anchor").scrollIntoView();
+  for (i = 0; text && i < rows.length; i++) {
+    if (rows[i].textContent.indexOf(text) >= 0) { rows[i].scrollIntoView(); this.contentWindow.scrollBy(0, -80); break; }
+  }
+});
+</script></body></html>
+EOF
     url="file://$PWD/$wrap"
   fi
   timeout 60 "$chrome" --headless --no-sandbox --disable-gpu --disable-background-networking \
     --disable-component-update --disable-sync --no-first-run --hide-scrollbars \
-    --allow-file-access-from-files --user-data-dir="$profile" \
+    --allow-file-access-from-files --virtual-time-budget=3000 --user-data-dir="$profile" \
     --window-size="1280,$height" --screenshot="$png" "$url" >/dev/null 2>&1 ||
     fail "chromium could not take $png"
-  rm -rf "$profile" "${wrap:-}"
+  rm -rf "$profile" ${wrap:+"$wrap"}
   [ -s "$png" ] || fail "chromium wrote no $png"
   echo "  screenshot $png"
 }
@@ -222,9 +234,11 @@ if [ -n "${DEMO_SCREENSHOTS:-}" ]; then
   [ -n "$chrome" ] || fail "DEMO_SCREENSHOTS needs chromium (Debian package chromium)"
   [ "$annotated" = 1 ] || fail "DEMO_SCREENSHOTS needs the annotate step"
   mkdir -p "$DEMO_SCREENSHOTS"
-  shot "$out/gaps.html" "" "$DEMO_SCREENSHOTS/gaps.png" 1600
-  shot "$out/gaps.html" themes "$DEMO_SCREENSHOTS/gaps-themes.png" 1100
-  shot "$out/holdout.html" "" "$DEMO_SCREENSHOTS/annotate.png" 1600
+  shot "$out/gaps.html" "$DEMO_SCREENSHOTS/gaps.png" 1600
+  # The themes table from the beekeeping theme on (the theme the demo
+  # vocabulary lacks), with the suggested labels below it.
+  shot "$out/gaps.html" "$DEMO_SCREENSHOTS/gaps-themes.png" 1100 themes beekeep
+  shot "$out/holdout.html" "$DEMO_SCREENSHOTS/annotate.png" 1600
 fi
 
 # --- where things are -------------------------------------------------------
