@@ -1,7 +1,11 @@
 package main
 
 import (
+	"bufio"
+	"bytes"
+	"encoding/json"
 	"path/filepath"
+	"strings"
 	"testing"
 
 	"termgrove/model"
@@ -72,4 +76,59 @@ func TestDemoFitQuality(t *testing.T) {
 		}
 	}
 	t.Logf("bee tokens: %.0f, in free topics %.0f%%", all, 100*free/all)
+
+	// The held-out texts with the CLI's defaults. Source: the table of
+	// testdata/demo/README.md, "The held-out texts".
+	var stdout, stderr bytes.Buffer
+	if code := runAnnotate([]string{"--model", out, "--records", "--format", "json", filepath.Join(demo, "holdout.jsonl")}, strings.NewReader(""), &stdout, &stderr); code != 0 {
+		t.Fatalf("annotate exit %d: %s", code, stderr.String())
+	}
+	got := map[string]demoAnnotation{}
+	sc := bufio.NewScanner(&stdout)
+	for sc.Scan() {
+		var r demoAnnotation
+		if err := json.Unmarshal(sc.Bytes(), &r); err != nil {
+			t.Fatal(err)
+		}
+		got[r.ID] = r
+	}
+	if len(got) != 6 {
+		t.Fatalf("%d annotated texts, want 6", len(got))
+	}
+	for id, r := range got {
+		for _, c := range r.Concepts {
+			if c.Score < 0.01 { // the noise floor seen on these texts (bench/quality.md)
+				t.Errorf("%s: %s scores %v, below 0.01: the CLI default should leave it out", id, c.IRI, c.Score)
+			}
+		}
+	}
+	top := func(id string) string {
+		if len(got[id].Concepts) == 0 {
+			return ""
+		}
+		return strings.TrimPrefix(got[id].Concepts[0].IRI, "https://harrowmere.example/vocab/")
+	}
+	if c := top("hv-9001"); c != "flour-milling" {
+		t.Errorf("hv-9001 (a burnt corn mill): first concept %q, want flour-milling", c)
+	}
+	// hv-9004 is French: analysed as French, most of its words are known.
+	if r := got["hv-9004"]; r.Unknown > 20 {
+		t.Errorf("hv-9004 (French): %d unknown tokens; analysed as English?", r.Unknown)
+	}
+	for _, id := range []string{"hv-9004", "hv-9006"} {
+		if u := got[id].Uncovered; u < 0.4 {
+			t.Errorf("%s (beekeeping): uncovered %.2f, want mostly uncovered", id, u)
+		}
+	}
+}
+
+// demoAnnotation is the part of annotate's JSON output the test reads.
+type demoAnnotation struct {
+	ID        string  `json:"id"`
+	Uncovered float64 `json:"uncovered"`
+	Unknown   int     `json:"unknown"`
+	Concepts  []struct {
+		IRI   string  `json:"iri"`
+		Score float64 `json:"score"`
+	} `json:"concepts"`
 }
