@@ -107,6 +107,15 @@ func cmdFit(args []string) int {
 		fmt.Fprintln(os.Stderr, "termgrove fit: --free-topics ≥ 0, --sweeps ≥ 1, --workers ≥ 1, --lambda ≥ 0 and 0 ≤ --holdout < 1")
 		return 2
 	}
+	if err := checkLangs(f.langs); err != nil {
+		fmt.Fprintf(os.Stderr, "termgrove fit: %v\n", err)
+		return 2
+	}
+	// Refuse an output that cannot be written now, not after the sweeps.
+	if err := checkOutPath(f.out); err != nil {
+		fmt.Fprintf(os.Stderr, "termgrove fit: --out: %v\n", err)
+		return 2
+	}
 	return runFit(&f)
 }
 
@@ -140,6 +149,10 @@ func runFit(f *fitFlags) int {
 	scheme, err := concepts.Load(f.vocab, concepts.LoadOptions{Scheme: f.scheme})
 	if err != nil {
 		return fail(2, "%v", fitFileErr(f.vocab, err))
+	}
+	if cycles := scheme.Cycles(); len(cycles) > 0 {
+		return fail(2, "%s: the broader hierarchy has %d cycle(s), e.g. %s; termgrove needs it acyclic (termgrove check %s lists them all)",
+			f.vocab, len(cycles), cycleString(scheme, cycles[0]), f.vocab)
 	}
 	langs := fitSplit(f.langs)
 	an, err := terms.New(terms.Options{Languages: langs}, terms.NewDictionary())

@@ -44,6 +44,11 @@ Options:
 		return 2
 	}
 	if *modelPath == "" || fs.NArg() > 0 {
+		if *modelPath == "" {
+			fmt.Fprintln(os.Stderr, "termgrove report: --model is required")
+		} else {
+			fmt.Fprintf(os.Stderr, "termgrove report: unexpected argument %q\n", fs.Arg(0))
+		}
 		fs.Usage()
 		return 2
 	}
@@ -59,6 +64,10 @@ Options:
 		write = report.WriteHTML
 	default:
 		fmt.Fprintf(os.Stderr, "termgrove report: unknown --format %q (want text, json, csv or html)\n", *format)
+		return 2
+	}
+	if err := checkOutPath(*out); err != nil {
+		fmt.Fprintf(os.Stderr, "termgrove report: --out: %v\n", err)
 		return 2
 	}
 	m, err := model.Load(*modelPath)

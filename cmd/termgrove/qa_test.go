@@ -1,0 +1,167 @@
+package main
+
+import (
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// The project's standard for bad input (DESIGN.md, "Exit status"; the
+// issues' "Bad input" sections): a clear message, exit 2 for bad usage or
+// unreadable input, and never a half-written output. Common practice, no
+// source.
+
+// TestFitOutputUnwritable: an --out that cannot be written is refused
+// before any fitting, with exit 2 and a message naming the folder, and no
+// file is left behind.
+func TestFitOutputUnwritable(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the CLI")
+	}
+	bin := buildTermgrove(t)
+	dir := t.TempDir()
+	vocab := filepath.Join(dir, "v.ttl")
+	if err := os.WriteFile(vocab, []byte(fitTestVocab), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	recs := filepath.Join(dir, "r.jsonl")
+	writeFitCorpus(t, recs, 40, 20)
+	base := []string{"fit", "--vocab", vocab, "--records", recs, "--sweeps", "3", "--free-topics", "1", "--checkpoint", "0"}
+
+	missing := filepath.Join(dir, "no-such-folder", "m.grove")
+	_, stderr, code := runTG(t, bin, append(base, "--out", missing)...)
+	if code != 2 || !strings.Contains(stderr, "no-such-folder") || !strings.Contains(stderr, "does not exist") || strings.Contains(stderr, "sweep") {
+		t.Errorf("--out in a missing folder: exit %d, want 2 before fitting\n%s", code, stderr)
+	}
+	_, stderr, code = runTG(t, bin, append(base, "--out", dir)...)
+	if code != 2 || !strings.Contains(stderr, "is a folder") || strings.Contains(stderr, "sweep") {
+		t.Errorf("--out a folder: exit %d, want 2 before fitting\n%s", code, stderr)
+	}
+	if os.Getuid() != 0 { // root writes into a read-only folder anyway
+		ro := filepath.Join(dir, "ro")
+		os.Mkdir(ro, 0o500)
+		_, stderr, code = runTG(t, bin, append(base, "--out", filepath.Join(ro, "m.grove"))...)
+		if code != 2 || !strings.Contains(stderr, "cannot write") || strings.Contains(stderr, "sweep") {
+			t.Errorf("--out in a read-only folder: exit %d, want 2 before fitting\n%s", code, stderr)
+		}
+		if ents, _ := os.ReadDir(ro); len(ents) != 0 {
+			t.Errorf("read-only folder holds %d files", len(ents))
+		}
+	}
+}
+
+// TestFitRejectsCycle: DESIGN.md says broader cycles are rejected; fit
+// must not build a model whose hierarchy paths run round a cycle.
+func TestFitRejectsCycle(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the CLI")
+	}
+	bin := buildTermgrove(t)
+	dir := t.TempDir()
+	vocab := filepath.Join(dir, "v.ttl")
+	cyc := fitTestVocab + `ex:mill skos:broader ex:boat .
+ex:boat skos:broader ex:farm .
+ex:farm skos:broader ex:mill .
+`
+	if err := os.WriteFile(vocab, []byte(cyc), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	recs := filepath.Join(dir, "r.jsonl")
+	writeFitCorpus(t, recs, 40, 20)
+	out := filepath.Join(dir, "m.grove")
+	_, stderr, code := runTG(t, bin, "fit", "--vocab", vocab, "--records", recs, "--out", out, "--sweeps", "3", "--checkpoint", "0")
+	if code != 2 || !strings.Contains(stderr, "cycle") || !strings.Contains(stderr, "http://ex.org/c/mill") {
+		t.Errorf("broader cycle: exit %d, want 2 naming the cycle\n%s", code, stderr)
+	}
+	if _, err := os.Stat(out); err == nil {
+		t.Errorf("a model was written despite the cycle")
+	}
+}
+
+// TestFitBadLanguage: a malformed --lang tag is a usage error, not a
+// silent fall back to language-neutral analysis of every label.
+func TestFitBadLanguage(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the CLI")
+	}
+	bin := buildTermgrove(t)
+	dir := t.TempDir()
+	vocab := filepath.Join(dir, "v.ttl")
+	if err := os.WriteFile(vocab, []byte(fitTestVocab), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	recs := filepath.Join(dir, "r.jsonl")
+	writeFitCorpus(t, recs, 40, 20)
+	_, stderr, code := runTG(t, bin, "fit", "--vocab", vocab, "--records", recs, "--out", filepath.Join(dir, "m.grove"), "--lang", "en,x!y")
+	if code != 2 || !strings.Contains(stderr, `"x!y"`) {
+		t.Errorf("--lang x!y: exit %d, want 2 naming the tag\n%s", code, stderr)
+	}
+}
+
+// TestAnnotateBadOptions: out-of-range --top, --min-score and a malformed
+// --lang are usage errors.
+func TestAnnotateBadOptions(t *testing.T) {
+	mp := annTestModel(t)
+	for _, c := range []struct {
+		name string
+		args []string
+		msg  string
+	}{
+		{"negative top", []string{"--model", mp, "--top", "-1", "-"}, "--top"},
+		{"min-score above 1", []string{"--model", mp, "--min-score", "2", "-"}, "--min-score"},
+		{"negative min-score", []string{"--model", mp, "--min-score", "-0.5", "-"}, "--min-score"},
+		{"bad lang", []string{"--model", mp, "--lang", "zz!", "-"}, `"zz!"`},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			out, errs, code := annCall(t, "w1 w2", c.args...)
+			if code != 2 || !strings.Contains(errs, c.msg) || out != "" {
+				t.Errorf("exit %d (want 2)\nstderr %q (want %q)\nstdout %.200q", code, errs, c.msg, out)
+			}
+		})
+	}
+}
+
+// TestReportOutUnwritable: report --out into a missing folder or onto a
+// folder is refused with exit 2 and a clear message.
+func TestReportOutUnwritable(t *testing.T) {
+	mp := annTestModel(t)
+	dir := t.TempDir()
+	for _, c := range []struct{ out, msg string }{
+		{filepath.Join(dir, "nope", "r.html"), "does not exist"},
+		{dir, "is a folder"},
+	} {
+		code := cmdReport([]string{"--model", mp, "--format", "html", "--out", c.out})
+		if code != 2 {
+			t.Errorf("report --out %s: exit %d, want 2", c.out, code)
+		}
+		if _, err := os.Stat(filepath.Join(dir, "nope")); err == nil {
+			t.Errorf("report created the missing folder")
+		}
+	}
+}
+
+// TestCheckOutPath covers the shared pre-flight check of output paths.
+func TestCheckOutPath(t *testing.T) {
+	dir := t.TempDir()
+	if err := checkOutPath(filepath.Join(dir, "ok.grove")); err != nil {
+		t.Errorf("writable folder: %v", err)
+	}
+	if ents, _ := os.ReadDir(dir); len(ents) != 0 {
+		t.Errorf("the probe left %d files", len(ents))
+	}
+	for _, c := range []struct{ path, msg string }{
+		{filepath.Join(dir, "a", "b.grove"), "does not exist"},
+		{dir, "is a folder"},
+	} {
+		err := checkOutPath(c.path)
+		if err == nil || !strings.Contains(err.Error(), c.msg) || !strings.Contains(err.Error(), c.path) && !strings.Contains(err.Error(), filepath.Dir(c.path)) {
+			t.Errorf("checkOutPath(%s) = %v, want %q", c.path, err, c.msg)
+		}
+	}
+	f := filepath.Join(dir, "file")
+	os.WriteFile(f, nil, 0o644)
+	if err := checkOutPath(filepath.Join(f, "m.grove")); err == nil || !strings.Contains(err.Error(), "not a folder") {
+		t.Errorf("parent is a file: %v", err)
+	}
+}
