@@ -383,6 +383,16 @@ func save(path string, m *Model, wrap func(io.Writer) io.Writer) (err error) {
 	if err := f.Close(); err != nil {
 		return fail(err)
 	}
+	// CreateTemp makes the file 0600; a model is read by services that may
+	// run as another user, so give it 0644, or the mode of the file it
+	// replaces.
+	mode := os.FileMode(0o644)
+	if fi, err := os.Stat(path); err == nil && fi.Mode().IsRegular() {
+		mode = fi.Mode().Perm()
+	}
+	if err := os.Chmod(f.Name(), mode); err != nil {
+		return fail(err)
+	}
 	if err := os.Rename(f.Name(), path); err != nil {
 		return fail(err)
 	}
