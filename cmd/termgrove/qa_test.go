@@ -165,3 +165,22 @@ func TestCheckOutPath(t *testing.T) {
 		t.Errorf("parent is a file: %v", err)
 	}
 }
+
+// TestScorePerConceptUnwritable: score --per-concept into a missing folder
+// is refused before scoring with exit 2; likewise with --split before the
+// fit.
+func TestScorePerConceptUnwritable(t *testing.T) {
+	mp := annTestModel(t)
+	dir := t.TempDir()
+	recs := filepath.Join(dir, "gold.jsonl")
+	os.WriteFile(recs, []byte(`{"id":"a","text":"w1 w2 w3","subjects":["http://example.org/c/1"]}`+"\n"), 0o644)
+	bad := filepath.Join(dir, "nope", "c.csv")
+	if code := cmdScore([]string{"--model", mp, "--records", recs, "--per-concept", bad}); code != 2 {
+		t.Errorf("--per-concept in a missing folder: exit %d, want 2", code)
+	}
+	vocab := filepath.Join(dir, "v.ttl")
+	os.WriteFile(vocab, []byte(fitTestVocab), 0o644)
+	if code := cmdScore([]string{"--split", "0.5", "--vocab", vocab, "--records", recs, "--per-concept", bad}); code != 2 {
+		t.Errorf("--split with --per-concept in a missing folder: exit %d, want 2", code)
+	}
+}

@@ -65,6 +65,10 @@ Options:
 		fmt.Fprintf(os.Stderr, "termgrove score: unexpected argument %q (fit options need --split)\n", fitArgs[0])
 		return 2
 	}
+	if err := checkOutPath(*perConcept); err != nil {
+		fmt.Fprintf(os.Stderr, "termgrove score: --per-concept: %v\n", err)
+		return 2
+	}
 	if *split != 0 {
 		if *split <= 0 || *split >= 1 || *vocab == "" || *recPath == "" || *modelPath != "" {
 			fmt.Fprintln(os.Stderr, "termgrove score: --split needs 0 < SHARE < 1, --vocab and --records, and no --model")
