@@ -202,6 +202,11 @@ func ReadJSONL(r io.Reader, name string, opt Options, fn func(Record) error) (St
 			return st, fmt.Errorf("%s:%d: %w", name, line, err)
 		}
 		eof := err == io.EOF
+		if line == 1 {
+			// Windows editors and spreadsheets start UTF-8 files with a
+			// byte order mark; RFC 8259 §8.1 lets a parser ignore it.
+			b = bytes.TrimPrefix(b, []byte("\ufeff"))
+		}
 		t := bytes.TrimSpace(b)
 		if len(t) > 0 {
 			rec, msg := decode(t, extra)

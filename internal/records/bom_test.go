@@ -1,0 +1,26 @@
+package records
+
+import (
+	"strings"
+	"testing"
+)
+
+// TestReadJSONLByteOrderMark: a JSON Lines file saved by a Windows editor
+// or spreadsheet starts with a UTF-8 byte order mark and has CRLF line
+// ends; both are read as plain records. A BOM elsewhere stays an error.
+// Source: RFC 8259 §8.1 (parsers MAY ignore a leading BOM); common practice.
+func TestReadJSONLByteOrderMark(t *testing.T) {
+	in := "\ufeff{\"id\":\"a\",\"text\":\"mill\"}\r\n{\"id\":\"b\",\"text\":\"weir\"}\r\n"
+	var ids []string
+	st, err := ReadJSONL(strings.NewReader(in), "bom.jsonl", Options{}, func(r Record) error {
+		ids = append(ids, r.ID)
+		return nil
+	})
+	if err != nil || st.Read != 2 || strings.Join(ids, ",") != "a,b" {
+		t.Errorf("leading BOM: read %d %v, err %v", st.Read, ids, err)
+	}
+	_, err = ReadJSONL(strings.NewReader("{\"id\":\"a\"}\n\ufeff{\"id\":\"b\"}\n"), "mid.jsonl", Options{}, func(Record) error { return nil })
+	if err == nil || !strings.Contains(err.Error(), "mid.jsonl:2") {
+		t.Errorf("BOM on line 2: err %v, want mid.jsonl:2", err)
+	}
+}
