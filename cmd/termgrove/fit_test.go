@@ -9,6 +9,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"strings"
+	"sync"
 	"syscall"
 	"testing"
 	"time"
@@ -106,7 +107,7 @@ func TestFitKillResume(t *testing.T) {
 	args := []string{"fit", "--vocab", vocab, "--records", recs, "--out", out,
 		"--sweeps", "200", "--free-topics", "3", "--workers", "1", "--checkpoint", "100ms", "--seed", "4"}
 	cmd := exec.Command(bin, args...)
-	var errb bytes.Buffer
+	var errb fitSyncBuffer
 	cmd.Stderr = &errb
 	if err := cmd.Start(); err != nil {
 		t.Fatal(err)
@@ -208,4 +209,63 @@ func TestFitBadInput(t *testing.T) {
 	if code != 2 || !strings.Contains(stderr, "missing.jsonl") {
 		t.Errorf("missing records file: exit %d\n%s", code, stderr)
 	}
+}
+
+// TestFitInterrupt: SIGINT stops a fit after the current sweep with exit
+// status 1, a checkpoint and a hint to resume. Common practice, no source.
+func TestFitInterrupt(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the CLI")
+	}
+	bin := buildTermgrove(t)
+	dir := t.TempDir()
+	vocab := filepath.Join(dir, "v.ttl")
+	recs := filepath.Join(dir, "r.jsonl")
+	out := filepath.Join(dir, "m.grove")
+	if err := os.WriteFile(vocab, []byte(fitTestVocab), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	writeFitCorpus(t, recs, 3000, 60)
+	cmd := exec.Command(bin, "fit", "--vocab", vocab, "--records", recs, "--out", out,
+		"--sweeps", "100000", "--free-topics", "3", "--workers", "1", "--checkpoint", "1h")
+	var errb fitSyncBuffer
+	cmd.Stderr = &errb
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	deadline := time.Now().Add(60 * time.Second)
+	for !strings.Contains(errb.String(), "sweep 1/") {
+		if time.Now().After(deadline) {
+			cmd.Process.Kill()
+			t.Fatalf("no first sweep after 60 s:\n%s", errb.String())
+		}
+		time.Sleep(20 * time.Millisecond)
+	}
+	cmd.Process.Signal(os.Interrupt)
+	err := cmd.Wait()
+	ee, ok := err.(*exec.ExitError)
+	if !ok || ee.ExitCode() != 1 || !strings.Contains(errb.String(), "continue with --resume") {
+		t.Fatalf("after SIGINT: %v\n%s", err, errb.String())
+	}
+	if _, err := os.Stat(out + ".checkpoint"); err != nil {
+		t.Fatalf("no checkpoint after SIGINT: %v", err)
+	}
+}
+
+// fitSyncBuffer is a bytes.Buffer safe to read while a process writes it.
+type fitSyncBuffer struct {
+	mu sync.Mutex
+	b  bytes.Buffer
+}
+
+func (s *fitSyncBuffer) Write(p []byte) (int, error) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.b.Write(p)
+}
+
+func (s *fitSyncBuffer) String() string {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.b.String()
 }
