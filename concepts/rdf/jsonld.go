@@ -39,6 +39,8 @@ func ReadJSONLD(r io.Reader, opt Options, fn func(Triple) error) error {
 	if err != nil {
 		return &ParseError{File: opt.File, Line: 1, Col: 1, Msg: err.Error(), Err: fmt.Errorf("%w: %w", ErrIO, err)}
 	}
+	// RFC 8259 §8.1: a parser may ignore a leading byte order mark.
+	src = bytes.TrimPrefix(src, []byte("\ufeff"))
 	if !utf8.Valid(src) {
 		off := 0
 		for off < len(src) {

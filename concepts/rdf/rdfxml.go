@@ -53,6 +53,7 @@ const maxXMLDepth = 10000
 // Encodings other than UTF-8, US-ASCII and ISO-8859-1 are refused.
 func ReadRDFXML(r io.Reader, opt Options, fn func(Triple) error) error {
 	pr := &posReader{r: r, buf: make([]byte, 64<<10), line: 1, col: 1, validate: true}
+	pr.skipBOM()
 	d := xml.NewDecoder(pr)
 	d.Strict = true
 	d.CharsetReader = func(label string, in io.Reader) (io.Reader, error) {
@@ -94,6 +95,20 @@ type posReader struct {
 	// bline, bcol locate the first byte of the current (or the invalid)
 	// UTF-8 sequence.
 	bline, bcol int
+}
+
+// skipBOM drops a UTF-8 byte order mark at the start of the input (XML 1.0
+// §4.3.3 allows it; the decoder would take it for text before the root).
+// Call it before any other read.
+func (p *posReader) skipBOM() {
+	k, err := io.ReadFull(p.r, p.buf[:3])
+	if k == 3 && string(p.buf[:3]) == "\ufeff" {
+		k = 0
+	}
+	p.i, p.n = 0, k
+	if err != nil && err != io.EOF && err != io.ErrUnexpectedEOF {
+		p.ioErr = err
+	}
 }
 
 // errBadUTF8 is returned by posReader on an invalid byte sequence.
