@@ -169,9 +169,11 @@ func (wk *worker) doc(d *sdoc, first bool) {
 			prefetch(unsafe.Pointer(&wk.wt[st.words[i+4]]))
 		}
 		if i+2 < d.end {
-			if nl := wk.wt[st.words[i+2]]; cap(nl) > 0 {
+			w2 := st.words[i+2]
+			if nl := wk.wt[w2]; cap(nl) > 0 {
 				prefetch(unsafe.Pointer(unsafe.SliceData(nl)))
 			}
+			prefetch(unsafe.Pointer(&st.pStart[w2]))
 		}
 		if !first {
 			wk.remove(w, old)
