@@ -103,8 +103,9 @@ func cmdFit(args []string) int {
 		fmt.Fprintf(os.Stderr, "termgrove fit: missing %s (see termgrove fit --help)\n", strings.Join(missing, ", "))
 		return 2
 	}
-	if f.free < 0 || f.sweeps < 1 || f.holdout < 0 || f.holdout >= 1 || f.lambda < 0 || f.workers < 1 {
-		fmt.Fprintln(os.Stderr, "termgrove fit: --free-topics ≥ 0, --sweeps ≥ 1, --workers ≥ 1, --lambda ≥ 0 and 0 ≤ --holdout < 1")
+	// Written so that NaN fails too.
+	if f.free < 0 || f.sweeps < 1 || f.burnIn < 0 || !(f.holdout >= 0 && f.holdout < 1) || !(f.lambda >= 0) || f.workers < 1 {
+		fmt.Fprintln(os.Stderr, "termgrove fit: --free-topics ≥ 0, --sweeps ≥ 1, --burn-in ≥ 0, --workers ≥ 1, --lambda ≥ 0 and 0 ≤ --holdout < 1")
 		return 2
 	}
 	if err := checkLangs(f.langs); err != nil {
@@ -187,7 +188,14 @@ func runFit(f *fitFlags) int {
 	}
 	corpus := b.Finish()
 	if b.Records == 0 {
-		return fail(2, "%s: no record with text (%d read, %d empty, %d skipped)", f.recs, rstats.Read, b.Empty, rstats.Skipped)
+		hint := ""
+		if rstats.Read > 0 {
+			hint = fmt.Sprintf("; --fields %s read nothing: are the text fields named differently?", f.fields)
+		}
+		return fail(2, "%s: no record with text (%d read, %d empty, %d skipped)%s", f.recs, rstats.Read, b.Empty, rstats.Skipped, hint)
+	}
+	if int64(f.free) > corpus.Tokens() {
+		return fail(2, "--free-topics %d: more free topics than the %d tokens of the records", f.free, corpus.Tokens())
 	}
 	logf("records %s: %d with text, %d empty, %d skipped as bad, %d unknown subjects; %d tokens, %d word types",
 		f.recs, b.Records, b.Empty, rstats.Skipped, b.UnknownSubjects, corpus.Tokens(), corpus.W)

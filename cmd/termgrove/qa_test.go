@@ -184,3 +184,40 @@ func TestScorePerConceptUnwritable(t *testing.T) {
 		t.Errorf("--split with --per-concept in a missing folder: exit %d, want 2", code)
 	}
 }
+
+// TestFitBadNumbers: option values that make no sense are usage errors
+// (exit 2) before any sweep: NaN passes "< 0" checks, a negative burn-in
+// was silently taken as the default, and a typo such as 20000000 free
+// topics ran for minutes and wrote a model of noise.
+func TestFitBadNumbers(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the CLI")
+	}
+	bin := buildTermgrove(t)
+	dir := t.TempDir()
+	vocab := filepath.Join(dir, "v.ttl")
+	if err := os.WriteFile(vocab, []byte(fitTestVocab), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	recs := filepath.Join(dir, "r.jsonl")
+	writeFitCorpus(t, recs, 20, 10) // 200 tokens
+	out := filepath.Join(dir, "m.grove")
+	base := []string{"fit", "--vocab", vocab, "--records", recs, "--out", out, "--sweeps", "2", "--checkpoint", "0"}
+	for _, c := range []struct {
+		args []string
+		msg  string
+	}{
+		{[]string{"--holdout", "NaN"}, "--holdout"},
+		{[]string{"--burn-in", "-5"}, "--burn-in"},
+		{[]string{"--free-topics", "20000000"}, "free topics"},
+	} {
+		_, stderr, code := runTG(t, bin, append(base, c.args...)...)
+		if code != 2 || !strings.Contains(stderr, c.msg) || strings.Contains(stderr, "sweep 1/") {
+			t.Errorf("%v: exit %d, want 2 naming %s before fitting\n%s", c.args, code, c.msg, stderr)
+		}
+		if _, err := os.Stat(out); err == nil {
+			t.Errorf("%v: a model was written", c.args)
+			os.Remove(out)
+		}
+	}
+}
