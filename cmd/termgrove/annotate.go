@@ -14,6 +14,7 @@ import (
 	"golang.org/x/term"
 
 	"termgrove/annotate"
+	"termgrove/concepts/rdf"
 	"termgrove/internal/records"
 	"termgrove/model"
 )
@@ -116,6 +117,10 @@ func runAnnotate(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	}
 	if err := checkLangs(f.lang); err != nil {
 		fmt.Fprintf(stderr, "termgrove annotate: %v\n", err)
+		return 2
+	}
+	if !rdf.IsAbsoluteIRI(f.recordBase) {
+		fmt.Fprintf(stderr, "termgrove annotate: --record-base %q: want an absolute IRI without spaces or any of <>\"{}|^`\\, e.g. https://catalogue.example.org/record/\n", f.recordBase)
 		return 2
 	}
 	if len(inputs) == 0 {

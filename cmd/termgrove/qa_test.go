@@ -221,3 +221,20 @@ func TestFitBadNumbers(t *testing.T) {
 		}
 	}
 }
+
+// TestAnnotateBadRecordBase: --record-base must be an absolute IRI that
+// may stand in an N-Triples/Turtle IRIREF; otherwise the ttl output would
+// not parse (RDF 1.1 Turtle §6.5, IRIREF). Source: RDF 1.1 Turtle.
+func TestAnnotateBadRecordBase(t *testing.T) {
+	mp := annTestModel(t)
+	for _, base := range []string{"not an iri>", "records/", "http://x/{id}"} {
+		out, errs, code := annCall(t, "w1 w2", "--model", mp, "--format", "ttl", "--record-base", base, "-")
+		if code != 2 || !strings.Contains(errs, "--record-base") || out != "" {
+			t.Errorf("--record-base %q: exit %d (want 2), stderr %q, stdout %.100q", base, code, errs, out)
+		}
+	}
+	out, errs, code := annCall(t, "w1 w2", "--model", mp, "--format", "ttl", "--record-base", "https://catalogue.example.org/record/", "-")
+	if code != 0 || !strings.Contains(out, "<https://catalogue.example.org/record/->") {
+		t.Errorf("good --record-base: exit %d, stderr %q, stdout %.200q", code, errs, out)
+	}
+}
