@@ -113,7 +113,7 @@ func (t *annText) Record(res *annotate.Result, text string) error {
 		b.WriteString("\n")
 	}
 	t.n++
-	head := res.ID
+	head := annVisible(res.ID)
 	if t.o.Color {
 		head = "\x1b[1m" + head + "\x1b[0m"
 	}
@@ -143,7 +143,7 @@ func (t *annText) Record(res *annotate.Result, text string) error {
 		if len(c.Support) > 0 {
 			var parts []string
 			for _, s := range c.Support {
-				parts = append(parts, fmt.Sprintf("%s %.2f", s.Term, s.Weight))
+				parts = append(parts, fmt.Sprintf("%s %.2f", annVisible(s.Term), s.Weight))
 			}
 			fmt.Fprintf(&b, "            words: %s\n", strings.Join(parts, ", "))
 		}
@@ -156,6 +156,7 @@ func (t *annText) Record(res *annotate.Result, text string) error {
 			if w != nil {
 				r = rank[w.Concept]
 			}
+			s = annVisible(s)
 			switch {
 			case r == 0:
 				b.WriteString(s)
@@ -176,7 +177,28 @@ func (t *annText) Record(res *annotate.Result, text string) error {
 
 // annOneLine keeps a label on one line.
 func annOneLine(s string) string {
-	return strings.Join(strings.Fields(s), " ")
+	return annVisible(strings.Join(strings.Fields(s), " "))
+}
+
+// annVisible shows the control characters of s, other than newline and
+// tab, as Unicode control pictures (ESC as ␛), so that a record cannot
+// send escape sequences to the terminal; C1 controls become U+FFFD.
+// Windows line ends (CRLF) become plain newlines.
+func annVisible(s string) string {
+	s = strings.ReplaceAll(s, "\r\n", "\n")
+	return strings.Map(func(r rune) rune {
+		switch {
+		case r == '\n' || r == '\t':
+			return r
+		case r < 0x20:
+			return 0x2400 + r
+		case r == 0x7f:
+			return 0x2421
+		case r >= 0x80 && r < 0xa0:
+			return 0xfffd
+		}
+		return r
+	}, s)
 }
 
 // annTTL writes dcterms:subject triples, scores and labels as comments.

@@ -238,3 +238,28 @@ func TestAnnotateBadRecordBase(t *testing.T) {
 		t.Errorf("good --record-base: exit %d, stderr %q, stdout %.200q", code, errs, out)
 	}
 }
+
+// TestAnnotateTextNoControlCharacters: the terminal view must not pass a
+// record's escape sequences or other control characters to the terminal
+// (a record could clear the screen or fake output); they are shown as
+// Unicode control pictures. Common practice, no source.
+func TestAnnotateTextNoControlCharacters(t *testing.T) {
+	mp := annTestModel(t)
+	in := `{"id":"id\u001b[2J","text":"w1 \u001b[31mw2\u001b[0m w3\u0007\tw4"}` + "\n"
+	out, errs, code := annCall(t, in, "--model", mp, "--records", "--color", "never", "-")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, r := range out {
+		if r < 0x20 && r != '\n' && r != '\t' || r == 0x7f || r >= 0x80 && r < 0xa0 {
+			t.Fatalf("control character %U in the text view:\n%q", r, out)
+		}
+	}
+	if !strings.Contains(out, "id␛[2J") || !strings.Contains(out, "␇") {
+		t.Errorf("control characters not shown as pictures:\n%s", out)
+	}
+	out, _, _ = annCall(t, "w1 w2\r\nw3\r\n", "--model", mp, "--color", "never", "-")
+	if strings.ContainsAny(out, "\r␍") {
+		t.Errorf("CRLF line ends not shown as newlines:\n%q", out)
+	}
+}
