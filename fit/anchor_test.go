@@ -1,9 +1,11 @@
 package fit
 
 import (
+	"math"
 	"reflect"
 	"testing"
 
+	"termgrove/model"
 	"termgrove/prior"
 )
 
@@ -63,4 +65,50 @@ func contains32(s []int32, k int32) bool {
 		}
 	}
 	return false
+}
+
+// TestRelated: the related rows hold the positive lifts P(k|j) − P(k) over
+// the records people indexed (anchored records left out), worked by hand.
+// Source: Rubin et al. 2012 (Dependency-LDA) for the idea; the figures are
+// this test's own arithmetic.
+func TestRelated(t *testing.T) {
+	p := &prior.Prior{Lambda: 5, Beta0: 0.01, Rows: [][]prior.Entry{
+		{{Word: 0, Weight: 1}}, {{Word: 1, Weight: 1}}, {{Word: 2, Weight: 1}},
+	}}
+	c := &Corpus{W: 4, Docs: []Doc{
+		{ID: "a", Words: []int32{0, 1}, Subjects: []int32{0, 1}},
+		{ID: "b", Words: []int32{0, 3}, Subjects: []int32{1, 0}},
+		{ID: "c", Words: []int32{2}, Subjects: []int32{2}},
+		{ID: "d", Words: []int32{0}, Subjects: []int32{0}},
+		{ID: "e", Words: []int32{0, 2}}, // anchored to 0 and 2: not a person's choice
+	}}
+	st, err := newState(p, c, Options{FreeTopics: 1, Workers: 1, Anchor: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// D = 4 indexed records; df = 3, 2, 1.
+	want := [][]model.ConceptWeight{
+		{{Concept: 0, Weight: 1 - 0.75}, {Concept: 1, Weight: 2.0/3 - 0.5}},
+		{{Concept: 0, Weight: 1 - 0.75}, {Concept: 1, Weight: 1 - 0.5}},
+		{{Concept: 2, Weight: 1 - 0.25}},
+	}
+	got := st.related()
+	for j := range want {
+		if len(got[j]) != len(want[j]) {
+			t.Fatalf("row %d = %v, want %v", j, got[j], want[j])
+		}
+		for i := range want[j] {
+			if got[j][i].Concept != want[j][i].Concept || math.Abs(got[j][i].Weight-want[j][i].Weight) > 1e-12 {
+				t.Errorf("row %d = %v, want %v", j, got[j], want[j])
+			}
+		}
+	}
+	c.Docs = c.Docs[4:]
+	st, err = newState(p, c, Options{FreeTopics: 1, Workers: 1, Anchor: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r := st.related(); r != nil {
+		t.Errorf("related rows without indexed records: %v", r)
+	}
 }

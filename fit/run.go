@@ -157,6 +157,7 @@ func (st *state) buildModel() *model.Model {
 		}
 		ks = ks[:0]
 	}
+	m.Related = st.related()
 	o := st.opt
 	m.Provenance = model.Provenance{
 		Records: len(st.docs),
@@ -231,4 +232,70 @@ func (st *state) marginalAlpha() []float64 {
 		a[k] = max(a[k]*q+float64(human[k])/D, minAlpha)
 	}
 	return a
+}
+
+// Bounds of the related-concept rows: at most maxRelated concepts per row,
+// each with a lift of at least minLift.
+const (
+	maxRelated = 20
+	minLift    = 0.01
+)
+
+// related computes, over the records whose subjects people chose, the lift
+// P(k | j) − P(k) of concept k among the records indexed with j, keeping
+// the positive ones (j itself has 1 − P(j)). It is the label-dependency
+// half of Dependency-LDA (Rubin, Chambers, Smyth & Steyvers 2012), reduced
+// to one label topic per concept: annotation adds a concept's related
+// concepts to its neighbours' scores, so that subjects people assign
+// together are suggested together. nil without indexed records.
+func (st *state) related() [][]model.ConceptWeight {
+	var pairs []uint64 // j<<32 | k, one per (record, j, k)
+	df := make([]float64, st.C)
+	D := 0.0
+	for i := range st.docs {
+		d := &st.docs[i]
+		if d.subjects == nil || d.anchored {
+			continue
+		}
+		D++
+		for _, j := range d.subjects {
+			df[j]++
+			for _, k := range d.subjects {
+				pairs = append(pairs, uint64(j)<<32|uint64(k))
+			}
+		}
+	}
+	if D == 0 {
+		return nil
+	}
+	slices.Sort(pairs)
+	rows := make([][]model.ConceptWeight, st.C)
+	for i := 0; i < len(pairs); {
+		n := i
+		for n < len(pairs) && pairs[n] == pairs[i] {
+			n++
+		}
+		j, k := int32(pairs[i]>>32), int32(uint32(pairs[i]))
+		if lift := float64(n-i)/df[j] - df[k]/D; lift >= minLift {
+			rows[j] = append(rows[j], model.ConceptWeight{Concept: k, Weight: lift})
+		}
+		i = n
+	}
+	for j, row := range rows {
+		if len(row) > maxRelated {
+			slices.SortStableFunc(row, func(a, b model.ConceptWeight) int {
+				switch {
+				case a.Weight > b.Weight:
+					return -1
+				case a.Weight < b.Weight:
+					return 1
+				}
+				return 0
+			})
+			row = row[:maxRelated]
+			slices.SortFunc(row, func(a, b model.ConceptWeight) int { return int(a.Concept - b.Concept) })
+			rows[j] = row
+		}
+	}
+	return rows
 }

@@ -105,9 +105,20 @@ type Model struct {
 	Totals     []int64        // K: n_k
 	DocCounts  []int32        // K: records whose tokens a topic took (for reports)
 	Provenance Provenance
+	// Related lists, per concept j, the concepts people assign beside it
+	// more often than on average, with the lift P(k | j) − P(k) > 0 over
+	// the indexed records (the row holds j itself with 1 − P(j)); nil or
+	// empty rows when the corpus had no indexed records. Sorted by concept.
+	Related [][]ConceptWeight
 
 	sum    [32]byte // payload SHA-256, set by Load
 	hasSum bool
+}
+
+// ConceptWeight is a concept index with a weight.
+type ConceptWeight struct {
+	Concept int32
+	Weight  float64
 }
 
 // Provenance records where a model came from.
@@ -290,10 +301,19 @@ func (m *Model) Validate() error {
 		return fmt.Errorf("K = %d but %d alpha, %d count rows, %d totals", K, len(m.Alpha), len(m.Counts), len(m.Totals))
 	case len(m.DocCounts) != 0 && len(m.DocCounts) != K:
 		return fmt.Errorf("K = %d but %d doc counts", K, len(m.DocCounts))
+	case len(m.Related) != 0 && len(m.Related) != m.C:
+		return fmt.Errorf("%d related rows for %d concepts", len(m.Related), m.C)
 	case len(m.Prior) > m.C:
 		return fmt.Errorf("%d prior rows for %d concepts", len(m.Prior), m.C)
 	case !(m.Beta0 > 0) || math.IsInf(m.Beta0, 0) || m.Lambda < 0 || math.IsNaN(m.Lambda) || math.IsInf(m.Lambda, 0):
 		return fmt.Errorf("bad beta0 %v or lambda %v", m.Beta0, m.Lambda)
+	}
+	for j, row := range m.Related {
+		for _, r := range row {
+			if r.Concept < 0 || int(r.Concept) >= m.C || !(r.Weight > 0) || r.Weight > 1 {
+				return fmt.Errorf("related[%d]: concept %d weight %v", j, r.Concept, r.Weight)
+			}
+		}
 	}
 	for k, a := range m.Alpha {
 		if !(a > 0) || math.IsInf(a, 0) {
@@ -506,6 +526,9 @@ type meta struct {
 	Title       []concepts.Label
 	Collections []concepts.Collection
 	HasScheme   bool
+	// Related is Model.Related; files written before it was added decode
+	// to nil (gob ignores missing fields).
+	Related [][]ConceptWeight
 }
 
 // enc packs the flat arrays.
@@ -554,7 +577,7 @@ func (e *enc) ints(xs []int) {
 }
 
 func encode(w io.Writer, m *Model) error {
-	md := meta{Analyzer: m.Analyzer, Provenance: m.Provenance}
+	md := meta{Analyzer: m.Analyzer, Provenance: m.Provenance, Related: m.Related}
 	if m.Scheme != nil {
 		md.HasScheme = true
 		md.SchemeIRI, md.Title, md.Collections = m.Scheme.IRI, m.Scheme.Title, m.Scheme.Collections
@@ -744,7 +767,7 @@ func decode(b []byte) (*Model, error) {
 		return nil, fmt.Errorf("header: %v", err)
 	}
 	d.off += gn
-	m := &Model{Analyzer: md.Analyzer, Provenance: md.Provenance}
+	m := &Model{Analyzer: md.Analyzer, Provenance: md.Provenance, Related: md.Related}
 	m.C = d.count(1)
 	m.F = d.count(1)
 	if d.err == nil && m.C+m.F > len(b) {

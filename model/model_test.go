@@ -292,3 +292,34 @@ func BenchmarkLoad(b *testing.B) {
 		}
 	}
 }
+
+// TestRelatedRoundTrip: the related-concept rows survive Save and Load, a
+// model without them loads with none, and a bad row is refused. Common
+// practice, no source.
+func TestRelatedRoundTrip(t *testing.T) {
+	m := small()
+	m.Related = make([][]model.ConceptWeight, m.C)
+	m.Related[3] = []model.ConceptWeight{{Concept: 3, Weight: 0.9}, {Concept: 17, Weight: 0.25}}
+	p := filepath.Join(t.TempDir(), "m.grove")
+	if err := model.Save(p, m); err != nil {
+		t.Fatal(err)
+	}
+	got, err := model.Load(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(got.Related[3], m.Related[3]) || len(got.Related) != m.C {
+		t.Errorf("related rows after load: %v", got.Related[3])
+	}
+	plain := small()
+	if err := model.Save(p, plain); err != nil {
+		t.Fatal(err)
+	}
+	if got, err := model.Load(p); err != nil || got.Related != nil {
+		t.Errorf("model without related rows: %v, %v", got.Related, err)
+	}
+	m.Related[3][1].Concept = int32(m.C)
+	if err := model.Save(p, m); err == nil {
+		t.Error("related concept out of range saved")
+	}
+}
