@@ -179,6 +179,9 @@ type TrendSeries struct {
 // ErrNoModel is returned for a nil or empty model.
 var ErrNoModel = errors.New("report: model has no topics")
 
+// ErrOptions: an option of Score or Gaps is out of range.
+var ErrOptions = errors.New("report: bad option")
+
 // Gaps builds the gap report from a model and, when recs is non-empty, the
 // records (with an annotator for per-record concept use). It does not
 // change the model.

@@ -72,6 +72,9 @@ func itoa(k int) string {
 }
 
 func top(pred []int, k int) []int {
+	if k < 0 {
+		return nil
+	}
 	if len(pred) > k {
 		return pred[:k]
 	}

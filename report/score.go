@@ -2,6 +2,7 @@ package report
 
 import (
 	"fmt"
+	"slices"
 	"sort"
 
 	"termgrove/annotate"
@@ -45,6 +46,9 @@ type ScoreResult struct {
 func Score(m *model.Model, a Annotator, recs []records.Record, opt ScoreOptions) (*ScoreResult, error) {
 	if len(opt.Ks) == 0 {
 		opt.Ks = Ks
+	}
+	if opt.PerConceptK < 0 || slices.Min(opt.Ks) < 1 {
+		return nil, fmt.Errorf("%w: cut-offs k must be 1 or more (per-concept k %d, k %v)", ErrOptions, opt.PerConceptK, opt.Ks)
 	}
 	if opt.Lang == "" {
 		opt.Lang = "en"

@@ -263,3 +263,22 @@ func TestAnnotateTextNoControlCharacters(t *testing.T) {
 		t.Errorf("CRLF line ends not shown as newlines:\n%q", out)
 	}
 }
+
+// TestScoreReportBadNumbers: out-of-range numeric options of score and
+// report are usage errors (score --k -2 used to panic).
+func TestScoreReportBadNumbers(t *testing.T) {
+	mp := annTestModel(t)
+	dir := t.TempDir()
+	recs := filepath.Join(dir, "gold.jsonl")
+	os.WriteFile(recs, []byte(`{"id":"a","text":"w1 w2 w3","subjects":["http://example.org/c/1"]}`+"\n"), 0o644)
+	for _, args := range [][]string{{"--k", "-2"}, {"--k", "0"}, {"--burn-in", "-1"}, {"--samples", "-1"}} {
+		if code := cmdScore(append([]string{"--model", mp, "--records", recs}, args...)); code != 2 {
+			t.Errorf("score %v: exit %d, want 2", args, code)
+		}
+	}
+	for _, args := range [][]string{{"--min-share", "NaN"}, {"--min-share", "-1"}, {"--min-share", "2"}, {"--min-records", "-3"}} {
+		if code := cmdReport(append([]string{"--model", mp}, args...)); code != 2 {
+			t.Errorf("report %v: exit %d, want 2", args, code)
+		}
+	}
+}

@@ -66,6 +66,10 @@ Options:
 		fmt.Fprintf(os.Stderr, "termgrove report: unknown --format %q (want text, json, csv or html)\n", *format)
 		return 2
 	}
+	if !(*minShare >= 0 && *minShare <= 1) || *minRecords < 0 {
+		fmt.Fprintln(os.Stderr, "termgrove report: 0 ≤ --min-share ≤ 1 and --min-records ≥ 0")
+		return 2
+	}
 	if err := checkOutPath(*out); err != nil {
 		fmt.Fprintf(os.Stderr, "termgrove report: --out: %v\n", err)
 		return 2

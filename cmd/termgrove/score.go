@@ -65,6 +65,10 @@ Options:
 		fmt.Fprintf(os.Stderr, "termgrove score: unexpected argument %q (fit options need --split)\n", fitArgs[0])
 		return 2
 	}
+	if *k < 1 || *burnIn < 0 || *samples < 0 {
+		fmt.Fprintln(os.Stderr, "termgrove score: --k ≥ 1, --burn-in ≥ 0 and --samples ≥ 0")
+		return 2
+	}
 	if err := checkOutPath(*perConcept); err != nil {
 		fmt.Fprintf(os.Stderr, "termgrove score: --per-concept: %v\n", err)
 		return 2
