@@ -2,6 +2,7 @@ package report
 
 import (
 	"errors"
+	"strings"
 	"testing"
 )
 
@@ -18,5 +19,21 @@ func TestBadCutoffs(t *testing.T) {
 		if !errors.Is(err, ErrOptions) {
 			t.Errorf("Score(%+v): err %v, want ErrOptions", opt, err)
 		}
+	}
+}
+
+// TestWriteTextNoControlCharacters: labels, record ids and words come from
+// the vocabulary and the records; the terminal view must not pass their
+// escape sequences to the terminal. Common practice, no source.
+func TestWriteTextNoControlCharacters(t *testing.T) {
+	g := &GapReport{Scheme: "https://example.org/s\x1b[2J",
+		Unused: []UnusedGroup{{TopLabel: "top\x07", Concepts: []UnusedConcept{{Label: "mills\x1b[31m", IRI: "https://example.org/a"}}}}}
+	var b strings.Builder
+	if err := WriteText(&b, g); err != nil {
+		t.Fatal(err)
+	}
+	out := b.String()
+	if strings.ContainsAny(out, "\x1b\x07") || !strings.Contains(out, "mills␛[31m") {
+		t.Errorf("control characters reach the terminal:\n%q", out)
 	}
 }

@@ -83,8 +83,27 @@ func WriteText(w io.Writer, g *GapReport) error {
 			fmt.Fprintf(b, "  %-8s %-32s %s  %+.2f%%/decade\n", s.Kind, s.Label, spark(s.Shares), 100*s.Slope)
 		}
 	}
-	_, err := io.WriteString(w, b.String())
+	_, err := io.WriteString(w, visible(b.String()))
 	return err
+}
+
+// visible shows the control characters of s other than newline and tab as
+// Unicode control pictures (ESC as ␛) and C1 controls as U+FFFD, so that
+// labels and record ids cannot send escape sequences to the terminal.
+func visible(s string) string {
+	return strings.Map(func(r rune) rune {
+		switch {
+		case r == '\n' || r == '\t':
+			return r
+		case r < 0x20:
+			return 0x2400 + r
+		case r == 0x7f:
+			return 0x2421
+		case r >= 0x80 && r < 0xa0:
+			return 0xfffd
+		}
+		return r
+	}, s)
 }
 
 func orDash(s string) string {
