@@ -279,6 +279,9 @@ func runFit(f *fitFlags) int {
 			}
 			return fail(1, "interrupted")
 		}
+		if errors.Is(err, fit.ErrCheckpoint) {
+			return fail(2, "%v; delete %s or leave out --resume to start afresh", err, ckPath)
+		}
 		if errors.Is(err, fit.ErrEmptyCorpus) {
 			return fail(2, "%s: no tokens to fit (holdout %.2f)", f.recs, f.holdout)
 		}

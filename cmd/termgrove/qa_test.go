@@ -282,3 +282,30 @@ func TestScoreReportBadNumbers(t *testing.T) {
 		}
 	}
 }
+
+// TestFitBadCheckpoint: --resume with a damaged checkpoint stops with exit
+// 2 (unreadable input), says how to start afresh, and writes no model.
+func TestFitBadCheckpoint(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the CLI")
+	}
+	bin := buildTermgrove(t)
+	dir := t.TempDir()
+	vocab := filepath.Join(dir, "v.ttl")
+	if err := os.WriteFile(vocab, []byte(fitTestVocab), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	recs := filepath.Join(dir, "r.jsonl")
+	writeFitCorpus(t, recs, 40, 20)
+	out := filepath.Join(dir, "m.grove")
+	if err := os.WriteFile(out+".checkpoint", []byte("TGROVE-CK garbage"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, stderr, code := runTG(t, bin, "fit", "--vocab", vocab, "--records", recs, "--out", out, "--sweeps", "3", "--resume")
+	if code != 2 || !strings.Contains(stderr, "m.grove.checkpoint") || !strings.Contains(stderr, "start afresh") {
+		t.Errorf("damaged checkpoint: exit %d, want 2 with advice\n%s", code, stderr)
+	}
+	if _, err := os.Stat(out); err == nil {
+		t.Errorf("a model was written")
+	}
+}
