@@ -309,3 +309,19 @@ func TestFitBadCheckpoint(t *testing.T) {
 		t.Errorf("a model was written")
 	}
 }
+
+// TestMissingModelSaysSo: serve and score without --model say what is
+// missing on their first line, before the usage text.
+func TestMissingModelSaysSo(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the CLI")
+	}
+	bin := buildTermgrove(t)
+	for _, cmd := range []string{"serve", "score", "report"} {
+		_, stderr, code := runTG(t, bin, cmd)
+		first, _, _ := strings.Cut(stderr, "\n")
+		if code != 2 || !strings.Contains(first, "--model") || !strings.Contains(first, "required") {
+			t.Errorf("%s without --model: exit %d, first line %q", cmd, code, first)
+		}
+	}
+}

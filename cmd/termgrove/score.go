@@ -12,6 +12,7 @@ import (
 	"path/filepath"
 	"sort"
 	"strconv"
+	"strings"
 
 	"termgrove/annotate"
 	"termgrove/model"
@@ -86,6 +87,14 @@ Options:
 		*modelPath, *recPath = path, testPath
 	}
 	if *modelPath == "" || *recPath == "" {
+		var missing []string
+		if *modelPath == "" {
+			missing = append(missing, "--model")
+		}
+		if *recPath == "" {
+			missing = append(missing, "--records")
+		}
+		fmt.Fprintf(os.Stderr, "termgrove score: %s required (or --split with --vocab)\n", strings.Join(missing, " and "))
 		fs.Usage()
 		return 2
 	}

@@ -80,6 +80,11 @@ Options:
 		return 2
 	}
 	if len(models) == 0 || fs.NArg() > 0 {
+		if len(models) == 0 {
+			fmt.Fprintln(os.Stderr, "termgrove serve: --model is required (repeat it for several models)")
+		} else {
+			fmt.Fprintf(os.Stderr, "termgrove serve: unexpected argument %q\n", fs.Arg(0))
+		}
 		fs.Usage()
 		return 2
 	}
