@@ -90,12 +90,15 @@ const (
 
 // relatedWeight is γ in s'_k = s_k + γ·Σ_j s_j·L_jk, where L_jk is the
 // lift of concept k among the records people indexed with j
-// (model.Model.Related). On the whole debtags test split (5,926 records, no
-// free topics, 200 fold-in samples) micro/macro F1@5 were 0.408/0.287 with
-// γ = 0, 0.443/0.291 with 0.1, 0.450/0.278 with 0.15, 0.453/0.256 with 0.2
-// and 0.460/0.251 with 0.3 (bench/quality.md): 0.1 gains micro F1 without
-// losing the rare concepts that macro F1 weighs.
-const relatedWeight = 0.1
+// (model.Model.Related). Whole debtags test split (5,926 records, 200
+// fold-in samples), micro/macro F1@5 for γ = 0, 0.1, 0.2, 0.3, 0.5
+// (bench/quality.md):
+//
+//	20 free topics: 0.374/0.282 0.435/0.293 0.449/0.295 0.456/0.296 0.457/0.287
+//	no free topics: 0.408/0.287 0.443/0.291 0.453/0.256 0.460/0.251
+//
+// With the default 20 free topics 0.3 is best on both.
+const relatedWeight = 0.3
 
 // addRelated adds to each candidate's neighbours γ·s_j·L_jk, appending
 // the concepts it reaches to cand. Scores then no longer sum to 1 with
