@@ -269,7 +269,7 @@ func annRun(annotateFn func(id, text string, opt annotate.Options) (*annotate.Re
 		if f.records {
 			err = annReadRecords(in, stdin, fields, f.skipBad, stderr, submit)
 		} else {
-			err = annReadText(in, stdin, submit)
+			err = annReadText(in, stdin, stderr, submit)
 		}
 		if err != nil {
 			fmt.Fprintf(stderr, "termgrove annotate: %v\n", err)
@@ -313,7 +313,7 @@ func annReadRecords(path string, stdin io.Reader, fields []string, skipBad bool,
 }
 
 // annReadText reads a plain-text file, a folder of .txt files or stdin.
-func annReadText(path string, stdin io.Reader, submit func(where, id, text, lang string, subjects []string)) error {
+func annReadText(path string, stdin io.Reader, stderr io.Writer, submit func(where, id, text, lang string, subjects []string)) error {
 	if path == "-" {
 		b, err := io.ReadAll(stdin)
 		if err != nil {
@@ -327,10 +327,19 @@ func annReadText(path string, stdin io.Reader, submit func(where, id, text, lang
 		return err
 	}
 	if fi.IsDir() {
-		return records.Read(path, records.Options{Fields: []string{"text"}}, func(r records.Record) error {
+		n := 0
+		err := records.Read(path, records.Options{Fields: []string{"text"}}, func(r records.Record) error {
+			n++
 			submit(r.File, r.ID, r.Text, "", nil)
 			return nil
 		})
+		if err == nil && n == 0 {
+			fmt.Fprintf(stderr, "termgrove annotate: warning: %s: no .txt files in this folder\n", path)
+		}
+		return err
+	}
+	if strings.HasSuffix(path, ".jsonl") || strings.HasSuffix(path, ".ndjson") {
+		fmt.Fprintf(stderr, "termgrove annotate: warning: %s is read as one plain text; give --records to read it as JSON Lines records\n", path)
 	}
 	b, err := os.ReadFile(path)
 	if err != nil {

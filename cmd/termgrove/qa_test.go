@@ -325,3 +325,21 @@ func TestMissingModelSaysSo(t *testing.T) {
 		}
 	}
 }
+
+// TestAnnotateInputHints: a folder with no .txt file, and a .jsonl file
+// read as plain text (no --records), each get a warning on stderr rather
+// than silence.
+func TestAnnotateInputHints(t *testing.T) {
+	mp := annTestModel(t)
+	dir := t.TempDir()
+	os.WriteFile(filepath.Join(dir, "notes.md"), []byte("w1 w2"), 0o644)
+	_, errs, code := annCall(t, "", "--model", mp, dir)
+	if code != 0 || !strings.Contains(errs, "no .txt files") {
+		t.Errorf("folder without .txt: exit %d, stderr %q", code, errs)
+	}
+	recs, _ := annRecords(t, 2)
+	out, errs, code := annCall(t, "", "--model", mp, "--format", "json", recs)
+	if code != 0 || !strings.Contains(errs, "--records") || !strings.Contains(out, `"id":"recs.jsonl"`) {
+		t.Errorf(".jsonl without --records: exit %d, stderr %q", code, errs)
+	}
+}
