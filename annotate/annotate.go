@@ -32,7 +32,11 @@
 //	θ_k = mean_s (n_dk + α_k) / (N + Σ_k α_k)
 //
 // (the usual estimate, Griffiths & Steyvers 2004), so concept scores plus
-// the uncovered share (free topics) sum to 1. For the words, each token's
+// the uncovered share (free topics) sum to 1 — unless the model holds
+// related-concept rows (model.Model.Related, from records people indexed):
+// then each concept also gets γ·θ_j·L_jk from the concepts j it is often
+// assigned beside (see relatedWeight), and scores rank rather than sum to
+// 1. For the words, each token's
 // conditional (not just its draw) is accumulated (Rao–Blackwellised) per
 // word type: occurrences of one word in one text are exchangeable, so they
 // share a posterior. Only the smoothing bucket's split over topics is taken

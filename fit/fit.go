@@ -8,7 +8,12 @@
 //
 // with α asymmetric and learned by Minka's fixed-point update (Wallach, Mimno
 // & McCallum 2009, "Rethinking LDA: why priors matter"). A record that carries
-// subjects draws only from those concepts and the free topics.
+// subjects draws only from those concepts and the free topics; with
+// Options.Anchor a record without subjects draws only from the concepts whose
+// label terms it contains and the free topics. The model stores the α a new
+// text should use (learned α weighted by how many records could use each
+// concept, plus Prior-LDA's label frequency) and, per concept, the concepts
+// people assign beside it (model.Model.Related).
 //
 // The conditional is split into four buckets so that a token costs about the
 // same at K = 100 and K = 100,000 (after SparseLDA, Yao, Mimno & McCallum
