@@ -201,6 +201,7 @@ type annJob struct {
 	id, text string
 	subjects []string
 	lang     string // the record's own language ("" = --lang)
+	invalid  int    // invalid UTF-8 sequences the JSON decoder replaced
 	res      *annotate.Result
 	err      error
 	done     chan struct{}
@@ -226,6 +227,9 @@ func annRun(annotateFn func(id, text string, opt annotate.Options) (*annotate.Re
 					o.Language = j.lang
 				}
 				j.res, j.err = annotateFn(j.id, j.text, o)
+				if j.res != nil {
+					j.res.Invalid += j.invalid
+				}
 				close(j.done)
 			}
 		}()
@@ -256,8 +260,8 @@ func annRun(annotateFn func(id, text string, opt annotate.Options) (*annotate.Re
 	}()
 
 	seq := 0
-	submit := func(where, id, text, lang string, subjects []string) {
-		j := &annJob{seq: seq, where: where, id: id, text: text, lang: lang, subjects: subjects, done: make(chan struct{})}
+	submit := func(where, id, text, lang string, subjects []string, invalid int) {
+		j := &annJob{seq: seq, where: where, id: id, text: text, lang: lang, subjects: subjects, invalid: invalid, done: make(chan struct{})}
 		seq++
 		order <- j
 		jobs <- j
@@ -292,8 +296,12 @@ func annRun(annotateFn func(id, text string, opt annotate.Options) (*annotate.Re
 	return status
 }
 
+// annSubmit queues one text; invalid counts invalid UTF-8 sequences
+// already replaced before the text got here (JSON Lines records).
+type annSubmit func(where, id, text, lang string, subjects []string, invalid int)
+
 // annReadRecords reads JSON Lines records from path ("-": stdin).
-func annReadRecords(path string, stdin io.Reader, fields []string, skipBad bool, stderr io.Writer, submit func(where, id, text, lang string, subjects []string)) error {
+func annReadRecords(path string, stdin io.Reader, fields []string, skipBad bool, stderr io.Writer, submit annSubmit) error {
 	opt := records.Options{Fields: fields, SkipBad: skipBad, Bad: func(err error) {
 		fmt.Fprintf(stderr, "termgrove annotate: skipped: %v\n", err)
 	}}
@@ -302,7 +310,7 @@ func annReadRecords(path string, stdin io.Reader, fields []string, skipBad bool,
 		if id == "" {
 			id = fmt.Sprintf("%s:%d", filepath.Base(r.File), r.Line)
 		}
-		submit(fmt.Sprintf("%s:%d: %s", r.File, r.Line, id), id, r.Join(fields), r.Lang, r.Subjects)
+		submit(fmt.Sprintf("%s:%d: %s", r.File, r.Line, id), id, r.Join(fields), r.Lang, r.Subjects, r.Invalid)
 		return nil
 	}
 	if path == "-" {
@@ -313,13 +321,13 @@ func annReadRecords(path string, stdin io.Reader, fields []string, skipBad bool,
 }
 
 // annReadText reads a plain-text file, a folder of .txt files or stdin.
-func annReadText(path string, stdin io.Reader, stderr io.Writer, submit func(where, id, text, lang string, subjects []string)) error {
+func annReadText(path string, stdin io.Reader, stderr io.Writer, submit annSubmit) error {
 	if path == "-" {
 		b, err := io.ReadAll(stdin)
 		if err != nil {
 			return fmt.Errorf("standard input: %w", err)
 		}
-		submit("-", "-", string(b), "", nil)
+		submit("-", "-", string(b), "", nil, 0)
 		return nil
 	}
 	fi, err := os.Stat(path)
@@ -330,7 +338,7 @@ func annReadText(path string, stdin io.Reader, stderr io.Writer, submit func(whe
 		n := 0
 		err := records.Read(path, records.Options{Fields: []string{"text"}}, func(r records.Record) error {
 			n++
-			submit(r.File, r.ID, r.Text, "", nil)
+			submit(r.File, r.ID, r.Text, "", nil, 0)
 			return nil
 		})
 		if err == nil && n == 0 {
@@ -345,7 +353,7 @@ func annReadText(path string, stdin io.Reader, stderr io.Writer, submit func(whe
 	if err != nil {
 		return err
 	}
-	submit(path, strings.TrimSuffix(filepath.Base(path), ".txt"), string(b), "", nil)
+	submit(path, strings.TrimSuffix(filepath.Base(path), ".txt"), string(b), "", nil, 0)
 	return nil
 }
 

@@ -199,6 +199,9 @@ func runFit(f *fitFlags) int {
 	}
 	logf("records %s: %d with text, %d empty, %d skipped as bad, %d unknown subjects; %d tokens, %d word types",
 		f.recs, b.Records, b.Empty, rstats.Skipped, b.UnknownSubjects, corpus.Tokens(), corpus.W)
+	if rstats.Invalid > 0 {
+		warnf("%s: %d invalid UTF-8 sequences replaced by U+FFFD", f.recs, rstats.Invalid)
+	}
 
 	ckPath := f.out + ".checkpoint"
 	lambda := f.lambda

@@ -343,3 +343,31 @@ func TestAnnotateInputHints(t *testing.T) {
 		t.Errorf(".jsonl without --records: exit %d, stderr %q", code, errs)
 	}
 }
+
+// TestAnnotateRecordsCountInvalidUTF8: invalid UTF-8 inside a JSON Lines
+// record is counted in the result as it is for plain text (issue 5).
+func TestAnnotateRecordsCountInvalidUTF8(t *testing.T) {
+	mp := annTestModel(t)
+	out, errs, code := annCall(t, "{\"id\":\"a\",\"text\":\"w1 \xff\xfe w2\"}\n", "--model", mp, "--records", "--format", "json", "-")
+	if code != 0 || !strings.Contains(out, `"invalid_utf8":2`) {
+		t.Errorf("exit %d, stderr %q\nstdout %.300q", code, errs, out)
+	}
+}
+
+// TestFitCountsInvalidUTF8: fit says how many invalid UTF-8 sequences of
+// the records were replaced.
+func TestFitCountsInvalidUTF8(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the CLI")
+	}
+	bin := buildTermgrove(t)
+	dir := t.TempDir()
+	vocab := filepath.Join(dir, "v.ttl")
+	os.WriteFile(vocab, []byte(fitTestVocab), 0o644)
+	recs := filepath.Join(dir, "r.jsonl")
+	os.WriteFile(recs, []byte("{\"id\":\"a\",\"text\":\"mill \xff weir \xfe river boat\"}\n"), 0o644)
+	_, stderr, code := runTG(t, bin, "fit", "--vocab", vocab, "--records", recs, "--out", filepath.Join(dir, "m.grove"), "--sweeps", "2", "--free-topics", "1", "--checkpoint", "0")
+	if code != 0 || !strings.Contains(stderr, "2 invalid UTF-8") {
+		t.Errorf("exit %d\n%s", code, stderr)
+	}
+}

@@ -24,3 +24,20 @@ func TestReadJSONLByteOrderMark(t *testing.T) {
 		t.Errorf("BOM on line 2: err %v, want mid.jsonl:2", err)
 	}
 }
+
+// TestReadJSONLCountsInvalidUTF8: encoding/json replaces invalid UTF-8 in
+// strings with U+FFFD silently; the records say how many sequences were
+// replaced so that annotate and fit can report it (issue 5: "binary or
+// invalid UTF-8 (replaced, counted)"). Source: encoding/json docs
+// ("invalid UTF-8 ... replaced by U+FFFD").
+func TestReadJSONLCountsInvalidUTF8(t *testing.T) {
+	in := "{\"id\":\"a\",\"text\":\"mill \xff\xfe river\"}\n{\"id\":\"b\",\"text\":\"clean\"}\n"
+	var got []int
+	st, err := ReadJSONL(strings.NewReader(in), "u.jsonl", Options{}, func(r Record) error {
+		got = append(got, r.Invalid)
+		return nil
+	})
+	if err != nil || len(got) != 2 || got[0] != 2 || got[1] != 0 || st.Invalid != 2 {
+		t.Errorf("invalid counts %v, total %d, err %v; want [2 0], 2", got, st.Invalid, err)
+	}
+}

@@ -31,6 +31,7 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 )
 
 // Record is one catalogue record. Line is its 1-based line in the file.
@@ -49,6 +50,10 @@ type Record struct {
 	// Extra holds other top-level string fields named in Options.Fields
 	// (e.g. "abstract"); nil when none were asked for.
 	Extra map[string]string `json:"-"`
+	// Invalid counts the invalid UTF-8 sequences of a JSON Lines record's
+	// line, which the JSON decoder replaced with U+FFFD (0 for .txt files,
+	// whose text is kept as it is).
+	Invalid int `json:"-"`
 }
 
 // DefaultFields are the text fields read when Options.Fields is empty.
@@ -75,6 +80,7 @@ type Stats struct {
 	Read    int // records passed to fn
 	Skipped int // bad lines skipped (SkipBad)
 	Empty   int // records passed to fn whose chosen fields hold no text
+	Invalid int // invalid UTF-8 sequences replaced in the records passed to fn
 }
 
 // ErrSyntax marks a line that is not a JSON object of the record shape.
@@ -222,6 +228,8 @@ func ReadJSONL(r io.Reader, name string, opt Options, fn func(Record) error) (St
 			} else {
 				rec.Line = line
 				rec.File = name
+				rec.Invalid = invalidUTF8(t)
+				st.Invalid += rec.Invalid
 				if strings.TrimSpace(rec.Join(opt.Fields)) == "" {
 					st.Empty++
 				}
@@ -248,6 +256,23 @@ func extraFields(fields []string) []string {
 		}
 	}
 	return out
+}
+
+// invalidUTF8 counts the invalid sequences of b the way the JSON decoder
+// replaces them: one U+FFFD per byte that starts no valid rune.
+func invalidUTF8(b []byte) int {
+	if utf8.Valid(b) {
+		return 0
+	}
+	n := 0
+	for len(b) > 0 {
+		r, size := utf8.DecodeRune(b)
+		if r == utf8.RuneError && size == 1 {
+			n++
+		}
+		b = b[size:]
+	}
+	return n
 }
 
 // decode parses one line; msg says what was expected when it is bad.
