@@ -181,7 +181,11 @@ func runFit(f *fitFlags) int {
 		return nil
 	})
 	if err != nil {
-		return fail(2, "%v (use --skip-bad to skip bad lines)", err)
+		var bad *records.Error
+		if errors.As(err, &bad) {
+			return fail(2, "%v (use --skip-bad to skip bad lines)", err)
+		}
+		return fail(2, "%v", err)
 	}
 	if unknownShown > 10 {
 		warnf("%d more unknown subjects", unknownShown-10)

@@ -371,3 +371,20 @@ func TestFitCountsInvalidUTF8(t *testing.T) {
 		t.Errorf("exit %d\n%s", code, stderr)
 	}
 }
+
+// TestFitSkipBadHintOnlyForBadLines: the "--skip-bad" hint follows a bad
+// line only; a records file that cannot be opened gets no such advice
+// (it would not help).
+func TestFitSkipBadHintOnlyForBadLines(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the CLI")
+	}
+	bin := buildTermgrove(t)
+	dir := t.TempDir()
+	vocab := filepath.Join(dir, "v.ttl")
+	os.WriteFile(vocab, []byte(fitTestVocab), 0o644)
+	_, stderr, code := runTG(t, bin, "fit", "--vocab", vocab, "--records", filepath.Join(dir, "none.jsonl"), "--out", filepath.Join(dir, "m.grove"))
+	if code != 2 || strings.Contains(stderr, "--skip-bad") {
+		t.Errorf("missing records file: exit %d\n%s", code, stderr)
+	}
+}
