@@ -117,6 +117,10 @@ func cmdFit(args []string) int {
 		fmt.Fprintf(os.Stderr, "termgrove fit: --out: %v\n", err)
 		return 2
 	}
+	if in := overwritesInput(f.out, f.vocab, f.recs); in != "" {
+		fmt.Fprintf(os.Stderr, "termgrove fit: --out %s would overwrite the input %s with the model\n", f.out, in)
+		return 2
+	}
 	return runFit(&f)
 }
 

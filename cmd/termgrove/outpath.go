@@ -66,3 +66,18 @@ func cycleString(s *concepts.Scheme, cyc []int) string {
 	}
 	return strings.Join(iris, " → ")
 }
+
+// overwritesInput returns the first of inputs that out names (the same
+// file, however spelled), or "".
+func overwritesInput(out string, inputs ...string) string {
+	fo, err := os.Stat(out)
+	if err != nil {
+		return ""
+	}
+	for _, in := range inputs {
+		if fi, err := os.Stat(in); err == nil && os.SameFile(fo, fi) {
+			return in
+		}
+	}
+	return ""
+}

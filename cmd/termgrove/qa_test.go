@@ -388,3 +388,49 @@ func TestFitSkipBadHintOnlyForBadLines(t *testing.T) {
 		t.Errorf("missing records file: exit %d\n%s", code, stderr)
 	}
 }
+
+// TestFitOutOverwritesInput: --out naming the vocabulary or the records
+// file would replace the user's data with a model; it is refused.
+func TestFitOutOverwritesInput(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the CLI")
+	}
+	bin := buildTermgrove(t)
+	dir := t.TempDir()
+	vocab := filepath.Join(dir, "v.ttl")
+	os.WriteFile(vocab, []byte(fitTestVocab), 0o644)
+	recs := filepath.Join(dir, "r.jsonl")
+	writeFitCorpus(t, recs, 20, 10)
+	before, _ := os.ReadFile(recs)
+	for _, out := range []string{recs, vocab, filepath.Join(dir, ".", "r.jsonl")} {
+		_, stderr, code := runTG(t, bin, "fit", "--vocab", vocab, "--records", recs, "--out", out, "--sweeps", "2", "--checkpoint", "0")
+		if code != 2 || !strings.Contains(stderr, "overwrite") {
+			t.Errorf("--out %s: exit %d\n%s", out, code, stderr)
+		}
+	}
+	if after, _ := os.ReadFile(recs); string(after) != string(before) {
+		t.Errorf("the records file was replaced")
+	}
+	if after, _ := os.ReadFile(vocab); string(after) != fitTestVocab {
+		t.Errorf("the vocabulary file was replaced")
+	}
+}
+
+// TestReportScoreOutOverwritesInput: report --out and score --per-concept
+// naming an input file are refused and leave it alone.
+func TestReportScoreOutOverwritesInput(t *testing.T) {
+	mp := annTestModel(t)
+	dir := t.TempDir()
+	recs := filepath.Join(dir, "gold.jsonl")
+	data := `{"id":"a","text":"w1 w2 w3","subjects":["http://example.org/c/1"]}` + "\n"
+	os.WriteFile(recs, []byte(data), 0o644)
+	if code := cmdReport([]string{"--model", mp, "--records", recs, "--out", recs}); code != 2 {
+		t.Errorf("report --out = --records: exit %d, want 2", code)
+	}
+	if code := cmdScore([]string{"--model", mp, "--records", recs, "--per-concept", mp}); code != 2 {
+		t.Errorf("score --per-concept = --model: exit %d, want 2", code)
+	}
+	if b, _ := os.ReadFile(recs); string(b) != data {
+		t.Errorf("records replaced")
+	}
+}

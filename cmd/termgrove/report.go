@@ -74,6 +74,10 @@ Options:
 		fmt.Fprintf(os.Stderr, "termgrove report: --out: %v\n", err)
 		return 2
 	}
+	if in := overwritesInput(*out, *modelPath, *recPath); in != "" {
+		fmt.Fprintf(os.Stderr, "termgrove report: --out %s would overwrite the input %s\n", *out, in)
+		return 2
+	}
 	m, err := model.Load(*modelPath)
 	if err != nil {
 		fmt.Fprintf(os.Stderr, "termgrove report: %v\n", err)

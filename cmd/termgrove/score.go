@@ -74,6 +74,10 @@ Options:
 		fmt.Fprintf(os.Stderr, "termgrove score: --per-concept: %v\n", err)
 		return 2
 	}
+	if in := overwritesInput(*perConcept, *modelPath, *recPath, *vocab); in != "" {
+		fmt.Fprintf(os.Stderr, "termgrove score: --per-concept %s would overwrite the input %s\n", *perConcept, in)
+		return 2
+	}
 	if *split != 0 {
 		if *split <= 0 || *split >= 1 || *vocab == "" || *recPath == "" || *modelPath != "" {
 			fmt.Fprintln(os.Stderr, "termgrove score: --split needs 0 < SHARE < 1, --vocab and --records, and no --model")
