@@ -77,6 +77,10 @@ examples:
 		fmt.Fprintf(stderr, "termgrove check: --format %q: want text or json\n", f.format)
 		return 2
 	}
+	if err := checkLangs(f.lang); err != nil {
+		fmt.Fprintf(stderr, "termgrove check: %v\n", err)
+		return 2
+	}
 	opt := concepts.LoadOptions{Scheme: f.scheme, Base: f.base, Format: f.from}
 	if f.emit != "" {
 		return emitTriples(file, f.emit, opt, stdout, stderr)

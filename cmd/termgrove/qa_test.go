@@ -434,3 +434,13 @@ func TestReportScoreOutOverwritesInput(t *testing.T) {
 		t.Errorf("records replaced")
 	}
 }
+
+// TestCheckBadLanguage: check --lang with a malformed tag is a usage error,
+// not "every concept lacks a prefLabel in !!".
+func TestCheckBadLanguage(t *testing.T) {
+	var out, errb strings.Builder
+	code := runCheck([]string{"--lang", "en,!!", "../../testdata/small.ttl"}, &out, &errb)
+	if code != 2 || !strings.Contains(errb.String(), `"!!"`) {
+		t.Errorf("exit %d, stderr %q", code, errb.String())
+	}
+}
