@@ -169,6 +169,15 @@ func runFit(f *fitFlags) int {
 		return fail(2, "%s: building the prior: %v", f.vocab, err)
 	}
 	logf("vocabulary %s: %d concepts, %d without terms", f.vocab, len(scheme.Concepts), len(pr.Report.NoTerms))
+	if len(scheme.Concepts) > 0 && len(pr.Report.NoTerms) == len(scheme.Concepts) {
+		// Labels in other languages only: a wrong --lang. No labels at all:
+		// the concepts can still learn from records' subjects.
+		if ll := labelLangs(scheme); len(ll) > 0 {
+			return fail(2, "%s: no concept has a label in --lang %s, so the concepts would learn nothing from their labels; the vocabulary's label languages: %s",
+				f.vocab, f.langs, strings.Join(ll, ", "))
+		}
+		warnf("%s: no concept has a label; concepts learn only from the records' subjects", f.vocab)
+	}
 
 	b := &fit.CorpusBuilder{Analyzer: an, Scheme: scheme}
 	fields := fitSplit(f.fields)

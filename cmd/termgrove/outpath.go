@@ -6,6 +6,7 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+	"sort"
 	"strings"
 
 	"golang.org/x/text/language"
@@ -80,4 +81,26 @@ func overwritesInput(out string, inputs ...string) string {
 		}
 	}
 	return ""
+}
+
+// labelLangs lists the languages of the scheme's preferred and alternative
+// labels, sorted ("" shows as "no language tag").
+func labelLangs(s *concepts.Scheme) []string {
+	seen := map[string]bool{}
+	for i := range s.Concepts {
+		for _, ls := range [][]concepts.Label{s.Concepts[i].Pref, s.Concepts[i].Alt} {
+			for _, l := range ls {
+				seen[l.Lang] = true
+			}
+		}
+	}
+	out := make([]string, 0, len(seen))
+	for l := range seen {
+		if l == "" {
+			l = "no language tag"
+		}
+		out = append(out, l)
+	}
+	sort.Strings(out)
+	return out
 }

@@ -444,3 +444,26 @@ func TestCheckBadLanguage(t *testing.T) {
 		t.Errorf("exit %d, stderr %q", code, errb.String())
 	}
 }
+
+// TestFitNoLabelInLanguage: when no concept has a label in the --lang
+// languages, every concept topic would have an empty prior and the model
+// would be noise; fit refuses and names the vocabulary's label languages.
+func TestFitNoLabelInLanguage(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the CLI")
+	}
+	bin := buildTermgrove(t)
+	dir := t.TempDir()
+	vocab := filepath.Join(dir, "v.ttl")
+	os.WriteFile(vocab, []byte(fitTestVocab), 0o644)
+	recs := filepath.Join(dir, "r.jsonl")
+	writeFitCorpus(t, recs, 20, 10)
+	out := filepath.Join(dir, "m.grove")
+	_, stderr, code := runTG(t, bin, "fit", "--vocab", vocab, "--records", recs, "--out", out, "--lang", "de", "--sweeps", "2", "--checkpoint", "0")
+	if code != 2 || !strings.Contains(stderr, "--lang") || !strings.Contains(stderr, "en") {
+		t.Errorf("--lang de on an English vocabulary: exit %d\n%s", code, stderr)
+	}
+	if _, err := os.Stat(out); err == nil {
+		t.Errorf("a model was written")
+	}
+}
