@@ -246,7 +246,12 @@ func annRun(annotateFn func(id, text string, opt annotate.Options) (*annotate.Re
 		for j := range order {
 			<-j.done
 			if j.err != nil {
-				fmt.Fprintf(stderr, "termgrove annotate: %s: %v\n", j.where, j.err)
+				// Name the record once: "f:1: id: text too large", not "id: id: ...".
+				msg := j.err.Error()
+				if j.id != "" && strings.HasSuffix(j.where, ": "+j.id) && strings.HasPrefix(msg, j.id+": ") {
+					msg = strings.TrimPrefix(msg, j.id+": ")
+				}
+				fmt.Fprintf(stderr, "termgrove annotate: %s: %s\n", j.where, msg)
 				failed++
 				continue
 			}

@@ -467,3 +467,15 @@ func TestFitNoLabelInLanguage(t *testing.T) {
 		t.Errorf("a model was written")
 	}
 }
+
+// TestAnnotateTooLargeRecordMessage: a refused record is named once:
+// "file:line: id: text too large", not "id: id: ...".
+func TestAnnotateTooLargeRecordMessage(t *testing.T) {
+	mp := annTestModel(t)
+	big := strings.Repeat("w1 ", 400_000)
+	in := `{"id":"big","text":"` + big + `"}` + "\n" + `{"id":"small","text":"w1 w2"}` + "\n"
+	out, errs, code := annCall(t, in, "--model", mp, "--records", "--format", "json", "-")
+	if code != 1 || !strings.Contains(errs, "-:1: big: text too large") || strings.Contains(errs, "big: big") || !strings.Contains(out, `"id":"small"`) {
+		t.Errorf("exit %d, stderr %q", code, errs)
+	}
+}
