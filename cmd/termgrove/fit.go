@@ -108,6 +108,10 @@ func cmdFit(args []string) int {
 		fmt.Fprintln(os.Stderr, "termgrove fit: --free-topics ≥ 0, --sweeps ≥ 1, --burn-in ≥ 0, --workers ≥ 1, --lambda ≥ 0 and 0 ≤ --holdout < 1")
 		return 2
 	}
+	if f.vocab == "-" && f.recs == "-" {
+		fmt.Fprintln(os.Stderr, "termgrove fit: --vocab and --records cannot both read standard input")
+		return 2
+	}
 	if err := checkLangs(f.langs); err != nil {
 		fmt.Fprintf(os.Stderr, "termgrove fit: %v\n", err)
 		return 2
@@ -151,7 +155,7 @@ func runFit(f *fitFlags) int {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
 
-	scheme, err := concepts.Load(f.vocab, concepts.LoadOptions{Scheme: f.scheme})
+	scheme, err := loadVocab(f.vocab, concepts.LoadOptions{Scheme: f.scheme})
 	if err != nil {
 		return fail(2, "%v", fitFileErr(f.vocab, err))
 	}

@@ -2,6 +2,7 @@ package main
 
 import (
 	"os"
+	"os/exec"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -477,5 +478,27 @@ func TestAnnotateTooLargeRecordMessage(t *testing.T) {
 	out, errs, code := annCall(t, in, "--model", mp, "--records", "--format", "json", "-")
 	if code != 1 || !strings.Contains(errs, "-:1: big: text too large") || strings.Contains(errs, "big: big") || !strings.Contains(out, `"id":"small"`) {
 		t.Errorf("exit %d, stderr %q", code, errs)
+	}
+}
+
+// TestFitVocabFromStdin: "-" reads the vocabulary from standard input, as
+// in check; both inputs from standard input is a usage error.
+func TestFitVocabFromStdin(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the CLI")
+	}
+	bin := buildTermgrove(t)
+	dir := t.TempDir()
+	recs := filepath.Join(dir, "r.jsonl")
+	writeFitCorpus(t, recs, 20, 10)
+	out := filepath.Join(dir, "m.grove")
+	cmd := exec.Command(bin, "fit", "--vocab", "-", "--records", recs, "--out", out, "--sweeps", "2", "--free-topics", "1", "--checkpoint", "0")
+	cmd.Stdin = strings.NewReader(fitTestVocab)
+	if b, err := cmd.CombinedOutput(); err != nil {
+		t.Errorf("--vocab -: %v\n%s", err, b)
+	}
+	_, stderr, code := runTG(t, bin, "fit", "--vocab", "-", "--records", "-", "--out", out)
+	if code != 2 || !strings.Contains(stderr, "standard input") {
+		t.Errorf("both from stdin: exit %d\n%s", code, stderr)
 	}
 }
