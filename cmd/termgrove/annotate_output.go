@@ -337,8 +337,13 @@ func (h *annHTML) Record(res *annotate.Result, text string) error {
 	b.WriteString("</p>\n<ol class=\"legend\">\n")
 	for i, c := range res.Concepts {
 		cl := h.class(i + 1)
-		fmt.Fprintf(&b, "<li><span class=\"swatch %s\"></span><a href=\"%s\" title=\"%s\">%s</a> <span class=\"score\">%.1f%%</span>",
-			cl, esc(c.IRI), esc(c.IRI), esc(c.Label), 100*c.Score)
+		// Link only http(s) IRIs: a vocabulary may hold javascript: ones.
+		tag := "span"
+		if l := strings.ToLower(c.IRI); strings.HasPrefix(l, "http://") || strings.HasPrefix(l, "https://") {
+			tag = "a href=\"" + esc(c.IRI) + "\""
+		}
+		fmt.Fprintf(&b, "<li><span class=\"swatch %s\"></span><%s title=\"%s\">%s</%s> <span class=\"score\">%.1f%%</span>",
+			cl, tag, esc(c.IRI), esc(c.Label), strings.Fields(tag)[0], 100*c.Score)
 		if len(c.Path) > 0 {
 			b.WriteString("<div class=\"path\">")
 			for j, p := range c.Path {

@@ -502,3 +502,38 @@ func TestFitVocabFromStdin(t *testing.T) {
 		t.Errorf("both from stdin: exit %d\n%s", code, stderr)
 	}
 }
+
+// TestAnnotateHTMLNoScriptLinks: a concept IRI such as
+// javascript:alert(1) is a valid absolute IRI, and vocabularies come from
+// outside; the HTML page links only http and https IRIs.
+// Source: OWASP XSS Prevention Cheat Sheet (URL contexts: allow-list
+// http/https).
+func TestAnnotateHTMLNoScriptLinks(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the CLI")
+	}
+	bin := buildTermgrove(t)
+	dir := t.TempDir()
+	vocab := filepath.Join(dir, "v.ttl")
+	os.WriteFile(vocab, []byte(`@prefix skos: <http://www.w3.org/2004/02/skos/core#> .
+<http://e/s> a skos:ConceptScheme .
+<javascript:alert(document.domain)> a skos:Concept ; skos:prefLabel "mills"@en ; skos:topConceptOf <http://e/s> .
+<http://e/weir> a skos:Concept ; skos:prefLabel "weir"@en ; skos:topConceptOf <http://e/s> .
+`), 0o644)
+	recs := filepath.Join(dir, "r.jsonl")
+	os.WriteFile(recs, []byte(`{"id":"a","text":"the mills grind by the weir"}`+"\n"), 0o644)
+	mp := filepath.Join(dir, "m.grove")
+	if _, stderr, code := runTG(t, bin, "fit", "--vocab", vocab, "--records", recs, "--out", mp, "--free-topics", "0", "--sweeps", "2", "--checkpoint", "0"); code != 0 {
+		t.Fatalf("fit: %s", stderr)
+	}
+	out, errs, code := annCall(t, "mills mills weir", "--model", mp, "--format", "html", "-")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	if strings.Contains(out, `href="javascript:`) {
+		t.Errorf("javascript: IRI linked")
+	}
+	if !strings.Contains(out, `href="http://e/weir"`) {
+		t.Errorf("http IRI not linked")
+	}
+}
