@@ -107,6 +107,10 @@ func runAnnotate(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "termgrove annotate: --color %q: want auto, always or never\n", f.color)
 		return 2
 	}
+	if f.workers > maxAnnWorkers {
+		fmt.Fprintf(stderr, "termgrove annotate: --workers %d: want at most %d\n", f.workers, maxAnnWorkers)
+		return 2
+	}
 	if f.top < 0 {
 		fmt.Fprintf(stderr, "termgrove annotate: --top %d: want 0 or more\n", f.top)
 		return 2
@@ -300,6 +304,10 @@ func annRun(annotateFn func(id, text string, opt annotate.Options) (*annotate.Re
 	}
 	return status
 }
+
+// maxAnnWorkers bounds --workers: each worker is a goroutine with its own
+// fold-in state, and beyond the cores only --server calls gain from more.
+const maxAnnWorkers = 1024
 
 // annSubmit queues one text; invalid counts invalid UTF-8 sequences
 // already replaced before the text got here (JSON Lines records).

@@ -113,6 +113,8 @@ func TestAnnotateBadOptions(t *testing.T) {
 		{"min-score above 1", []string{"--model", mp, "--min-score", "2", "-"}, "--min-score"},
 		{"negative min-score", []string{"--model", mp, "--min-score", "-0.5", "-"}, "--min-score"},
 		{"bad lang", []string{"--model", mp, "--lang", "zz!", "-"}, `"zz!"`},
+		// A million workers took 2.8 GB and 5 s for one record.
+		{"huge workers", []string{"--model", mp, "--workers", "1000000", "-"}, "--workers"},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			out, errs, code := annCall(t, "w1 w2", c.args...)
