@@ -539,3 +539,29 @@ func TestAnnotateHTMLNoScriptLinks(t *testing.T) {
 		t.Errorf("http IRI not linked")
 	}
 }
+
+// TestScoreTextNoControlCharacters: score's per-concept lines show labels
+// with control characters as pictures, as annotate and report do.
+func TestScoreTextNoControlCharacters(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the CLI")
+	}
+	bin := buildTermgrove(t)
+	dir := t.TempDir()
+	vocab := filepath.Join(dir, "v.ttl")
+	os.WriteFile(vocab, []byte(`@prefix skos: <http://www.w3.org/2004/02/skos/core#> .
+<http://e/s> a skos:ConceptScheme .
+<http://e/mill> a skos:Concept ; skos:prefLabel "mills\u001b[2J"@en ; skos:topConceptOf <http://e/s> .
+<http://e/weir> a skos:Concept ; skos:prefLabel "weir"@en ; skos:topConceptOf <http://e/s> .
+`), 0o644)
+	recs := filepath.Join(dir, "r.jsonl")
+	os.WriteFile(recs, []byte(`{"id":"a","text":"the mills grind","subjects":["http://e/mill"]}`+"\n"+`{"id":"b","text":"the weir","subjects":["http://e/weir"]}`+"\n"), 0o644)
+	mp := filepath.Join(dir, "m.grove")
+	if _, stderr, code := runTG(t, bin, "fit", "--vocab", vocab, "--records", recs, "--out", mp, "--free-topics", "0", "--sweeps", "2", "--checkpoint", "0"); code != 0 {
+		t.Fatalf("fit: %s", stderr)
+	}
+	out, stderr, code := runTG(t, bin, "score", "--model", mp, "--records", recs)
+	if code != 0 || strings.Contains(out, "\x1b") || !strings.Contains(out, "mills␛[2J") {
+		t.Errorf("exit %d\n%q\n%s", code, out, stderr)
+	}
+}

@@ -239,7 +239,7 @@ func writeScoreText(w io.Writer, r *report.ScoreResult) error {
 		if i == 10 {
 			break
 		}
-		fmt.Fprintf(w, "  %-40s gold %4d  P %.2f  R %.2f  F1 %.2f\n", c.Label, c.Gold, c.Precision, c.Recall, c.F1)
+		fmt.Fprintf(w, "  %-40s gold %4d  P %.2f  R %.2f  F1 %.2f\n", annOneLine(c.Label), c.Gold, c.Precision, c.Recall, c.F1)
 	}
 	return nil
 }
