@@ -90,6 +90,10 @@ const (
 	// carrying less than minSupport of a concept's mass are left out.
 	maxSupport = 10
 	minSupport = 0.01
+	// minSupportPost is the least posterior p(z = k) a term's occurrences
+	// must give concept k to be listed as its support: a word the sampler
+	// spreads thinly over many concepts supports none of them.
+	minSupportPost = 0.1
 )
 
 // relatedWeight is γ in s'_k = s_k + γ·Σ_j s_j·L_jk, where L_jk is the
@@ -1178,6 +1182,9 @@ func (a *Annotator) support(st *state, k int32, samples float64) []Support {
 	}
 	var out []Support
 	for u, w := range st.uw {
+		if st.buf[u] < minSupportPost*float64(st.ucnt[u]) {
+			continue
+		}
 		if wt := st.buf[u] / mass; wt >= minSupport {
 			out = append(out, Support{Term: a.m.Words[w], Weight: wt})
 		}
