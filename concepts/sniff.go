@@ -60,6 +60,9 @@ func sniff(head []byte, name string, eof bool) sniffResult {
 	if len(b) >= 2 && b[0] == 0x1f && b[1] == 0x8b {
 		return sniffResult{line: 1, col: 1, why: "gzip-compressed data; decompress it first"}
 	}
+	if len(b) >= 2 && (b[0] == 0xff && b[1] == 0xfe || b[0] == 0xfe && b[1] == 0xff) {
+		return sniffResult{line: 1, col: 1, why: "UTF-16 text; save or convert it as UTF-8 first (e.g. iconv -f UTF-16 -t UTF-8)"}
+	}
 	line, col := 1, 1
 	i := 0
 	// Skip white space and '#' comment lines; remember the position.

@@ -41,3 +41,12 @@ func TestReadJSONLCountsInvalidUTF8(t *testing.T) {
 		t.Errorf("invalid counts %v, total %d, err %v; want [2 0], 2", got, st.Invalid, err)
 	}
 }
+
+// TestReadJSONLUTF16SaysSo: a UTF-16 records file (a Windows "Unicode"
+// export) is named as such on line 1 rather than as a bad JSON character.
+func TestReadJSONLUTF16SaysSo(t *testing.T) {
+	_, err := ReadJSONL(strings.NewReader("\xff\xfe{\x00}\x00\n\x00"), "u.jsonl", Options{}, func(Record) error { return nil })
+	if err == nil || !strings.Contains(err.Error(), "u.jsonl:1") || !strings.Contains(err.Error(), "UTF-16") {
+		t.Errorf("UTF-16 records: %v", err)
+	}
+}

@@ -212,6 +212,10 @@ func ReadJSONL(r io.Reader, name string, opt Options, fn func(Record) error) (St
 			// Windows editors and spreadsheets start UTF-8 files with a
 			// byte order mark; RFC 8259 §8.1 lets a parser ignore it.
 			b = bytes.TrimPrefix(b, []byte("\ufeff"))
+			if bytes.HasPrefix(b, []byte{0xff, 0xfe}) || bytes.HasPrefix(b, []byte{0xfe, 0xff}) {
+				// RFC 8259 §8.1: JSON exchanged between systems is UTF-8.
+				return st, &Error{File: name, Line: line, Err: ErrSyntax, Msg: "UTF-16 text; save or convert it as UTF-8 first (e.g. iconv -f UTF-16 -t UTF-8)"}
+			}
 		}
 		t := bytes.TrimSpace(b)
 		if len(t) > 0 {
