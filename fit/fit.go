@@ -96,8 +96,12 @@ type Options struct {
 	// Alpha is the starting α_k for every topic (default min(0.1, 50/K)).
 	Alpha float64
 	// FixedAlpha keeps α at its starting value (no Minka updates).
-	FixedAlpha    bool
-	Seed          int64
+	FixedAlpha bool
+	Seed       int64
+	// Sampler is "sparse" (default: the exact bucket sampler), "mh"
+	// (alias-table Metropolis–Hastings for unrestricted records, mh.go) or
+	// "auto" (mh when K is large).
+	Sampler       string
 	Workers       int // default runtime.NumCPU()
 	OptimizeEvery int // sweeps between α updates after burn-in (default 10)
 	LogLikEvery   int // sweeps between training log-likelihoods (default 10)
@@ -248,6 +252,11 @@ func (o *Options) check() error {
 	}
 	if o.Anchor && o.FreeTopics == 0 {
 		return fmt.Errorf("fit: anchored records need free topics")
+	}
+	switch o.Sampler {
+	case "", SamplerSparse, SamplerMH, SamplerAuto:
+	default:
+		return fmt.Errorf("fit: unknown sampler %q (sparse, mh or auto)", o.Sampler)
 	}
 	if o.HoldoutFraction < 0 || o.HoldoutFraction >= 1 {
 		return fmt.Errorf("fit: holdout fraction %g not in [0,1)", o.HoldoutFraction)

@@ -139,6 +139,11 @@ const gewekeStats = 11
 // marginal-conditional and successive-conditional simulators. samplerAlpha,
 // when not nil, is the (wrong) α the sampler is given.
 func runGeweke(t *testing.T, m int, samplerAlpha []float64) []float64 {
+	return runGewekeSampler(t, m, samplerAlpha, "")
+}
+
+// runGewekeSampler is runGeweke with the sampler of Options.Sampler.
+func runGewekeSampler(t *testing.T, m int, samplerAlpha []float64, sampler string) []float64 {
 	g := newGewekeModel()
 	r := rand.New(rand.NewPCG(2024, 1))
 	n := 0
@@ -173,7 +178,7 @@ func runGeweke(t *testing.T, m int, samplerAlpha []float64) []float64 {
 		c.Docs = append(c.Docs, doc)
 		at += l
 	}
-	st, err := newState(g.p, c, Options{FreeTopics: 1, Workers: 1, Seed: 5, FixedAlpha: true})
+	st, err := newState(g.p, c, Options{FreeTopics: 1, Workers: 1, Seed: 5, FixedAlpha: true, Sampler: sampler})
 	if err != nil {
 		t.Fatal(err)
 	}

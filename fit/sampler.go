@@ -42,6 +42,8 @@ type worker struct {
 	pbuf []float64 // prior bucket terms, parallel to the prior list of w
 
 	changes [][]change // per merge partition (word mod workers)
+
+	mh *mhState // tables of the MH sampler (mh.go); nil until used
 }
 
 func newWorker(st *state, r *rng, local bool) *worker {
@@ -366,10 +368,11 @@ func (st *state) sweepOnce() {
 	if len(st.workers) == 1 {
 		wk := st.workers[0]
 		wk.refresh()
-		for i := range st.docs {
-			wk.doc(&st.docs[i], false)
-		}
+		wk.shard(0, len(st.docs))
 		return
+	}
+	if st.opt.useMH(st.K) {
+		st.zSnap = append(st.zSnap[:0], st.z...) // the topics of the workers' shared view
 	}
 	var wg sync.WaitGroup
 	for wi, wk := range st.workers {
@@ -380,13 +383,23 @@ func (st *state) sweepOnce() {
 				wk.changes[p] = wk.changes[p][:0]
 			}
 			wk.refresh()
-			for i := sh[0]; i < sh[1]; i++ {
-				wk.doc(&st.docs[i], false)
-			}
+			wk.shard(sh[0], sh[1])
 		}(wk, st.shards[wi])
 	}
 	wg.Wait()
 	st.merge()
+}
+
+// shard samples records [lo, hi) with the sampler Options.Sampler selects.
+func (wk *worker) shard(lo, hi int) {
+	st := wk.st
+	if st.opt.useMH(st.K) {
+		wk.mhShard(lo, hi)
+		return
+	}
+	for i := lo; i < hi; i++ {
+		wk.doc(&st.docs[i], false)
+	}
 }
 
 // merge applies every worker's changes to the shared counts, each worker

@@ -56,6 +56,11 @@ type state struct {
 	prior    *prior.Prior
 	checksum uint64
 	llHist   []LogLikPoint
+
+	// MH sampler (mh.go): word occurrence index, and z at the last merge.
+	occStart []int64
+	occ      []int64
+	zSnap    []int32
 	secs     float64 // sampling seconds of earlier runs (from a checkpoint)
 }
 
@@ -331,6 +336,10 @@ func (st *state) initAssign() {
 
 // rebuildCounts recomputes n_k and n_kw from z (after restoring a checkpoint).
 func (st *state) rebuildCounts() error {
+	st.occStart, st.occ = nil, nil // the MH sampler's word index follows words
+	for _, wk := range st.workers {
+		wk.mh = nil
+	}
 	clear(st.nk)
 	for w := range st.wt {
 		st.wt[w] = st.wt[w][:0]

@@ -49,6 +49,7 @@ func main() {
 	compare := flag.String("compare", "", "with PREFIX of -export and fitbench_gensim.py: score gensim's model and time termgrove to the same held-out figure")
 	compl := flag.String("completion", "", "with -records: document-completion perplexity of this MODEL.grove vs a unigram model")
 	compRecs := flag.String("records", "", "test records (JSON Lines) for -completion")
+	samplers := flag.String("sampler", "", "samplers to fit with, comma-separated (sparse, mh, auto); when set, each row also gives the sampler and the training log-likelihood per token after the warm-up and timed sweeps")
 	flag.Parse()
 	if *compl != "" {
 		if err := completion(*compl, *compRecs); err != nil {
@@ -85,19 +86,26 @@ func main() {
 		return
 	}
 	fmt.Printf("machine: %d cores, %s, %s\n", runtime.NumCPU(), runtime.GOARCH, runtime.Version())
-	fmt.Printf("%-8s %-8s %-8s %-14s %-14s %-12s %-10s\n", "K", "workers", "init s", "tokens/s wall", "tokens/cpu-s", "cpu-ns/token", "peak RSS")
+	if *samplers == "" {
+		fmt.Printf("%-8s %-8s %-8s %-14s %-14s %-12s %-10s\n", "K", "workers", "init s", "tokens/s wall", "tokens/cpu-s", "cpu-ns/token", "peak RSS")
+	} else {
+		fmt.Printf("%-8s %-8s %-8s %-8s %-14s %-14s %-12s %-10s %-12s\n", "K", "sampler", "workers", "init s", "tokens/s wall", "tokens/cpu-s", "cpu-ns/token", "peak RSS", "loglik/token")
+	}
 	for _, ks := range strings.Split(*ks, ",") {
 		K, _ := strconv.Atoi(ks)
-		for _, ws := range strings.Split(*workers, ",") {
-			nw, _ := strconv.Atoi(ws)
-			run(c, K, nw, *warm, *sweeps, *concepts)
+		for _, sm := range strings.Split(*samplers, ",") {
+			for _, ws := range strings.Split(*workers, ",") {
+				nw, _ := strconv.Atoi(ws)
+				run(c, K, nw, *warm, *sweeps, *concepts, sm)
+			}
 		}
 	}
 }
 
-func run(c *fit.Corpus, K, workers, warm, sweeps int, concepts bool) {
+// run fits one configuration; sampler "" keeps the original output columns.
+func run(c *fit.Corpus, K, workers, warm, sweeps int, concepts bool, sampler string) {
 	var p *prior.Prior
-	opt := fit.Options{FreeTopics: K, Workers: workers, Seed: 1, Sweeps: 1 << 30, FixedAlpha: true, LogLikEvery: 1 << 30}
+	opt := fit.Options{FreeTopics: K, Workers: workers, Seed: 1, Sweeps: 1 << 30, FixedAlpha: true, LogLikEvery: 1 << 30, Sampler: sampler}
 	if concepts {
 		r := rand.New(rand.NewPCG(3, 3))
 		p = &prior.Prior{Rows: make([][]prior.Entry, K), Lambda: 50, Beta0: 0.01}
@@ -130,7 +138,12 @@ func run(c *fit.Corpus, K, workers, warm, sweeps int, concepts bool) {
 	sec := time.Since(start).Seconds()
 	cpu := cpuSeconds() - cpu0
 	n := float64(c.Tokens()) * float64(sweeps)
-	fmt.Printf("%-8d %-8d %-8.1f %-14.0f %-14.0f %-12.1f %-10s\n", K, workers, initS, n/sec, n/cpu, 1e9*cpu/n, peakRSS())
+	if sampler == "" {
+		fmt.Printf("%-8d %-8d %-8.1f %-14.0f %-14.0f %-12.1f %-10s\n", K, workers, initS, n/sec, n/cpu, 1e9*cpu/n, peakRSS())
+	} else {
+		ll := b.LogLik() / float64(c.Tokens())
+		fmt.Printf("%-8d %-8s %-8d %-8.1f %-14.0f %-14.0f %-12.1f %-10s %-12.4f\n", K, sampler, workers, initS, n/sec, n/cpu, 1e9*cpu/n, peakRSS(), ll)
+	}
 	b = nil
 	runtime.GC()
 }
