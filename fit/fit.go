@@ -28,6 +28,10 @@
 // checks it, and TestGeweke checks the whole sampler against the model's
 // joint distribution (Geweke 2004, "Getting it right").
 //
+// Options.Sampler "mh" samples the unrestricted records by
+// Metropolis–Hastings with O(1) proposals instead (mh.go; TestMHGeweke);
+// on the benchmark corpus it is not faster (bench/fit-mh.md).
+//
 // The smoothing bucket is drawn through two Fenwick trees (concept and free
 // topics), so even its rare draws cost O(log K).
 //
@@ -100,7 +104,8 @@ type Options struct {
 	Seed       int64
 	// Sampler is "sparse" (default: the exact bucket sampler), "mh"
 	// (alias-table Metropolis–Hastings for unrestricted records, mh.go) or
-	// "auto" (mh when K is large).
+	// "auto" (mh at a K where it is measured to pay off; none so far, see
+	// bench/fit-mh.md).
 	Sampler       string
 	Workers       int // default runtime.NumCPU()
 	OptimizeEvery int // sweeps between α updates after burn-in (default 10)

@@ -49,9 +49,12 @@ const (
 	SamplerAuto   = "auto"
 )
 
-// mhAutoK is the smallest K at which "auto" uses the MH sampler (see
-// bench/fit-mh.md).
-const mhAutoK = 5000
+// mhAutoK is the smallest K at which "auto" uses the MH sampler. On the
+// fitbench corpus (bench/fit-mh.md) MH was slower per token than the sparse
+// sampler at K = 100 to 10,000, only ~1.2× faster at K = 100,000 under load
+// and never at low load, and it mixes less per sweep at every K: so "auto"
+// keeps the sparse sampler at every K measured.
+const mhAutoK = 1 << 30
 
 // mhSteps is the number of (word, doc) proposal pairs per token.
 const mhSteps = 2
@@ -243,6 +246,28 @@ func aliasDraw(r *rng, tab []aent) int32 {
 	return e.alt
 }
 
+// mhIndex builds the occurrence index once. With several workers
+// sweepOnce calls it before they start, so they only read it.
+func (st *state) mhIndex() {
+	if st.occStart != nil {
+		return
+	}
+	occStart := make([]int64, st.W+1)
+	for _, w := range st.words {
+		occStart[w+1]++
+	}
+	for w := 0; w < st.W; w++ {
+		occStart[w+1] += occStart[w]
+	}
+	st.occ = make([]int64, len(st.words))
+	fill := slices.Clone(occStart[:st.W])
+	for i, w := range st.words {
+		st.occ[fill[w]] = int64(i)
+		fill[w]++
+	}
+	st.occStart = occStart
+}
+
 // mhInit builds what never changes: the occurrence index (shared) and the
 // prior alias tables.
 func (wk *worker) mhInit() {
@@ -254,21 +279,7 @@ func (wk *worker) mhInit() {
 	}
 	m.scratch = make([]float64, st.K)
 	wk.mh = m
-	if st.occStart == nil {
-		st.occStart = make([]int64, st.W+1)
-		for _, w := range st.words {
-			st.occStart[w+1]++
-		}
-		for w := 0; w < st.W; w++ {
-			st.occStart[w+1] += st.occStart[w]
-		}
-		st.occ = make([]int64, len(st.words))
-		fill := slices.Clone(st.occStart[:st.W])
-		for i, w := range st.words {
-			st.occ[fill[w]] = int64(i)
-			fill[w]++
-		}
-	}
+	st.mhIndex()
 	m.occStart, m.occ = st.occStart, st.occ
 	n := st.pStart[st.W]
 	m.walias = make([]aent, n)

@@ -128,9 +128,13 @@ func TestMHGeweke(t *testing.T) {
 // TestMHCountsConsistent checks that after MH sweeps (one worker, and
 // AD-LDA with three) the counts equal those recomputed from z.
 func TestMHCountsConsistent(t *testing.T) {
-	for _, nw := range []int{1, 3} {
+	for _, cfg := range []struct {
+		nw     int
+		anchor bool
+	}{{1, false}, {3, false}, {3, true}} {
+		nw := cfg.nw
 		p, c := randomSetup(5, 6, 30, 60, 20)
-		st, err := newState(p, c, Options{FreeTopics: 4, Seed: 1, Workers: nw, Sampler: SamplerMH, Anchor: nw == 3})
+		st, err := newState(p, c, Options{FreeTopics: 4, Seed: 1, Workers: nw, Sampler: SamplerMH, Anchor: cfg.anchor})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -191,7 +195,7 @@ func TestMHReproducible(t *testing.T) {
 	}
 }
 
-// TestBarsMH is TestBars with the MH sampler.
+// TestBarsMH is TestBars with the MH sampler (the same 300 sweeps).
 // Source: Griffiths & Steyvers 2004, "Finding scientific topics" (the bars).
 func TestBarsMH(t *testing.T) {
 	if testing.Short() {
@@ -208,7 +212,7 @@ func TestBarsMH(t *testing.T) {
 		bars = append(bars, h, v)
 	}
 	c := generate(r, bars, 2000, 100, 1)
-	res, err := RunContext(t.Context(), nil, c, Options{FreeTopics: 10, Sweeps: 400, Alpha: 1, FixedAlpha: true, Beta0: 0.1, Seed: 1, Workers: 1, Sampler: SamplerMH})
+	res, err := RunContext(t.Context(), nil, c, Options{FreeTopics: 10, Sweeps: 300, Alpha: 1, FixedAlpha: true, Beta0: 0.1, Seed: 1, Workers: 1, Sampler: SamplerMH})
 	if err != nil {
 		t.Fatal(err)
 	}

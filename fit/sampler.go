@@ -373,6 +373,7 @@ func (st *state) sweepOnce() {
 	}
 	if st.opt.useMH(st.K) {
 		st.zSnap = append(st.zSnap[:0], st.z...) // the topics of the workers' shared view
+		st.mhIndex()
 	}
 	var wg sync.WaitGroup
 	for wi, wk := range st.workers {
