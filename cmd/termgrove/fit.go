@@ -288,6 +288,11 @@ func runFit(f *fitFlags) int {
 	var res *fit.Result
 	if _, statErr := os.Stat(ckPath); f.resume && statErr == nil {
 		logf("resuming from %s", ckPath)
+		if ckOpt, ckErr := fit.CheckpointOptions(ckPath); ckErr == nil {
+			if diff := resumeDiff(ckOpt, opt); diff != "" {
+				return fail(2, "%s was written by a fit with other options: %s; resume with the original options, or delete it (or leave out --resume) to start afresh", ckPath, diff)
+			}
+		}
 		res, err = fit.Resume(ctx, ckPath, pr, corpus, opt)
 	} else {
 		if f.resume {
@@ -407,4 +412,29 @@ func autoLambda(tokens int64, concepts int) float64 {
 		return prior.DefaultLambda
 	}
 	return max(prior.DefaultLambda, 0.5*float64(tokens)/float64(concepts))
+}
+
+// resumeDiff names the options that shape the model in which a resumed fit
+// differs from its checkpoint, as the flags a user would type.
+func resumeDiff(ck, now fit.Options) string {
+	var d []string
+	add := func(flag string, was, is any) {
+		d = append(d, fmt.Sprintf("%s %v (checkpoint %v)", flag, is, was))
+	}
+	if ck.FreeTopics != now.FreeTopics {
+		add("--free-topics", ck.FreeTopics, now.FreeTopics)
+	}
+	if ck.Lambda != now.Lambda {
+		add("--lambda", ck.Lambda, now.Lambda)
+	}
+	if ck.Seed != now.Seed {
+		add("--seed", ck.Seed, now.Seed)
+	}
+	if ck.HoldoutFraction != now.HoldoutFraction {
+		add("--holdout", ck.HoldoutFraction, now.HoldoutFraction)
+	}
+	if ck.Anchor != now.Anchor {
+		add("--anchor", ck.Anchor, now.Anchor)
+	}
+	return strings.Join(d, ", ")
 }

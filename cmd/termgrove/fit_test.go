@@ -132,6 +132,20 @@ func TestFitKillResume(t *testing.T) {
 	if _, err := os.Stat(out); err == nil {
 		t.Fatal("the killed fit already wrote its model; make the corpus bigger")
 	}
+	// Resuming with options that shape another model must be refused, with
+	// the differing option named and the checkpoint kept.
+	other := append([]string(nil), args...)
+	for i := range other {
+		if other[i] == "--free-topics" {
+			other[i+1] = "5"
+		}
+	}
+	if _, stderr, code := runTG(t, bin, append(other, "--resume")...); code != 2 || !strings.Contains(stderr, "--free-topics 5 (checkpoint 3)") {
+		t.Fatalf("resume with other --free-topics: exit %d, want 2 naming the option\n%s", code, stderr)
+	}
+	if _, err := os.Stat(ck); err != nil {
+		t.Fatalf("refused resume lost the checkpoint: %v", err)
+	}
 	_, stderr, code := runTG(t, bin, append(args, "--resume")...)
 	if code != 0 {
 		t.Fatalf("resume: exit %d\n%s", code, stderr)
