@@ -155,7 +155,7 @@ func readCheckpoint(path string) (*checkpoint, error) {
 func (st *state) restore(ck *checkpoint, path string) error {
 	bad := func(why string) error { return fmt.Errorf("%w: %s: %s", ErrCheckpoint, path, why) }
 	if ck.Corpus != st.checksum {
-		return bad("the records differ from those of the checkpointed fit")
+		return bad("the records or the vocabulary (their analysed words) differ from those of the checkpointed fit")
 	}
 	if ck.K != st.K || ck.C != st.C || ck.F != st.F || ck.W != st.W {
 		return bad(fmt.Sprintf("topics/words differ: checkpoint K=%d C=%d W=%d, now K=%d C=%d W=%d", ck.K, ck.C, ck.W, st.K, st.C, st.W))
