@@ -127,6 +127,10 @@ func cmdFit(args []string) int {
 		fmt.Fprintf(os.Stderr, "termgrove fit: --out %s would overwrite the input %s with the model\n", f.out, in)
 		return 2
 	}
+	if n := runtime.NumCPU(); f.workers > n {
+		// AD-LDA workers beyond the cores only add merge work.
+		fmt.Fprintf(os.Stderr, "termgrove fit: warning: --workers %d on %d cores is slower than --workers %d\n", f.workers, n, n)
+	}
 	return runFit(&f)
 }
 
