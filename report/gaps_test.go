@@ -364,3 +364,16 @@ func TestNearestSkipsUnusedConcepts(t *testing.T) {
 		t.Errorf("nearest concept of the honey theme = %q, want a used concept", n)
 	}
 }
+
+// Source: OWASP, "CSV Injection": cells starting with = + - @ are run as
+// formulas by spreadsheets; numbers such as -0.5 stay numbers.
+func TestCSVSafe(t *testing.T) {
+	for in, want := range map[string]string{
+		"=HYPERLINK(\"x\")": "'=HYPERLINK(\"x\")", "+1": "'+1", "@SUM(A1)": "'@SUM(A1)",
+		"-cmd": "'-cmd", "-0.5": "-0.5", "honey": "honey", "": "",
+	} {
+		if got := csvSafe(in); got != want {
+			t.Errorf("csvSafe(%q) = %q, want %q", in, got, want)
+		}
+	}
+}

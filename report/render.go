@@ -170,6 +170,11 @@ func WriteCSV(w io.Writer, g *GapReport) error {
 	} else {
 		rows = append(rows, []string{"trend", "", "", "", "", "", "absent: " + g.TrendsAbsent})
 	}
+	for _, r := range rows[1:] {
+		for i := range r {
+			r[i] = csvSafe(r[i])
+		}
+	}
 	if err := cw.WriteAll(rows); err != nil {
 		return err
 	}
@@ -283,3 +288,22 @@ Colour shows each concept's share of the collection's words (with everything bel
 <p class="muted">Suggestions are for review by people who know the collection; shares are the model's estimates, not counts of indexing.</p>
 </body></html>
 `
+
+// csvSafe keeps a spreadsheet from running a cell as a formula: text that
+// starts with =, +, @, a tab or a carriage return, or with - not followed by
+// a digit, gets a leading apostrophe (OWASP's advice on CSV injection).
+func csvSafe(v string) string {
+	if v == "" {
+		return v
+	}
+	switch v[0] {
+	case '=', '+', '@', '\t', '\r':
+		return "'" + v
+	case '-':
+		if len(v) > 1 && (v[1] >= '0' && v[1] <= '9' || v[1] == '.') {
+			return v
+		}
+		return "'" + v
+	}
+	return v
+}
