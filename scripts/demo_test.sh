@@ -8,10 +8,12 @@
 #  3. A failure while the server runs still stops the server (the EXIT trap).
 set -uo pipefail
 cd "$(dirname "$0")/.."
-go build -o bin/termgrove ./cmd/termgrove || exit 1
-real=$PWD/bin/termgrove
 tmp=$(mktemp -d)
 trap 'rm -rf "$tmp"' EXIT
+# Built into the temporary folder so that bin/termgrove (from make build,
+# with its version) is left alone.
+real=$tmp/termgrove
+go build -o "$real" ./cmd/termgrove || exit 1
 failures=0
 bad() { echo "FAIL: $*"; failures=$((failures + 1)); }
 ok() { echo "ok: $*"; }
@@ -28,7 +30,7 @@ server_alive() {
 # 1. the whole demo
 out1=$tmp/full
 start=$(date +%s)
-DEMO_OUT=$out1 bash scripts/demo.sh >"$tmp/full.log" 2>&1
+TERMGROVE=$real DEMO_OUT=$out1 bash scripts/demo.sh >"$tmp/full.log" 2>&1
 rc=$?
 secs=$(($(date +%s) - start))
 if [ $rc -ne 0 ]; then
