@@ -209,7 +209,13 @@ func fitSplitModel(vocab, recPath string, share float64, skipBad bool, fitArgs [
 	fmt.Fprintf(os.Stderr, "termgrove score: split %s: %d records to fit, %d to score\n", recPath, nTrain, nTest)
 	modelPath = filepath.Join(dir, "split.grove")
 	args := append([]string{"--vocab", vocab, "--records", trainPath, "--out", modelPath, "--checkpoint", "0", "--quiet"}, fitArgs...)
-	if c := cmdFit(args); c != 0 {
+	// fit's summary goes to stdout; here stdout carries the score output
+	// (JSON with --format json), so the summary goes to stderr instead.
+	saved := os.Stdout
+	os.Stdout = os.Stderr
+	c := cmdFit(args)
+	os.Stdout = saved
+	if c != 0 {
 		return "", "", cleanup, c
 	}
 	return modelPath, testPath, cleanup, 0

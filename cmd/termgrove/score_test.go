@@ -1,7 +1,10 @@
 package main
 
 import (
+	"encoding/json"
 	"fmt"
+	"io"
+	"os"
 	"testing"
 )
 
@@ -31,10 +34,27 @@ func TestScoreSplitOnDemo(t *testing.T) {
 	if testing.Short() {
 		t.Skip("fits a model")
 	}
+	// stdout must hold exactly one JSON document: fit's summary line goes
+	// to stderr.
+	r, w, err := os.Pipe()
+	if err != nil {
+		t.Fatal(err)
+	}
+	saved := os.Stdout
+	os.Stdout = w
 	code := run([]string{"score", "--split", "0.3", "--vocab", "../../testdata/demo/vocabulary.ttl",
 		"--records", "../../testdata/demo/records.jsonl", "--format", "json", "--", "--sweeps", "30", "--free-topics", "5"})
+	os.Stdout = saved
+	w.Close()
+	out, _ := io.ReadAll(r)
 	if code != 0 {
 		t.Fatalf("score --split exit %d", code)
+	}
+	var res struct {
+		Records int `json:"records"`
+	}
+	if err := json.Unmarshal(out, &res); err != nil || res.Records == 0 {
+		t.Fatalf("stdout is not one score document (%v):\n%s", err, out)
 	}
 	if code := run([]string{"score", "--split", "1.5", "--vocab", "x", "--records", "y"}); code != 2 {
 		t.Errorf("--split 1.5: exit %d, want 2", code)
