@@ -1093,6 +1093,11 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 	shown := slices.Clone(cand[:min(top, len(cand))])
 	n := 0
 	for _, k := range shown {
+		// A deprecated concept keeps its topic (its words still need a
+		// home) but is never suggested: an indexer must not assign it.
+		if s := a.m.Scheme; s != nil && int(k) < len(s.Concepts) && s.Concepts[k].Deprecated {
+			continue
+		}
 		if score(k) >= opt.MinScore {
 			shown[n] = k
 			n++
