@@ -7,6 +7,8 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+	"unicode"
+	"unicode/utf8"
 
 	"termgrove/annotate"
 	"termgrove/concepts"
@@ -75,19 +77,22 @@ func (o *GapOptions) defaults() {
 
 // GapReport is the whole report. JSON names are part of the output format.
 type GapReport struct {
-	Scheme       string        `json:"scheme"`
-	Concepts     int           `json:"concepts"`
-	FreeTopics   int           `json:"free_topics"`
-	Tokens       int64         `json:"tokens"`
-	Records      int           `json:"records"`
-	Tree         []*TreeNode   `json:"tree"`
-	Unused       []UnusedGroup `json:"unused"`
-	UnusedShare  float64       `json:"unused_share"` // of the vocabulary's concepts
-	Themes       []Theme       `json:"themes"`
-	Candidates   []Candidate   `json:"candidates"`
-	DeadLabels   []DeadLabel   `json:"dead_labels"`
-	Trends       *Trends       `json:"trends,omitempty"`
-	TrendsAbsent string        `json:"trends_absent,omitempty"` // why there is no trends section
+	Scheme      string        `json:"scheme"`
+	Concepts    int           `json:"concepts"`
+	FreeTopics  int           `json:"free_topics"`
+	Tokens      int64         `json:"tokens"`
+	Records     int           `json:"records"`
+	Tree        []*TreeNode   `json:"tree"`
+	Unused      []UnusedGroup `json:"unused"`
+	UnusedShare float64       `json:"unused_share"` // of the vocabulary's concepts
+	Themes      []Theme       `json:"themes"`
+	Candidates  []Candidate   `json:"candidates"`
+	DeadLabels  []DeadLabel   `json:"dead_labels"`
+	// NamesDropped counts candidate labels left out because the records
+	// write them with a capital inside sentences (names, not subjects).
+	NamesDropped int     `json:"candidate_names_dropped"`
+	Trends       *Trends `json:"trends,omitempty"`
+	TrendsAbsent string  `json:"trends_absent,omitempty"` // why there is no trends section
 }
 
 // TreeNode is one concept in the hierarchy with its use. Children are
@@ -152,6 +157,7 @@ type Candidate struct {
 	Count int32   `json:"count"`     // tokens of the term the concept took
 	Lift  float64 `json:"lift"`      // φ_cw over the prior's β_cw/B_c
 	PConc float64 `json:"p_concept"` // share of the term's tokens taken by the concept
+	word  int32   // the term's word id
 }
 
 // DeadLabel is a label term never seen in the corpus.
@@ -286,7 +292,7 @@ func Gaps(m *model.Model, a Annotator, recs []records.Record, opt GapOptions) (*
 				continue
 			}
 			cands = append(cands, Candidate{IRI: s.Concepts[c].IRI, Label: label(c), Term: m.Words[wc.Word],
-				Count: wc.Count, Lift: lift, PConc: float64(wc.Count) / float64(wordTotal[wc.Word])})
+				Count: wc.Count, Lift: lift, PConc: float64(wc.Count) / float64(wordTotal[wc.Word]), word: wc.Word})
 		}
 		// Rank by how much of the term the concept owns, then by count:
 		// a term every topic uses is no label for this one.
@@ -469,10 +475,24 @@ func perRecord(g *GapReport, m *model.Model, a Annotator, recs []records.Record,
 	yearConcept := map[int]map[int]float64{}
 	dated := 0
 	var toks []terms.Token
+	// Per word type: occurrences inside a sentence, and how many of them
+	// start with a capital — names of people, farms and places, which are
+	// no labels for a concept however strongly they cling to one.
+	inner := make([]int32, m.W())
+	capital := make([]int32, m.W())
 	for ri := range recs {
 		r := &recs[ri]
 		text := r.Join(fields)
 		toks, _ = an.Analyze(text, toks[:0], false)
+		for _, t := range toks {
+			if t.ID < 0 || sentenceStart(text, t.Start) {
+				continue
+			}
+			inner[t.ID]++
+			if r, _ := utf8.DecodeRuneInString(text[t.Start:]); unicode.IsUpper(r) {
+				capital[t.ID]++
+			}
+		}
 		if m.F > 0 {
 			acc := make([]float64, m.F)
 			n := 0
@@ -513,6 +533,15 @@ func perRecord(g *GapReport, m *model.Model, a Annotator, recs []records.Record,
 			}
 		}
 	}
+	kept := g.Candidates[:0]
+	for _, c := range g.Candidates {
+		if w := c.word; inner[w] >= 3 && float64(capital[w]) >= 0.8*float64(inner[w]) {
+			g.NamesDropped++
+			continue
+		}
+		kept = append(kept, c)
+	}
+	g.Candidates = kept
 	for _, th := range g.Themes {
 		list := examples[th.Topic]
 		sort.Slice(list, func(i, j int) bool {
@@ -723,4 +752,20 @@ func freeResponsibility(m *model.Model) []float64 {
 		}
 	}
 	return out
+}
+
+// sentenceStart reports whether the word at byte i opens a sentence: only
+// spaces, quotes or brackets stand between it and the text's start or a
+// full stop, question or exclamation mark, colon or line break.
+func sentenceStart(text string, i int) bool {
+	for j := i - 1; j >= 0; j-- {
+		switch text[j] {
+		case ' ', '\t', '"', '\'', '(', '[':
+			continue
+		case '.', '!', '?', ':', '\n', '\r':
+			return true
+		}
+		return false
+	}
+	return true
 }

@@ -57,6 +57,9 @@ func WriteText(w io.Writer, g *GapReport) error {
 	if len(g.Candidates) == 0 {
 		b.WriteString("  none above the thresholds\n")
 	}
+	if g.NamesDropped > 0 {
+		fmt.Fprintf(b, "  (%d terms left out: the records write them with a capital inside sentences, as names)\n", g.NamesDropped)
+	}
 	for _, c := range g.Candidates {
 		fmt.Fprintf(b, "  %-28q for %-32s seen %d×, %.0f%% of its uses, lift %.0f\n", c.Term, c.Label, c.Count, 100*c.PConc, c.Lift)
 	}
