@@ -198,11 +198,6 @@ func (m *Model) TopWords(k, n int) []WordWeight {
 		return nil
 	}
 	den := float64(m.Totals[k]) + m.BetaSum(k)
-	var pr []WordWeight
-	if k < len(m.Prior) {
-		pr = m.Prior[k]
-	}
-	cr := m.Counts[k]
 	h := &minHeap{}
 	push := func(w int32, num float64) {
 		ww := WordWeight{Word: w, Weight: num / den}
@@ -213,27 +208,39 @@ func (m *Model) TopWords(k, n int) []WordWeight {
 			heap.Fix(h, 0)
 		}
 	}
-	// Merge the two sorted rows.
-	i, j := 0, 0
-	for i < len(cr) || j < len(pr) {
-		switch {
-		case j >= len(pr) || (i < len(cr) && cr[i].Word < pr[j].Word):
-			push(cr[i].Word, float64(cr[i].Count)+m.Beta0)
-			i++
-		case i >= len(cr) || pr[j].Word < cr[i].Word:
-			push(pr[j].Word, m.Beta0+m.Lambda*pr[j].Weight)
-			j++
-		default:
-			push(cr[i].Word, float64(cr[i].Count)+m.Beta0+m.Lambda*pr[j].Weight)
-			i++
-			j++
-		}
-	}
+	m.EachWord(k, push)
 	out := make([]WordWeight, h.Len())
 	for i := len(out) - 1; i >= 0; i-- {
 		out[i] = heap.Pop(h).(WordWeight)
 	}
 	return out
+}
+
+// EachWord calls fn for every word of topic k whose β-smoothed count
+// exceeds the floor β0, in word order, with num = n_kw + β0 + λ·π_kw (so
+// φ_kw = num/(n_k+B_k)); every other word has num = β0. It merges the sorted
+// count and prior rows, so it costs O(nnz).
+func (m *Model) EachWord(k int, fn func(w int32, num float64)) {
+	var pr []WordWeight
+	if k < len(m.Prior) {
+		pr = m.Prior[k]
+	}
+	cr := m.Counts[k]
+	i, j := 0, 0
+	for i < len(cr) || j < len(pr) {
+		switch {
+		case j >= len(pr) || (i < len(cr) && cr[i].Word < pr[j].Word):
+			fn(cr[i].Word, float64(cr[i].Count)+m.Beta0)
+			i++
+		case i >= len(cr) || pr[j].Word < cr[i].Word:
+			fn(pr[j].Word, m.Beta0+m.Lambda*pr[j].Weight)
+			j++
+		default:
+			fn(cr[i].Word, float64(cr[i].Count)+m.Beta0+m.Lambda*pr[j].Weight)
+			i++
+			j++
+		}
+	}
 }
 
 // less orders a below b in TopWords' ranking (lower weight, or higher id on a tie).

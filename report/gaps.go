@@ -407,10 +407,14 @@ func nearestConcept(m *model.Model, f int) (int, float64, bool) {
 		return 0, 0, false
 	}
 	phiF := make([]float64, W)
+	denF := float64(m.Totals[f]) + m.BetaSum(f)
+	for w := range phiF {
+		phiF[w] = m.Beta0 / denF
+	}
+	m.EachWord(f, func(w int32, num float64) { phiF[w] = num / denF })
 	sqrtF := 0.0
-	for w := 0; w < W; w++ {
-		phiF[w] = m.Phi(f, w)
-		sqrtF += math.Sqrt(phiF[w])
+	for _, p := range phiF {
+		sqrtF += math.Sqrt(p)
 	}
 	best, bestBC := -1, -1.0
 	learned := false
@@ -424,29 +428,9 @@ func nearestConcept(m *model.Model, f int) (int, float64, bool) {
 		den := float64(m.Totals[c]) + m.BetaSum(c)
 		floor := m.Beta0 / den
 		bc := math.Sqrt(floor) * sqrtF
-		add := func(w int32, phi float64) {
-			bc += math.Sqrt(phiF[w]*phi) - math.Sqrt(phiF[w]*floor)
-		}
-		var pr []model.WordWeight
-		if c < len(m.Prior) {
-			pr = m.Prior[c]
-		}
-		cr := m.Counts[c]
-		i, j := 0, 0
-		for i < len(cr) || j < len(pr) {
-			switch {
-			case j >= len(pr) || (i < len(cr) && cr[i].Word < pr[j].Word):
-				add(cr[i].Word, (float64(cr[i].Count)+m.Beta0)/den)
-				i++
-			case i >= len(cr) || pr[j].Word < cr[i].Word:
-				add(pr[j].Word, (m.Beta0+m.Lambda*pr[j].Weight)/den)
-				j++
-			default:
-				add(cr[i].Word, (float64(cr[i].Count)+m.Beta0+m.Lambda*pr[j].Weight)/den)
-				i++
-				j++
-			}
-		}
+		m.EachWord(c, func(w int32, num float64) {
+			bc += math.Sqrt(phiF[w]*num/den) - math.Sqrt(phiF[w]*floor)
+		})
 		if bc > bestBC {
 			best, bestBC = c, bc
 		}
