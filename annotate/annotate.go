@@ -536,34 +536,32 @@ type state struct {
 	mark []uint32  // C: visit stamps of the hierarchy walks
 	gen  uint32
 	aggT []int32
-	// blocks hold the per-slot vectors (sval, acc), reused across records;
-	// bi and boff are the next free block and offset.
-	blocks   [][]float64
-	bi, boff int
-	stack    []int32
+	// The record's word lists regrouped by topic, built once per record:
+	// topic k's entries (word type, s_kw) are bent[bo[k] : bo[k]+bn[k]].
+	bn, bo []int32 // K
+	bT     []int32 // topics with bn > 0
+	bent   []bEntry
+	stack  []int32
 
 	slotTopic []int32     // slot → topic
 	pos       []int32     // slot → position in act, -1 when inactive
 	act       []int32     // active slots: ndk > 0 or ext > 0
-	sval      [][]float64 // slot → per word type s_kw
-	acc       [][]float64 // slot → per word type Σ p(z = k)
 	nacc      []float64   // slot → Σ over sampling sweeps of n_dk
 	cs        []float64   // slot → c_k = n_dk + extra α
 	phi0s     []float64   // slot → φ⁰_k
 	dsm       []float64   // slot → Σ over sampling sweeps of c_k·φ⁰_k / D
 	nz        [][]nzEntry // word type → slots with s_kw > 0, and s_kw
+	wacc      [][]float64 // word type → per nz entry, Σ p(z = k)
 	dacc      []float64   // word type → Σ D/Z
 	d         float64     // D = Σ_k c_k·φ⁰_k over the active slots
-	idx       []int32
 	touched   []int32
 
 	uw    []int32   // word type u → word id
-	usort []int32   // word types ordered by word id
 	ucnt  []int32   // occurrences of u
 	cacc  []float64 // u → Σ A_w/Z
 	tu    []int32   // token → u
 	z     []int32   // token → topic
-	uOf   map[int32]int32
+	uOf   []int32 // W: word id → word type, -1 when not in the record
 	buf   []float64
 	allow bool // restricted: no α·φ part
 }
@@ -573,9 +571,13 @@ func (a *Annotator) get() *state {
 		return st
 	}
 	st := &state{ndk: make([]int32, a.K), ext: make([]float64, a.K), slot: make([]int32, a.K),
-		th: make([]float64, a.K), agg: make([]float64, a.C), mark: make([]uint32, a.C), uOf: map[int32]int32{}}
+		th: make([]float64, a.K), agg: make([]float64, a.C), mark: make([]uint32, a.C),
+		bn: make([]int32, a.K), bo: make([]int32, a.K), uOf: make([]int32, len(a.m.Words))}
 	for k := range st.slot {
 		st.slot[k] = -1
+	}
+	for w := range st.uOf {
+		st.uOf[w] = -1
 	}
 	return st
 }
@@ -593,24 +595,31 @@ func (a *Annotator) put(st *state) {
 	}
 	st.aggT = st.aggT[:0]
 	st.slotTopic, st.pos, st.act = st.slotTopic[:0], st.pos[:0], st.act[:0]
-	st.sval, st.acc, st.nacc = st.sval[:0], st.acc[:0], st.nacc[:0]
+	st.nacc = st.nacc[:0]
 	st.cs, st.phi0s, st.dsm, st.dacc = st.cs[:0], st.phi0s[:0], st.dsm[:0], st.dacc[:0]
 	for u := range st.nz {
 		st.nz[u] = st.nz[u][:0]
+		st.wacc[u] = st.wacc[u][:0]
 	}
-	st.nz = st.nz[:0]
+	st.nz, st.wacc = st.nz[:0], st.wacc[:0]
+	for _, k := range st.bT {
+		st.bn[k] = 0
+	}
+	st.bT, st.bent = st.bT[:0], st.bent[:0]
 	st.d = 0
+	for _, w := range st.uw {
+		st.uOf[w] = -1
+	}
 	st.uw, st.ucnt, st.cacc, st.tu, st.z = st.uw[:0], st.ucnt[:0], st.cacc[:0], st.tu[:0], st.z[:0]
-	st.usort = st.usort[:0]
-	clear(st.uOf)
-	st.bi, st.boff = 0, 0
-	if cap(st.toks) > 1<<16 || len(st.blocks) > 64 {
-		st.toks, st.blocks = nil, nil // do not keep a huge record's buffers
+	if cap(st.toks) > 1<<16 || cap(st.bent) > 1<<20 || len(st.nz) > 1<<14 {
+		// do not keep a huge record's buffers
+		st.toks, st.bent, st.nz, st.wacc, st.tu, st.z = nil, nil, nil, nil, nil, nil
 	}
 	a.pool.Put(st)
 }
 
-// slotOf returns k's slot, creating it.
+// slotOf returns k's slot, creating it: the slot joins the lists nz of the
+// record's word types that topic k holds.
 func (a *Annotator) slotOf(st *state, k int32) int32 {
 	if s := st.slot[k]; s >= 0 {
 		return s
@@ -619,47 +628,29 @@ func (a *Annotator) slotOf(st *state, k int32) int32 {
 	st.slot[k] = s
 	st.slotTopic = append(st.slotTopic, k)
 	st.pos = append(st.pos, -1)
-	U := len(st.uw)
-	sv := st.alloc(U)
-	a.fill(st, k, sv)
-	st.sval = append(st.sval, sv)
-	for u, v := range sv {
-		if v > 0 {
-			st.nz[u] = append(st.nz[u], nzEntry{s, v})
+	if n := st.bn[k]; n > 0 {
+		for _, e := range st.bent[st.bo[k] : st.bo[k]+n] {
+			st.nz[e.u] = append(st.nz[e.u], nzEntry{s, e.s})
+			st.wacc[e.u] = append(st.wacc[e.u], 0)
 		}
 	}
 	st.cs = append(st.cs, float64(st.ndk[k])+st.ext[k])
 	st.phi0s = append(st.phi0s, a.phi0[k])
 	st.dsm = append(st.dsm, 0)
-	acc := st.alloc(U)
-	clear(acc)
-	st.acc = append(st.acc, acc)
 	st.nacc = append(st.nacc, 0)
 	return s
-}
-
-// alloc returns n floats from the state's reusable blocks (not cleared).
-func (st *state) alloc(n int) []float64 {
-	for st.bi < len(st.blocks) {
-		b := st.blocks[st.bi]
-		if len(b)-st.boff >= n {
-			st.boff += n
-			return b[st.boff-n : st.boff : st.boff]
-		}
-		st.bi++
-		st.boff = 0
-	}
-	b := make([]float64, max(64*n, 1<<14))
-	st.blocks = append(st.blocks, b)
-	st.bi = len(st.blocks) - 1
-	st.boff = n
-	return b[:n:n]
 }
 
 // nzEntry is a slot whose topic holds a word type, with s_kw.
 type nzEntry struct {
 	s int32
 	v float64
+}
+
+// bEntry is a word type of the record that a topic holds, with s_kw.
+type bEntry struct {
+	u int32
+	s float64
 }
 
 // nextGen starts a new hierarchy walk.
@@ -690,62 +681,48 @@ func (st *state) deactivate(s int32) {
 	st.pos[s] = -1
 }
 
-// sOf returns s_kw for slot s and word type u.
-func (a *Annotator) sOf(st *state, s, u int32) float64 { return st.sval[s][u] }
-
-// fill sets sv[u] = s_kw for topic k and every word type of the record:
-// a merge of topic k's sorted rows with the record's sorted words, or a
-// binary search per word when a row is much longer than the record.
-func (a *Annotator) fill(st *state, k int32, sv []float64) {
-	row := a.m.Counts[k]
-	inv := a.invDen[k]
-	U := len(st.usort)
-	if len(row) <= 16*U {
-		i := 0
-		for _, u := range st.usort {
-			w := st.uw[u]
-			for i < len(row) && row[i].Word < w {
-				i++
-			}
-			v := 0.0
-			if i < len(row) && row[i].Word == w {
-				v = float64(row[i].Count) * inv
-			}
-			sv[u] = v
-		}
-	} else {
-		for _, u := range st.usort {
-			w := st.uw[u]
-			lo, hi := 0, len(row)
-			for lo < hi {
-				mid := int(uint(lo+hi) >> 1)
-				if row[mid].Word < w {
-					lo = mid + 1
-				} else {
-					hi = mid
-				}
-			}
-			v := 0.0
-			if lo < len(row) && row[lo].Word == w {
-				v = float64(row[lo].Count) * inv
-			}
-			sv[u] = v
+// nzAt returns the position of slot s in word type u's list nz[u].
+func (st *state) nzAt(u, s int32) (int, bool) {
+	for j, e := range st.nz[u] {
+		if e.s == s {
+			return j, true
 		}
 	}
-	if int(k) < len(a.m.Prior) {
-		pr := a.m.Prior[k]
-		i := 0
-		for _, u := range st.usort {
-			if i == len(pr) {
-				break
+	return 0, false
+}
+
+// sOf returns s_kw for slot s and word type u.
+func (a *Annotator) sOf(st *state, s, u int32) float64 {
+	if j, ok := st.nzAt(u, s); ok {
+		return st.nz[u][j].v
+	}
+	return 0
+}
+
+// group regroups the word lists of the record's word types by topic (a
+// counting sort), so that a new slot finds the record's words its topic
+// holds without reading the topic's whole row.
+func (a *Annotator) group(st *state) {
+	for _, w := range st.uw {
+		for _, k := range a.topic[a.off[w]:a.off[w+1]] {
+			if st.bn[k] == 0 {
+				st.bT = append(st.bT, k)
 			}
-			w := st.uw[u]
-			for i < len(pr) && pr[i].Word < w {
-				i++
-			}
-			if i < len(pr) && pr[i].Word == w {
-				sv[u] += a.m.Lambda * pr[i].Weight * inv
-			}
+			st.bn[k]++
+		}
+	}
+	n := int32(0)
+	for _, k := range st.bT {
+		st.bo[k] = n
+		n += st.bn[k]
+		st.bn[k] = 0
+	}
+	st.bent = slices.Grow(st.bent[:0], int(n))[:n]
+	for u, w := range st.uw {
+		lo, hi := a.off[w], a.off[w+1]
+		for i, k := range a.topic[lo:hi] {
+			st.bent[st.bo[k]+st.bn[k]] = bEntry{int32(u), a.s[lo+int32(i)]}
+			st.bn[k]++
 		}
 	}
 }
@@ -760,8 +737,8 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 			res.Unknown++
 			continue
 		}
-		u, ok := st.uOf[w]
-		if !ok {
+		u := st.uOf[w]
+		if u < 0 {
 			u = int32(len(st.uw))
 			st.uOf[w] = u
 			st.uw = append(st.uw, w)
@@ -770,8 +747,10 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 			st.dacc = append(st.dacc, 0)
 			if len(st.nz) < cap(st.nz) {
 				st.nz = st.nz[:len(st.nz)+1]
+				st.wacc = st.wacc[:len(st.wacc)+1]
 			} else {
 				st.nz = append(st.nz, nil)
+				st.wacc = append(st.wacc, nil)
 			}
 		}
 		st.ucnt[u]++
@@ -779,10 +758,7 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 	}
 	N := len(st.tu)
 	res.Tokens = N
-	for u := range st.uw {
-		st.usort = append(st.usort, int32(u))
-	}
-	slices.SortFunc(st.usort, func(x, y int32) int { return int(st.uw[x] - st.uw[y]) })
+	a.group(st)
 
 	// Known subjects.
 	var subj []int32
@@ -913,16 +889,17 @@ func (a *Annotator) setExt(st *state, k int32, e float64) {
 // whose total is kept up to date (SparseLDA, Yao, Mimno & McCallum 2009).
 func (a *Annotator) draw(st *state, u int32, rng *rand.Rand, record bool) int32 {
 	w := st.uw[u]
-	st.buf = st.buf[:0]
-	st.idx = st.idx[:0]
+	nz := st.nz[u]
+	if cap(st.buf) < len(nz) {
+		st.buf = make([]float64, len(nz), 2*len(nz))
+	}
+	buf := st.buf[:len(nz)]
 	bt := 0.0
-	for _, e := range st.nz[u] {
-		if c := st.cs[e.s]; c > 0 {
-			v := c * e.v
-			st.buf = append(st.buf, v)
-			st.idx = append(st.idx, e.s)
-			bt += v
-		}
+	// Slots without tokens give 0: no branch to mispredict.
+	for j, e := range nz {
+		v := st.cs[e.s] * e.v
+		buf[j] = v
+		bt += v
 	}
 	d := st.d
 	if d < 0 {
@@ -935,21 +912,26 @@ func (a *Annotator) draw(st *state, u int32, rng *rand.Rand, record bool) int32 
 	z := bt + d + aw
 	if record {
 		inv := 1 / z
-		for j, s := range st.idx {
-			st.acc[s][u] += st.buf[j] * inv
+		acc := st.wacc[u][:len(buf)]
+		for j, v := range buf {
+			acc[j] += v * inv
 		}
 		st.dacc[u] += d * inv
 		st.cacc[u] += aw * inv
 	}
 	x := rng.Float64() * z
 	if x < bt {
-		for j, v := range st.buf {
+		for j, v := range buf {
 			if x < v {
-				return st.slotTopic[st.idx[j]]
+				return st.slotTopic[nz[j].s]
 			}
 			x -= v
 		}
-		return st.slotTopic[st.idx[len(st.idx)-1]]
+		for j := len(buf) - 1; ; j-- { // rounding left x at the top end
+			if buf[j] > 0 {
+				return st.slotTopic[nz[j].s]
+			}
+		}
 	}
 	x -= bt
 	if x < d || aw == 0 {
@@ -983,8 +965,11 @@ func (a *Annotator) post(st *state, u int32, k int32, samples float64) float64 {
 	p := 0.0
 	sk := 0.0
 	if s := st.slot[k]; s >= 0 {
-		p = st.acc[s][u]/n + st.dacc[u]/n*st.dsm[s]/samples
-		sk = a.sOf(st, s, u)
+		p = st.dacc[u] / n * st.dsm[s] / samples
+		if j, ok := st.nzAt(u, s); ok {
+			p += st.wacc[u][j] / n
+			sk = st.nz[u][j].v
+		}
 	} else {
 		sk = a.sv(w, k)
 	}
@@ -997,8 +982,12 @@ func (a *Annotator) freePost(st *state, u int32, samples float64) float64 {
 	p, ds := 0.0, 0.0
 	for s, k := range st.slotTopic {
 		if int(k) >= a.C {
-			p += st.acc[s][u]
 			ds += st.dsm[s]
+		}
+	}
+	for j, e := range st.nz[u] {
+		if int(st.slotTopic[e.s]) >= a.C {
+			p += st.wacc[u][j]
 		}
 	}
 	return p/n + st.dacc[u]/n*ds/samples + st.cacc[u]/n*a.awF[st.uw[u]]/a.aw[st.uw[u]]
@@ -1232,9 +1221,9 @@ func (a *Annotator) words(res *Result, text string, toks []terms.Token, st *stat
 				bk, bp = k, p
 			}
 		}
-		for s, k := range st.slotTopic {
-			if st.acc[s][u] > 0 {
-				try(k)
+		for j, e := range st.nz[u] {
+			if st.wacc[u][j] > 0 {
+				try(st.slotTopic[e.s])
 			}
 		}
 		// The concept taking most of the smoothing bucket.
