@@ -101,7 +101,7 @@ func TestFittedBars(t *testing.T) {
 		if _, err := a.infer(&Result{Concepts: []Concept{}}, text, toks, Options{}, st); err != nil {
 			t.Fatal(err)
 		}
-		got := a.theta(st, float64(DefaultSamples))
+		got := a.thetaDense(st, float64(DefaultSamples))
 		a.put(st)
 		for b := range bars {
 			l1 += math.Abs(got[match[b]]-th[b]) / docs
@@ -114,22 +114,26 @@ func TestFittedBars(t *testing.T) {
 	}
 }
 
-// theta returns θ over all K topics from a finished state, as summarise
-// computes the scores.
-func (a *Annotator) theta(st *state, samples float64) []float64 {
+// thetaDense returns θ over all K topics from a finished state, from the
+// word types' posteriors (post): Σ_u n_u·p_u(k) + α_k, normalised.
+func (a *Annotator) thetaDense(st *state, samples float64) []float64 {
 	th := make([]float64, a.K)
-	sumA := a.sumAlpha
-	for _, k := range st.slotTopic {
-		sumA += st.ext[k]
+	alpha := func(k int) float64 { // α as the options changed it
+		if st.allow {
+			return st.ext[k]
+		}
+		return a.alpha[k] + st.ext[k]
+	}
+	sumA := 0.0
+	for k := range th {
+		sumA += alpha(k)
 	}
 	N := float64(len(st.tu))
 	for k := range th {
-		th[k] = a.alpha[k]
-	}
-	for s, k := range st.slotTopic {
-		th[k] += st.nacc[s]/samples + st.ext[k]
-	}
-	for k := range th {
+		th[k] = alpha(k)
+		for u := range st.uw {
+			th[k] += float64(st.ucnt[u]) * a.post(st, int32(u), int32(k), samples)
+		}
 		th[k] /= N + sumA
 	}
 	return th

@@ -31,7 +31,7 @@ func cmdScore(args []string) int {
 	skipBad := fs.Bool("skip-bad", false, "skip records that are not valid JSON (counted) instead of stopping")
 	split := fs.Float64("split", 0, "fit-and-score: keep this share of --records out as the test split (deterministic by id), fit --vocab on the rest, score the test split")
 	vocab := fs.String("vocab", "", "vocabulary to fit with --split")
-	burnIn := fs.Int("burn-in", annotate.DefaultBurnIn, "fold-in sweeps discarded per record")
+	burnIn := fs.Int("burn-in", scoreBurnIn, "fold-in sweeps discarded per record")
 	samples := fs.Int("samples", scoreSamples, "fold-in sweeps averaged per record (more than annotate's default: the lower ranks are decided by the average)")
 	fs.Usage = func() {
 		fmt.Fprint(os.Stderr, `usage: termgrove score --model M.grove --records GOLD.jsonl [--format text|json] [--per-concept FILE.csv]
@@ -271,3 +271,7 @@ func writePerConcept(w io.Writer, path string, r *report.ScoreResult) error {
 // with annotate's 20, 0.403/0.276 with 60 and 0.408/0.288 with 200 (about
 // 20 s for 5,926 records); more burn-in sweeps changed nothing.
 const scoreSamples = 200
+
+// scoreBurnIn is score's default number of discarded fold-in sweeps: 10,
+// annotate's default when the figures in bench/quality.md were taken.
+const scoreBurnIn = 10
