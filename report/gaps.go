@@ -25,23 +25,28 @@ type Annotator interface {
 // GapOptions tune the gap report; zero values mean the defaults in brackets.
 type GapOptions struct {
 	// A concept counts as unused when its share of fitted tokens is below
-	// MinShare [0.0005] or fewer than MinRecords [2] records use it.
+	// MinShare [0.0005] or fewer than MinRecords [2] records use it (see
+	// GapReport.RecordsBasis), unless a record carries it as a subject.
 	MinShare   float64
 	MinRecords int
 	// TopWords per free topic [12]; Examples records per free topic [3].
 	TopWords int
 	Examples int
 	// Candidates per concept [5], each seen at least MinCount [3] times
-	// with lift at least MinLift [5].
+	// with lift at least MinLift [5], the concept holding a share of the
+	// term's tokens of at least MinOwned [0.3] (at the lower end of its
+	// 95% Wilson interval) and, when records are read, taking it in at
+	// least MinRecords of them.
 	Candidates int
 	MinCount   int
 	MinLift    float64
+	MinOwned   float64
 	// Lang picks labels shown ["en"].
 	Lang string
 	// Fields are the record fields read [title, text].
 	Fields []string
 	// RecordThreshold is the concept score from which a record counts as
-	// using a concept in the trends [0.05].
+	// using a concept [0.05].
 	RecordThreshold float64
 }
 
@@ -67,6 +72,9 @@ func (o *GapOptions) defaults() {
 	if o.MinLift == 0 {
 		o.MinLift = 5
 	}
+	if o.MinOwned == 0 {
+		o.MinOwned = 0.3
+	}
 	if o.Lang == "" {
 		o.Lang = "en"
 	}
@@ -90,7 +98,13 @@ type GapReport struct {
 	DeadLabels  []DeadLabel   `json:"dead_labels"`
 	// NamesDropped counts candidate labels left out because the records
 	// write them with a capital inside sentences (names, not subjects).
-	NamesDropped int     `json:"candidate_names_dropped"`
+	NamesDropped int `json:"candidate_names_dropped"`
+	// RecordsBasis says what the records of a concept count: "score",
+	// records whose scores for the concept and those below it sum to at
+	// least RecordThreshold or that carry one of them as a subject; or
+	// "tokens" (no records given), records any of whose tokens the fitted
+	// model gave the concept or one below it.
+	RecordsBasis string  `json:"records_basis"`
 	Trends       *Trends `json:"trends,omitempty"`
 	TrendsAbsent string  `json:"trends_absent,omitempty"` // why there is no trends section
 }
@@ -157,7 +171,15 @@ type Candidate struct {
 	Count int32   `json:"count"`     // tokens of the term the concept took
 	Lift  float64 `json:"lift"`      // φ_cw over the prior's β_cw/B_c
 	PConc float64 `json:"p_concept"` // share of the term's tokens taken by the concept
-	word  int32   // the term's word id
+	// Records in which the annotator gives the term to the concept (0 when
+	// no records were read).
+	Records int     `json:"records"`
+	word    int32   // the term's word id
+	concept int     // the concept's index
+	owned   float64 // lower end of PConc's 95% Wilson interval
+	// Records holding the term that carry subjects, and those of them
+	// that carry the concept or one below it.
+	indexed, indexedAs int
 }
 
 // DeadLabel is a label term never seen in the corpus.
@@ -218,10 +240,39 @@ func Gaps(m *model.Model, a Annotator, recs []records.Record, opt GapOptions) (*
 		}
 		return 0
 	}
+	wordTotal := make([]int64, m.W())
+	for _, row := range m.Counts {
+		for _, wc := range row {
+			wordTotal[wc.Word] += int64(wc.Count)
+		}
+	}
+	// (d) dead labels, and the pool of candidate labels (c).
+	pool, err := candidatePool(g, m, wordTotal, label, opt)
+	if err != nil {
+		return nil, err
+	}
+
 	// A broader concept whose narrower concepts are used is no gap: the
 	// thresholds apply to the concept together with everything below it.
 	subShare, subDocs := subtreeTotals(s, m.C, share, docs)
-	unused := func(c int) bool { return subShare[c] < opt.MinShare || subDocs[c] < opt.MinRecords }
+	indexed := make([]int, len(subDocs))
+	g.RecordsBasis = "tokens"
+	var use *recordUse
+	if len(recs) > 0 && a != nil {
+		// A concept the model lent a few stray tokens in many records (a
+		// label word used in another sense, a rare word the smoothing floor
+		// of a nearly empty topic attracts) is still unused: with the
+		// records at hand, count only those about it.
+		if use, err = useByRecord(m, s, a, recs, pool, opt); err != nil {
+			return nil, err
+		}
+		subDocs, indexed = use.records, use.indexed
+		g.RecordsBasis = "score"
+	}
+	// What people indexed with is in use, however little text it holds.
+	unused := func(c int) bool {
+		return indexed[c] == 0 && (subShare[c] < opt.MinShare || subDocs[c] < opt.MinRecords)
+	}
 
 	// (a) unused concepts, grouped under their top concepts, and the tree.
 	g.Tree = buildTree(s, m.C, label, share, subShare, subDocs, unused)
@@ -250,13 +301,6 @@ func Gaps(m *model.Model, a Annotator, recs []records.Record, opt GapOptions) (*
 		g.UnusedShare = float64(nUnused) / float64(m.C)
 	}
 
-	wordTotal := make([]int64, m.W())
-	for _, row := range m.Counts {
-		for _, wc := range row {
-			wordTotal[wc.Word] += int64(wc.Count)
-		}
-	}
-
 	// (b) free topics with their nearest concept.
 	for f := m.C; f < m.K(); f++ {
 		th := Theme{Topic: f - m.C, Share: share(f)}
@@ -270,60 +314,295 @@ func Gaps(m *model.Model, a Annotator, recs []records.Record, opt GapOptions) (*
 	}
 	sort.SliceStable(g.Themes, func(i, j int) bool { return g.Themes[i].Share > g.Themes[j].Share })
 
-	// (c) candidate labels and (d) dead labels.
-	for c := 0; c < m.C && c < len(m.Prior); c++ {
-		labelTerm := map[int32]bool{}
-		for _, e := range m.Prior[c] {
-			labelTerm[e.Word] = true
-			if wordTotal[e.Word] == 0 {
-				g.DeadLabels = append(g.DeadLabels, DeadLabel{IRI: s.Concepts[c].IRI, Label: label(c), Term: m.Words[e.Word]})
-			}
-		}
-		den := float64(m.Totals[c]) + m.BetaSum(c)
-		floor := m.Beta0 / m.BetaSum(c) // prior probability of a non-label word
-		var cands []Candidate
-		for _, wc := range m.Counts[c] {
-			if labelTerm[wc.Word] || wc.Count < int32(opt.MinCount) {
-				continue
-			}
-			phi := (float64(wc.Count) + m.Beta0) / den
-			lift := phi / floor
-			if lift < opt.MinLift {
-				continue
-			}
-			cands = append(cands, Candidate{IRI: s.Concepts[c].IRI, Label: label(c), Term: m.Words[wc.Word],
-				Count: wc.Count, Lift: lift, PConc: float64(wc.Count) / float64(wordTotal[wc.Word]), word: wc.Word})
-		}
-		// Rank by how much of the term the concept owns, then by count:
-		// a term every topic uses is no label for this one.
-		sort.Slice(cands, func(i, j int) bool {
-			si := cands[i].PConc * math.Log1p(float64(cands[i].Count))
-			sj := cands[j].PConc * math.Log1p(float64(cands[j].Count))
-			if si != sj {
-				return si > sj
-			}
-			return cands[i].Term < cands[j].Term
-		})
-		if len(cands) > opt.Candidates {
-			cands = cands[:opt.Candidates]
-		}
-		for _, cd := range cands {
-			if cd.PConc >= 0.3 {
-				g.Candidates = append(g.Candidates, cd)
-			}
-		}
-	}
-	sort.SliceStable(g.Candidates, func(i, j int) bool { return g.Candidates[i].Count > g.Candidates[j].Count })
+	// (c) candidate labels: with records, ranked once they have also told
+	// which terms are names.
+	g.Candidates = rankCandidates(pool, use != nil, opt)
 
 	// Per-record use: examples of themes and trends.
 	if len(recs) == 0 {
 		g.TrendsAbsent = "no records given: pass the records the model was fitted on (--records) for example records and use over time"
 		return g, nil
 	}
-	if err := perRecord(g, m, a, recs, opt, label); err != nil {
+	if err := perRecord(g, m, use, pool, recs, opt, label); err != nil {
 		return nil, err
 	}
 	return g, nil
+}
+
+// recordUse is what annotating every record once tells about concept use.
+type recordUse struct {
+	// records[c]: records whose scores for c and the concepts below it sum
+	// to at least RecordThreshold, or that carry one of them as a subject.
+	records []int
+	// indexed[c]: records that carry c or a concept below it as a subject.
+	indexed []int
+	// Tokens per year and, per year, tokens per concept (own score times
+	// the record's tokens), from the dated records.
+	yearTok     map[int]float64
+	yearConcept map[int]map[int]float64
+	dated       int
+}
+
+// useByRecord annotates each record in its own language and credits every
+// concept's score to the concept and each of its broader concepts once
+// (poly-hierarchy: once, however many routes lead up). It also counts, for
+// each candidate of pool, the records in which the annotator gives one of
+// the term's occurrences to the candidate's concept, and the records
+// holding the term that carry subjects (with or without the concept).
+func useByRecord(m *model.Model, s *concepts.Scheme, a Annotator, recs []records.Record, pool []Candidate, opt GapOptions) (*recordUse, error) {
+	n := min(len(s.Concepts), m.C)
+	u := &recordUse{records: make([]int, n), indexed: make([]int, n),
+		yearTok: map[int]float64{}, yearConcept: map[int]map[int]float64{}}
+	sum := make([]float64, n)
+	carried := make([]bool, n)
+	mark := make([]int, n) // mark[x] == gen: x already credited for this concept
+	gen := 0
+	var touched, stack []int
+	// Candidates by concept IRI and term, and the record that last counted each.
+	type pair struct{ iri, term string }
+	cand := make(map[pair]int, len(pool))
+	byTerm := map[string][]int{}
+	for i, cd := range pool {
+		cand[pair{cd.IRI, cd.Term}] = i
+		byTerm[cd.Term] = append(byTerm[cd.Term], i)
+	}
+	counted := make([]int, len(pool))
+	seen := make([]int, len(pool))
+	up := func(c int, fn func(x int)) {
+		gen++
+		stack = append(stack[:0], c)
+		mark[c] = gen
+		for len(stack) > 0 {
+			x := stack[len(stack)-1]
+			stack = stack[:len(stack)-1]
+			fn(x)
+			for _, b := range s.Concepts[x].Broader {
+				if b < n && mark[b] != gen {
+					mark[b] = gen
+					stack = append(stack, b)
+				}
+			}
+		}
+	}
+	touch := func(x int) {
+		if sum[x] == 0 && !carried[x] {
+			touched = append(touched, x)
+		}
+	}
+	for ri := range recs {
+		r := &recs[ri]
+		res, err := a.Annotate(r.ID, r.Join(opt.Fields), annotate.Options{Top: m.C, MinScore: opt.RecordThreshold / 10,
+			Language: r.Lang, IncludeWords: len(pool) > 0})
+		if err != nil {
+			return nil, fmt.Errorf("record %s: %w", r.ID, err)
+		}
+		for _, w := range res.Words {
+			if i, ok := cand[pair{w.Concept, w.Term}]; ok && counted[i] != ri+1 {
+				counted[i] = ri + 1
+				pool[i].Records++
+			}
+		}
+		touched = touched[:0]
+		year, dated := parseYear(r.Date)
+		var yc map[int]float64
+		if dated {
+			u.dated++
+			u.yearTok[year] += float64(res.Tokens)
+			if yc = u.yearConcept[year]; yc == nil {
+				yc = map[int]float64{}
+				u.yearConcept[year] = yc
+			}
+		}
+		for _, c := range res.Concepts {
+			i, ok := m.ConceptIndex(c.IRI)
+			if !ok || i >= n || c.Score <= 0 {
+				continue
+			}
+			if dated {
+				yc[i] += c.Score * float64(res.Tokens)
+			}
+			up(i, func(x int) { touch(x); sum[x] += c.Score })
+		}
+		subjects := false
+		for _, iri := range r.Subjects {
+			if i, ok := m.ConceptIndex(iri); ok && i < n {
+				up(i, func(x int) { touch(x); carried[x] = true })
+				subjects = true
+			}
+		}
+		if subjects {
+			for _, w := range res.Words {
+				for _, i := range byTerm[w.Term] {
+					if seen[i] != ri+1 {
+						seen[i] = ri + 1
+						pool[i].indexed++
+						if carried[pool[i].concept] {
+							pool[i].indexedAs++
+						}
+					}
+				}
+			}
+		}
+		for _, x := range touched {
+			if carried[x] {
+				u.indexed[x]++
+			}
+			if carried[x] || sum[x] >= opt.RecordThreshold {
+				u.records[x]++
+			}
+			sum[x], carried[x] = 0, false
+		}
+	}
+	return u, nil
+}
+
+// candidatePool lists, per concept, the terms it took that might be
+// labels it lacks, and fills g.DeadLabels. A term is left out when
+//   - it is a term of the concept's own prior (labels and notes),
+//   - it is a label term of another concept: it names that one already,
+//     so the model's choice between the two is no missing label,
+//   - it is no word: numbers, dates, ordinals and abbreviations ("1st",
+//     "1947", "p.m") are no subject terms,
+//   - the concept took fewer than MinCount of its tokens or its lift is
+//     below MinLift,
+//   - the share of its tokens the concept took is below MinOwned at the
+//     lower end of its 95% Wilson score interval: a frequent word of which
+//     a small concept took 3 of 7 uses ("must", "great") is chance, a word
+//     it took 6 of 6 times is not.
+func candidatePool(g *GapReport, m *model.Model, wordTotal []int64, label func(int) string, opt GapOptions) ([]Candidate, error) {
+	s := m.Scheme
+	isLabel, err := labelTerms(m)
+	if err != nil {
+		return nil, err
+	}
+	var pool []Candidate
+	for c := 0; c < m.C && c < len(m.Prior) && c < len(s.Concepts); c++ {
+		own := map[int32]bool{}
+		for _, e := range m.Prior[c] {
+			own[e.Word] = true
+			if wordTotal[e.Word] == 0 {
+				g.DeadLabels = append(g.DeadLabels, DeadLabel{IRI: s.Concepts[c].IRI, Label: label(c), Term: m.Words[e.Word]})
+			}
+		}
+		den := float64(m.Totals[c]) + m.BetaSum(c)
+		floor := m.Beta0 / m.BetaSum(c) // prior probability of a non-label word
+		for _, wc := range m.Counts[c] {
+			if own[wc.Word] || isLabel[wc.Word] || wc.Count < int32(opt.MinCount) || !wordLike(m.Words[wc.Word]) {
+				continue
+			}
+			lift := (float64(wc.Count) + m.Beta0) / den / floor
+			owned := wilsonLower(float64(wc.Count), float64(wordTotal[wc.Word]))
+			if lift < opt.MinLift || owned < opt.MinOwned {
+				continue
+			}
+			pool = append(pool, Candidate{IRI: s.Concepts[c].IRI, Label: label(c), Term: m.Words[wc.Word],
+				Count: wc.Count, Lift: lift, PConc: float64(wc.Count) / float64(wordTotal[wc.Word]),
+				word: wc.Word, concept: c, owned: owned})
+		}
+	}
+	return pool, nil
+}
+
+// rankCandidates keeps, when records were read, the terms their concept
+// took in at least MinRecords of them (one text's habit is no label) and
+// that the indexers did not pass over: when at least MinRecords records
+// holding the term carry subjects and none carries the concept or one
+// below it, the people who read those records judged otherwise. Then it
+// keeps the best Candidates per concept by owned share (lower end) times
+// log(1 + count), most seen first overall.
+func rankCandidates(pool []Candidate, counted bool, opt GapOptions) []Candidate {
+	var kept []Candidate
+	for _, cd := range pool {
+		if counted && (cd.Records < opt.MinRecords || cd.indexed >= opt.MinRecords && cd.indexedAs == 0) {
+			continue
+		}
+		kept = append(kept, cd)
+	}
+	rank := func(cd Candidate) float64 { return cd.owned * math.Log1p(float64(cd.Count)) }
+	sort.SliceStable(kept, func(i, j int) bool {
+		a, b := kept[i], kept[j]
+		if a.concept != b.concept {
+			return a.concept < b.concept
+		}
+		if ra, rb := rank(a), rank(b); ra != rb {
+			return ra > rb
+		}
+		return a.Term < b.Term
+	})
+	out := kept[:0]
+	for i, cd := range kept {
+		if i >= opt.Candidates && kept[i-opt.Candidates].concept == cd.concept {
+			continue
+		}
+		out = append(out, cd)
+	}
+	sort.SliceStable(out, func(i, j int) bool { return out[i].Count > out[j].Count })
+	return out
+}
+
+// labelTerms marks the terms of every concept's preferred, alternative and
+// hidden labels: each label's words and, for a label of several words,
+// its phrase term, analysed as the prior analysed them.
+func labelTerms(m *model.Model) ([]bool, error) {
+	is := make([]bool, m.W())
+	if m.Scheme == nil || m.W() == 0 {
+		return is, nil
+	}
+	an, err := m.NewAnalyzer()
+	if err != nil {
+		return nil, err
+	}
+	var toks []terms.Token
+	mark := func(ts []terms.Token) {
+		for _, t := range ts {
+			if t.ID >= 0 && int(t.ID) < len(is) {
+				is[t.ID] = true
+			}
+		}
+	}
+	for ci := range m.Scheme.Concepts {
+		c := &m.Scheme.Concepts[ci]
+		for _, ls := range [][]concepts.Label{c.Pref, c.Alt, c.Hidden} {
+			for _, l := range ls {
+				toks, _ = an.AnalyzeWords(l.Text, l.Lang, toks[:0], false)
+				mark(toks)
+				toks, _ = an.AnalyzeLang(l.Text, l.Lang, toks[:0], false)
+				mark(toks)
+			}
+		}
+	}
+	return is, nil
+}
+
+// wordLike reports whether a term is made of letters, with single
+// spaces, hyphens or apostrophes between them.
+func wordLike(term string) bool {
+	prev := ' '
+	for _, r := range term {
+		switch {
+		case unicode.IsLetter(r) || unicode.IsMark(r):
+		case (r == ' ' || r == '-' || r == '\'') && (unicode.IsLetter(prev) || unicode.IsMark(prev)):
+		default:
+			return false
+		}
+		prev = r
+	}
+	return term != "" && (unicode.IsLetter(prev) || unicode.IsMark(prev))
+}
+
+// wilsonLower is the lower end of the 95% Wilson score interval for k
+// successes in n trials (0 when n is 0). From memory: E. B. Wilson,
+// "Probable inference, the law of succession, and statistical
+// inference", JASA 22 (1927) 209-212:
+//
+//	(p + z²/2n − z·sqrt(p(1−p)/n + z²/4n²)) / (1 + z²/n),  z = 1.96.
+func wilsonLower(k, n float64) float64 {
+	if n <= 0 {
+		return 0
+	}
+	const z = 1.959963984540054
+	p := k / n
+	return (p + z*z/(2*n) - z*math.Sqrt(p*(1-p)/n+z*z/(4*n*n))) / (1 + z*z/n)
 }
 
 // topOf follows the first broader link up to a concept with none (cycle-safe).
@@ -438,9 +717,10 @@ func nearestConcept(m *model.Model, f int) (int, float64, bool) {
 	return best, math.Sqrt(math.Max(0, 1-math.Min(1, bestBC))), true
 }
 
-// perRecord annotates every record once to find example records for the
-// themes and concept use per year.
-func perRecord(g *GapReport, m *model.Model, a Annotator, recs []records.Record, opt GapOptions, label func(int) string) error {
+// perRecord finds example records for the themes, drops names from the
+// candidate labels of pool before ranking them and, from use (nil without
+// an annotator), draws the trends.
+func perRecord(g *GapReport, m *model.Model, use *recordUse, pool []Candidate, recs []records.Record, opt GapOptions, label func(int) string) error {
 	fields := opt.Fields
 	// Theme examples use the responsibility of each free topic for the
 	// record's known words under the model's document-independent prior,
@@ -455,9 +735,6 @@ func perRecord(g *GapReport, m *model.Model, a Annotator, recs []records.Record,
 	}
 	examples := make([][]ex, m.F)
 	resp := freeResponsibility(m)
-	yearTok := map[int]float64{}
-	yearConcept := map[int]map[int]float64{}
-	dated := 0
 	var toks []terms.Token
 	// Per word type: occurrences inside a sentence, and how many of them
 	// start with a capital — names of people, farms and places, which are
@@ -467,7 +744,9 @@ func perRecord(g *GapReport, m *model.Model, a Annotator, recs []records.Record,
 	for ri := range recs {
 		r := &recs[ri]
 		text := r.Join(fields)
-		toks, _ = an.Analyze(text, toks[:0], false)
+		// Each record in its own language, as fit read it: French read as
+		// English keeps "les" and "des" as words.
+		toks, _ = an.AnalyzeLang(text, r.Lang, toks[:0], false)
 		for _, t := range toks {
 			if t.ID < 0 || sentenceStart(text, t.Start) {
 				continue
@@ -496,36 +775,18 @@ func perRecord(g *GapReport, m *model.Model, a Annotator, recs []records.Record,
 				}
 			}
 		}
-		year, ok := parseYear(r.Date)
-		if !ok || a == nil {
-			continue
-		}
-		res, err := a.Annotate(r.ID, text, annotate.Options{Top: m.C, MinScore: opt.RecordThreshold / 10})
-		if err != nil {
-			return fmt.Errorf("record %s: %w", r.ID, err)
-		}
-		dated++
-		yearTok[year] += float64(res.Tokens)
-		yc := yearConcept[year]
-		if yc == nil {
-			yc = map[int]float64{}
-			yearConcept[year] = yc
-		}
-		for _, c := range res.Concepts {
-			if i, ok := m.ConceptIndex(c.IRI); ok {
-				yc[i] += c.Score * float64(res.Tokens)
-			}
-		}
 	}
-	kept := g.Candidates[:0]
-	for _, c := range g.Candidates {
+	var kept []Candidate
+	for _, c := range pool {
 		if w := c.word; inner[w] >= 3 && float64(capital[w]) >= 0.8*float64(inner[w]) {
-			g.NamesDropped++
+			if use == nil || c.Records >= opt.MinRecords {
+				g.NamesDropped++
+			}
 			continue
 		}
 		kept = append(kept, c)
 	}
-	g.Candidates = kept
+	g.Candidates = rankCandidates(kept, use != nil, opt)
 	for _, th := range g.Themes {
 		list := examples[th.Topic]
 		sort.Slice(list, func(i, j int) bool {
@@ -540,11 +801,15 @@ func perRecord(g *GapReport, m *model.Model, a Annotator, recs []records.Record,
 				Example{ID: r.ID, Title: r.Title, Weight: list[i].w, Snippet: snippet(r.Join(fields), 160)})
 		}
 	}
-	if dated == 0 {
+	if use == nil {
+		g.TrendsAbsent = "no annotator given: use over time needs the records annotated"
+		return nil
+	}
+	if use.dated == 0 {
 		g.TrendsAbsent = "no record carries a date (field \"date\": YYYY or YYYY-MM-DD), so use over time cannot be shown"
 		return nil
 	}
-	g.Trends = trends(m, yearTok, yearConcept, label)
+	g.Trends = trends(m, use.yearTok, use.yearConcept, label)
 	if g.Trends == nil {
 		g.TrendsAbsent = "records span a single year: use over time needs at least two"
 	}

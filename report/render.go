@@ -25,6 +25,12 @@ func WriteText(w io.Writer, g *GapReport) error {
 	fmt.Fprintf(b, "%d concepts, %d free topics, %d fitted tokens, %d records read\n\n", g.Concepts, g.FreeTopics, g.Tokens, g.Records)
 
 	fmt.Fprintf(b, "UNUSED CONCEPTS (%.1f%% of the vocabulary)\n", 100*g.UnusedShare)
+	switch g.RecordsBasis {
+	case "score":
+		b.WriteString("  (records: those about the concept or one below it, or indexed with one)\n")
+	case "tokens":
+		b.WriteString("  (records: those the model lent any token; pass the records for those about it)\n")
+	}
 	if len(g.Unused) == 0 {
 		b.WriteString("  none: every concept is used\n")
 	}
@@ -61,6 +67,10 @@ func WriteText(w io.Writer, g *GapReport) error {
 		fmt.Fprintf(b, "  (%d terms left out: the records write them with a capital inside sentences, as names)\n", g.NamesDropped)
 	}
 	for _, c := range g.Candidates {
+		if c.Records > 0 {
+			fmt.Fprintf(b, "  %-28q for %-32s seen %d× in %d records, %.0f%% of its uses\n", c.Term, c.Label, c.Count, c.Records, 100*c.PConc)
+			continue
+		}
 		fmt.Fprintf(b, "  %-28q for %-32s seen %d×, %.0f%% of its uses, lift %.0f\n", c.Term, c.Label, c.Count, 100*c.PConc, c.Lift)
 	}
 
@@ -275,8 +285,8 @@ Colour shows each concept's share of the collection's words (with everything bel
 {{end}}</table>{{else}}<p>The model has no free topics.</p>{{end}}
 
 <h2 id="candidates">Suggested labels</h2>
-{{if .Candidates}}<table id="candidates-table"><tr><th>Term</th><th>For concept</th><th>Seen</th><th>Share of its uses</th><th>Lift</th></tr>
-{{range .Candidates}}<tr><td>{{.Term}}</td><td title="{{.IRI}}">{{.Label}}</td><td>{{.Count}}</td><td>{{pct .PConc}}</td><td>{{num .Lift}}</td></tr>
+{{if .Candidates}}<table id="candidates-table"><tr><th>Term</th><th>For concept</th><th>Seen</th><th>Records</th><th>Share of its uses</th><th>Lift</th></tr>
+{{range .Candidates}}<tr><td>{{.Term}}</td><td title="{{.IRI}}">{{.Label}}</td><td>{{.Count}}</td><td>{{.Records}}</td><td>{{pct .PConc}}</td><td>{{num .Lift}}</td></tr>
 {{end}}</table>{{else}}<p>No term passes the thresholds.</p>{{end}}
 
 <h2 id="dead">Labels never seen in the collection ({{len .DeadLabels}})</h2>
