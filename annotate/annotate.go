@@ -89,7 +89,7 @@ const (
 	// against 0.305) in under half the draws.
 	DefaultBurnIn  = 3
 	DefaultSamples = 10
-	DefaultBoost    = 20.0
+	DefaultBoost   = 20.0
 	// pathPool: aggregated path scores count the descendants among this many
 	// best-ranked concepts (or Top, when larger).
 	pathPool = 100
@@ -242,6 +242,14 @@ type Annotator struct {
 	awF   []float64 // Σ_{k ≥ C} α_k·φ_kw
 	best  []int32   // argmax over concepts k of α_k·φ_kw (-1: no concepts)
 	bestV []float64
+	den   []float64 // n_k + B_k
+
+	// maxList: a record whose words' topic lists average at most this many
+	// entries has them regrouped by topic up front (group); longer lists
+	// (a large vocabulary whose common words sit in thousands of topics)
+	// are not read whole: each topic the record visits has its row merged
+	// with the record's words instead (fillRow).
+	maxList int
 
 	pool sync.Pool // *state
 }
@@ -262,7 +270,7 @@ func New(m *model.Model) (*Annotator, error) {
 	}
 	K, C, W := m.K(), m.C, len(m.Words)
 	a := &Annotator{m: m, an: an, seed: sum, K: K, C: C, alpha: m.Alpha,
-		phi0: make([]float64, K), invDen: make([]float64, K), langs: map[string]bool{}}
+		phi0: make([]float64, K), invDen: make([]float64, K), langs: map[string]bool{}, maxList: defaultMaxList}
 	for _, l := range m.Analyzer.Languages {
 		l = strings.ToLower(l)
 		a.langs[l] = true
@@ -272,6 +280,7 @@ func New(m *model.Model) (*Annotator, error) {
 		a.langs["en"] = true
 	}
 	den := make([]float64, K)
+	a.den = den
 	dw := make([]float64, K)
 	for k := 0; k < K; k++ {
 		den[k] = float64(m.Totals[k]) + m.BetaSum(k)
@@ -412,6 +421,11 @@ func New(m *model.Model) (*Annotator, error) {
 	return a, nil
 }
 
+// defaultMaxList is Annotator.maxList: the debtags model's record words sit
+// in about 30 topics each (grouped), the 117k-concept synthetic model's in
+// about 1,800 (rows).
+const defaultMaxList = 128
+
 // Model returns the annotator's model.
 func (a *Annotator) Model() *model.Model { return a.m }
 
@@ -545,9 +559,16 @@ type state struct {
 	aggT []int32
 	// The record's word lists regrouped by topic, built once per record:
 	// topic k's entries (word type, s_kw) are bent[bo[k] : bo[k]+bn[k]].
+	// In row mode (rows) a topic's entries are found when first needed
+	// (bucket), bhas[k] saying so, and bT lists the topics found.
 	bn, bo []int32 // K
-	bT     []int32 // topics with bn > 0
+	bhas   []bool  // K
+	bT     []int32 // topics with bn > 0, or in row mode with bhas
 	bent   []bEntry
+	rows   bool
+	usort  []int32   // row mode: word types ordered by word id
+	fu     []float64 // word type → cacc/A_w
+	sfree  float64   // free topics' share of the α·s_kw part, over all sweeps
 	stack  []int32
 
 	slotTopic []int32     // slot → topic
@@ -568,7 +589,7 @@ type state struct {
 	cacc  []float64 // u → Σ A_w/Z
 	tu    []int32   // token → u
 	z     []int32   // token → topic
-	uOf   []int32 // W: word id → word type, -1 when not in the record
+	uOf   []int32   // W: word id → word type, -1 when not in the record
 	buf   []float64
 	allow bool // restricted: no α·φ part
 }
@@ -579,7 +600,7 @@ func (a *Annotator) get() *state {
 	}
 	st := &state{ndk: make([]int32, a.K), ext: make([]float64, a.K), slot: make([]int32, a.K),
 		th: make([]float64, a.K), agg: make([]float64, a.C), mark: make([]uint32, a.C),
-		bn: make([]int32, a.K), bo: make([]int32, a.K), uOf: make([]int32, len(a.m.Words))}
+		bn: make([]int32, a.K), bo: make([]int32, a.K), bhas: make([]bool, a.K), uOf: make([]int32, len(a.m.Words))}
 	for k := range st.slot {
 		st.slot[k] = -1
 	}
@@ -609,9 +630,9 @@ func (a *Annotator) put(st *state) {
 	}
 	st.nz, st.wacc = st.nz[:0], st.wacc[:0]
 	for _, k := range st.bT {
-		st.bn[k] = 0
+		st.bn[k], st.bhas[k] = 0, false
 	}
-	st.bT, st.bent = st.bT[:0], st.bent[:0]
+	st.bT, st.bent, st.usort, st.rows = st.bT[:0], st.bent[:0], st.usort[:0], false
 	st.d = 0
 	for _, w := range st.uw {
 		st.uOf[w] = -1
@@ -634,8 +655,7 @@ func (a *Annotator) slotOf(st *state, k int32) int32 {
 	st.slot[k] = s
 	st.slotTopic = append(st.slotTopic, k)
 	st.pos = append(st.pos, -1)
-	if n := st.bn[k]; n > 0 {
-		b := st.bent[st.bo[k] : st.bo[k]+n]
+	if b := a.bucket(st, k); len(b) > 0 {
 		for i := range b {
 			e := &b[i]
 			e.j = int32(len(st.nz[e.u]))
@@ -708,6 +728,71 @@ func (a *Annotator) sOf(st *state, s, u int32) float64 {
 	return 0
 }
 
+// bucket returns topic k's entries: the record's word types it holds.
+func (a *Annotator) bucket(st *state, k int32) []bEntry {
+	if st.rows && !st.bhas[k] {
+		a.fillRow(st, k)
+	}
+	n := st.bn[k]
+	if n == 0 {
+		return nil
+	}
+	return st.bent[st.bo[k] : st.bo[k]+n]
+}
+
+// fillRow finds topic k's entries (row mode): a merge of topic k's sorted
+// rows with the record's sorted words, or a binary search per word when
+// the row is much longer than the record. s_kw is computed as in New.
+func (a *Annotator) fillRow(st *state, k int32) {
+	st.bhas[k] = true
+	st.bT = append(st.bT, k)
+	start := len(st.bent)
+	row := a.m.Counts[k]
+	var pr []model.WordWeight
+	if int(k) < len(a.m.Prior) {
+		pr = a.m.Prior[k]
+	}
+	search := len(row) > 16*len(st.usort)
+	i, j := 0, 0
+	for _, u := range st.usort {
+		w := st.uw[u]
+		if search {
+			lo, hi := i, len(row)
+			for lo < hi {
+				mid := int(uint(lo+hi) >> 1)
+				if row[mid].Word < w {
+					lo = mid + 1
+				} else {
+					hi = mid
+				}
+			}
+			i = lo
+		} else {
+			for i < len(row) && row[i].Word < w {
+				i++
+			}
+		}
+		for j < len(pr) && pr[j].Word < w {
+			j++
+		}
+		hasC := i < len(row) && row[i].Word == w
+		hasP := j < len(pr) && pr[j].Word == w
+		num := 0.0
+		switch {
+		case hasC && hasP:
+			num = float64(row[i].Count) + a.m.Lambda*pr[j].Weight
+		case hasC:
+			num = float64(row[i].Count)
+		case hasP && pr[j].Weight > 0:
+			num = a.m.Lambda * pr[j].Weight
+		default:
+			continue
+		}
+		st.bent = append(st.bent, bEntry{u: u, s: num / a.den[k]})
+	}
+	st.bo[k], st.bn[k] = int32(start), int32(len(st.bent)-start)
+}
+
 // group regroups the word lists of the record's word types by topic (a
 // counting sort), so that a new slot finds the record's words its topic
 // holds without reading the topic's whole row.
@@ -767,7 +852,19 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 	}
 	N := len(st.tu)
 	res.Tokens = N
-	a.group(st)
+	T := 0
+	for _, w := range st.uw {
+		T += int(a.off[w+1] - a.off[w])
+	}
+	st.rows = T > a.maxList*len(st.uw)
+	if st.rows {
+		for u := range st.uw {
+			st.usort = append(st.usort, int32(u))
+		}
+		slices.SortFunc(st.usort, func(x, y int32) int { return int(st.uw[x] - st.uw[y]) })
+	} else {
+		a.group(st)
+	}
 
 	// Known subjects.
 	var subj []int32
@@ -1050,7 +1147,8 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 	}
 	norm := 1 / (N + sumA)
 	rbF := a.theta(st, samples)
-	unc := freeA
+	// Free topics as a whole: their α·s_kw share comes from A_w's free part.
+	unc := freeA + st.sfree
 	for k := a.C; k < a.K; k++ {
 		unc += st.th[k] + a.alpha[k]*a.phi0[k]*rbF
 	}
@@ -1075,7 +1173,8 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 		}
 	}
 	if !st.allow {
-		// Concepts that hold a record word have posterior mass too.
+		// Concepts that hold a record word have posterior mass too (in
+		// row mode only those already looked up are known here).
 		for _, k := range st.bT {
 			if int(k) < a.C && st.slot[k] < 0 {
 				cand = append(cand, k)
@@ -1086,7 +1185,12 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 			if extra >= want {
 				break
 			}
-			if st.slot[k] < 0 && st.bn[k] == 0 {
+			if st.slot[k] < 0 && st.bn[k] == 0 && !st.bhas[k] {
+				if st.rows {
+					// Its α·s_kw share, unknown until its row is read.
+					a.addAliasS(st, k, 1/samples)
+					st.touched = append(st.touched, k)
+				}
 				cand = append(cand, k)
 				extra++
 			}
@@ -1209,18 +1313,20 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 // summed over the S sampling sweeps (post divides the same sum by the
 // type's occurrences).
 func (a *Annotator) theta(st *state, samples float64) float64 {
-	dsum, cphi := 0.0, 0.0
+	inv := 1 / samples
+	dsum, cphi, sfree := 0.0, 0.0, 0.0
+	st.fu = slices.Grow(st.fu[:0], len(st.uw))[:len(st.uw)]
 	for u, w := range st.uw {
 		dsum += st.dacc[u]
-		c := st.cacc[u]
-		if c == 0 {
-			continue
-		}
-		f := c / a.aw[w]
+		f := st.cacc[u] / a.aw[w]
+		st.fu[u] = f
 		cphi += f
-		lo, hi := a.off[w], a.off[w+1]
-		for i, k := range a.topic[lo:hi] {
-			st.th[k] += a.alpha[k] * a.s[lo+int32(i)] * f
+		sfree += f * (a.awF[w] - a.qFree)
+	}
+	st.sfree = sfree * inv
+	for _, k := range st.bT {
+		if int(k) < a.C {
+			a.addAliasS(st, k, 1)
 		}
 	}
 	for u := range st.uw {
@@ -1228,7 +1334,6 @@ func (a *Annotator) theta(st *state, samples float64) float64 {
 			st.th[st.slotTopic[e.s]] += st.wacc[u][j]
 		}
 	}
-	inv := 1 / samples
 	for s, k := range st.slotTopic {
 		st.th[k] = (st.th[k] + dsum*st.dsm[s]*inv) * inv
 	}
@@ -1240,6 +1345,16 @@ func (a *Annotator) theta(st *state, samples float64) float64 {
 	st.touched = append(st.touched, st.slotTopic...)
 	st.touched = append(st.touched, st.bT...)
 	return cphi * inv
+}
+
+// addAliasS adds to st.th[k] scale·Σ_u cacc_u·α_k·s_kw/A_w, the s_kw share
+// of the alias part (theta).
+func (a *Annotator) addAliasS(st *state, k int32, scale float64) {
+	ak, v := a.alpha[k], 0.0
+	for _, e := range a.bucket(st, k) {
+		v += e.s * st.fu[e.u]
+	}
+	st.th[k] += ak * v * scale
 }
 
 // scored is a topic with its score.
@@ -1315,8 +1430,8 @@ func (a *Annotator) support(st *state, k int32, samples float64) []Support {
 	for u, w := range st.uw {
 		buf[u] = st.dacc[u]*ds + st.cacc[u]*ak*p0/a.aw[w]
 	}
-	if n := st.bn[k]; n > 0 {
-		for _, e := range st.bent[st.bo[k] : st.bo[k]+n] {
+	{
+		for _, e := range a.bucket(st, k) {
 			v := st.cacc[e.u] * ak * e.s / a.aw[st.uw[e.u]]
 			if s >= 0 {
 				v += st.wacc[e.u][e.j]

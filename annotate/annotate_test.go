@@ -181,12 +181,15 @@ func TestAliasExact(t *testing.T) {
 
 // TestConditionalEqualsDense: the split sampler draws from exactly
 // p(k) ∝ (n_dk + α_k)·φ_kw, with φ from model.Phi (DESIGN.md, "The model").
-func TestConditionalEqualsDense(t *testing.T) {
+func TestConditionalEqualsDense(t *testing.T) { bothModes(t, testConditionalEqualsDense) }
+
+func testConditionalEqualsDense(t *testing.T, maxList int) {
 	m := modeltest.Synthetic(modeltest.Options{Concepts: 60, Free: 5, Words: 300, WordsPerConcept: 20, Seed: 5})
 	a, err := New(m)
 	if err != nil {
 		t.Fatal(err)
 	}
+	a.maxList = maxList
 	r := rand.New(rand.NewPCG(3, 4))
 	for _, mode := range []string{"plain", "restrict", "boost"} {
 		st := a.get()
@@ -241,12 +244,15 @@ func TestConditionalEqualsDense(t *testing.T) {
 // tables) samples from the dense conditional: 300,000 draws from frozen
 // states, each topic's frequency within 5 standard errors of its
 // probability. Source: the binomial standard error, no outside source.
-func TestDrawFrequencies(t *testing.T) {
+func TestDrawFrequencies(t *testing.T) { bothModes(t, testDrawFrequencies) }
+
+func testDrawFrequencies(t *testing.T, maxList int) {
 	m := modeltest.Synthetic(modeltest.Options{Concepts: 30, Free: 4, Words: 200, WordsPerConcept: 15, Seed: 6})
 	a, err := New(m)
 	if err != nil {
 		t.Fatal(err)
 	}
+	a.maxList = maxList
 	r := rand.New(rand.NewPCG(5, 6))
 	for _, opt := range []Options{{}, {Subjects: []string{m.Scheme.Concepts[3].IRI}, SubjectMode: Restrict},
 		{Subjects: []string{m.Scheme.Concepts[3].IRI}, SubjectMode: Boost}} {
@@ -281,12 +287,15 @@ func TestDrawFrequencies(t *testing.T) {
 // TestDistributions (outside check b): concept scores plus the uncovered
 // share sum to 1, and so does each word type's posterior over all topics.
 // Source: definition of θ and of a posterior (DESIGN.md "Annotation result").
-func TestDistributions(t *testing.T) {
+func TestDistributions(t *testing.T) { bothModes(t, testDistributions) }
+
+func testDistributions(t *testing.T, maxList int) {
 	m := modeltest.Synthetic(modeltest.Options{Concepts: 80, Free: 6, Words: 400, WordsPerConcept: 25, Seed: 9})
 	a, err := New(m)
 	if err != nil {
 		t.Fatal(err)
 	}
+	a.maxList = maxList
 	r := rand.New(rand.NewPCG(8, 8))
 	for _, opt := range []Options{
 		{Top: -1, IncludeWords: true},
@@ -631,12 +640,15 @@ func TestSubjects(t *testing.T) {
 	}
 }
 
-func TestDeterministicAndConcurrent(t *testing.T) {
+func TestDeterministicAndConcurrent(t *testing.T) { bothModes(t, testDeterministicAndConcurrent) }
+
+func testDeterministicAndConcurrent(t *testing.T, maxList int) {
 	m := modeltest.Synthetic(modeltest.Options{Concepts: 200, Free: 10, Words: 2000, Seed: 2})
 	a, err := New(m)
 	if err != nil {
 		t.Fatal(err)
 	}
+	a.maxList = maxList
 	r := rand.New(rand.NewPCG(1, 1))
 	type in struct {
 		text string
@@ -658,6 +670,7 @@ func TestDeterministicAndConcurrent(t *testing.T) {
 	}
 	// A second annotator over the same model, many goroutines, shuffled order.
 	b, _ := New(m)
+	b.maxList = maxList
 	var wg sync.WaitGroup
 	errs := make(chan string, 100)
 	for g := 0; g < 4; g++ {
@@ -832,4 +845,11 @@ func TestSelectBest(t *testing.T) {
 			t.Fatalf("trial %d: n=%d got %v want %v", trial, n, got, want[:n])
 		}
 	}
+}
+
+// bothModes runs test with the record's topic entries grouped up front
+// (the default for short word lists) and found per topic row (row mode).
+func bothModes(t *testing.T, test func(*testing.T, int)) {
+	t.Run("grouped", func(t *testing.T) { test(t, 1<<30) })
+	t.Run("rows", func(t *testing.T) { test(t, 0) })
 }
