@@ -153,6 +153,10 @@ type Theme struct {
 type WordShare struct {
 	Term string  `json:"term"`
 	P    float64 `json:"p"`
+	// Text is the form the records write the term in most often, lower
+	// case ("harrowmere" for the stem "harrowmer"); empty without records.
+	Text string `json:"text,omitempty"`
+	word int32
 }
 
 // Example is a record that a free topic explains well.
@@ -168,9 +172,10 @@ type Candidate struct {
 	IRI   string  `json:"iri"`
 	Label string  `json:"label"`
 	Term  string  `json:"term"`
-	Count int32   `json:"count"`     // tokens of the term the concept took
-	Lift  float64 `json:"lift"`      // φ_cw over the prior's β_cw/B_c
-	PConc float64 `json:"p_concept"` // share of the term's tokens taken by the concept
+	Text  string  `json:"text,omitempty"` // the records' commonest form of the term, lower case
+	Count int32   `json:"count"`          // tokens of the term the concept took
+	Lift  float64 `json:"lift"`           // φ_cw over the prior's β_cw/B_c
+	PConc float64 `json:"p_concept"`      // share of the term's tokens taken by the concept
 	// Records in which the annotator gives the term to the concept (0 when
 	// no records were read).
 	Records int     `json:"records"`
@@ -182,11 +187,14 @@ type Candidate struct {
 	indexed, indexedAs int
 }
 
-// DeadLabel is a label term never seen in the corpus.
+// DeadLabel is a preferred, alternative or hidden label whose term (the
+// phrase term of a label of several words) the corpus never holds.
 type DeadLabel struct {
 	IRI   string `json:"iri"`
-	Label string `json:"label"`
+	Label string `json:"label"` // the concept's label
 	Term  string `json:"term"`
+	Text  string `json:"text"` // the label as written
+	Lang  string `json:"lang"`
 }
 
 // Trends is concept use over time.
@@ -305,7 +313,7 @@ func Gaps(m *model.Model, a Annotator, recs []records.Record, opt GapOptions) (*
 	for f := m.C; f < m.K(); f++ {
 		th := Theme{Topic: f - m.C, Share: share(f)}
 		for _, ww := range m.TopWords(f, opt.TopWords) {
-			th.Words = append(th.Words, WordShare{Term: m.Words[ww.Word], P: ww.Weight})
+			th.Words = append(th.Words, WordShare{Term: m.Words[ww.Word], P: ww.Weight, word: ww.Word})
 		}
 		if c, h, ok := nearestConcept(m, f); ok {
 			th.Nearest, th.NearestLabel, th.Hellinger = s.Concepts[c].IRI, label(c), h
@@ -471,18 +479,19 @@ func useByRecord(m *model.Model, s *concepts.Scheme, a Annotator, recs []records
 //     it took 6 of 6 times is not.
 func candidatePool(g *GapReport, m *model.Model, wordTotal []int64, label func(int) string, opt GapOptions) ([]Candidate, error) {
 	s := m.Scheme
-	isLabel, err := labelTerms(m)
+	isLabel, dead, err := labelTerms(m, wordTotal)
 	if err != nil {
 		return nil, err
+	}
+	for _, d := range dead {
+		d.Label = label(d.concept)
+		g.DeadLabels = append(g.DeadLabels, d.DeadLabel)
 	}
 	var pool []Candidate
 	for c := 0; c < m.C && c < len(m.Prior) && c < len(s.Concepts); c++ {
 		own := map[int32]bool{}
 		for _, e := range m.Prior[c] {
 			own[e.Word] = true
-			if wordTotal[e.Word] == 0 {
-				g.DeadLabels = append(g.DeadLabels, DeadLabel{IRI: s.Concepts[c].IRI, Label: label(c), Term: m.Words[e.Word]})
-			}
 		}
 		den := float64(m.Totals[c]) + m.BetaSum(c)
 		floor := m.Beta0 / m.BetaSum(c) // prior probability of a non-label word
@@ -540,38 +549,70 @@ func rankCandidates(pool []Candidate, counted bool, opt GapOptions) []Candidate 
 	return out
 }
 
+type deadLabel struct {
+	DeadLabel
+	concept int
+}
+
 // labelTerms marks the terms of every concept's preferred, alternative and
 // hidden labels: each label's words and, for a label of several words,
-// its phrase term, analysed as the prior analysed them.
-func labelTerms(m *model.Model) ([]bool, error) {
+// its phrase term, analysed as the prior analysed them. It also returns the
+// labels, in the model's languages, of current concepts whose own term
+// (the phrase term of a label of several words) the corpus never holds.
+func labelTerms(m *model.Model, wordTotal []int64) ([]bool, []deadLabel, error) {
 	is := make([]bool, m.W())
 	if m.Scheme == nil || m.W() == 0 {
-		return is, nil
+		return is, nil, nil
 	}
 	an, err := m.NewAnalyzer()
 	if err != nil {
-		return nil, err
+		return nil, nil, err
+	}
+	langs := map[string]bool{}
+	for _, l := range m.Analyzer.Languages {
+		langs[primaryTag(l)] = true
 	}
 	var toks []terms.Token
-	mark := func(ts []terms.Token) {
-		for _, t := range ts {
-			if t.ID >= 0 && int(t.ID) < len(is) {
-				is[t.ID] = true
-			}
-		}
-	}
+	var dead []deadLabel
 	for ci := range m.Scheme.Concepts {
 		c := &m.Scheme.Concepts[ci]
 		for _, ls := range [][]concepts.Label{c.Pref, c.Alt, c.Hidden} {
 			for _, l := range ls {
 				toks, _ = an.AnalyzeWords(l.Text, l.Lang, toks[:0], false)
-				mark(toks)
+				for _, t := range toks {
+					if t.ID >= 0 && int(t.ID) < len(is) {
+						is[t.ID] = true
+					}
+				}
 				toks, _ = an.AnalyzeLang(l.Text, l.Lang, toks[:0], false)
-				mark(toks)
+				if len(toks) == 1 && toks[0].ID >= 0 && int(toks[0].ID) < len(is) {
+					is[toks[0].ID] = true
+				}
+				if ci >= m.C || c.Deprecated || len(toks) == 0 || (len(langs) > 0 && l.Lang != "" && !langs[primaryTag(l.Lang)]) {
+					continue
+				}
+				// A label of several words that does not read as one
+				// phrase term has no term of its own in the model.
+				if len(toks) > 1 || toks[0].ID < 0 || int(toks[0].ID) >= len(wordTotal) || wordTotal[toks[0].ID] == 0 {
+					d := deadLabel{DeadLabel{IRI: c.IRI, Text: l.Text, Lang: l.Lang}, ci}
+					if len(toks) == 1 {
+						d.Term = toks[0].Term
+					}
+					dead = append(dead, d)
+				}
 			}
 		}
 	}
-	return is, nil
+	return is, dead, nil
+}
+
+// primaryTag is the primary language subtag, lower case: "fr" for "fr-CA".
+func primaryTag(tag string) string {
+	tag = strings.ToLower(tag)
+	if i := strings.IndexAny(tag, "-_"); i >= 0 {
+		tag = tag[:i]
+	}
+	return tag
 }
 
 // wordLike reports whether a term is made of letters, with single
@@ -736,6 +777,17 @@ func perRecord(g *GapReport, m *model.Model, use *recordUse, pool []Candidate, r
 	examples := make([][]ex, m.F)
 	resp := freeResponsibility(m)
 	var toks []terms.Token
+	// The forms the records write the shown terms in, to show "harrowmere"
+	// rather than the stem "harrowmer".
+	forms := map[int32]map[string]int{}
+	for _, c := range pool {
+		forms[c.word] = map[string]int{}
+	}
+	for _, th := range g.Themes {
+		for _, w := range th.Words {
+			forms[w.word] = map[string]int{}
+		}
+	}
 	// Per word type: occurrences inside a sentence, and how many of them
 	// start with a capital — names of people, farms and places, which are
 	// no labels for a concept however strongly they cling to one.
@@ -748,6 +800,9 @@ func perRecord(g *GapReport, m *model.Model, use *recordUse, pool []Candidate, r
 		// English keeps "les" and "des" as words.
 		toks, _ = an.AnalyzeLang(text, r.Lang, toks[:0], false)
 		for _, t := range toks {
+			if f, ok := forms[t.ID]; ok && t.ID >= 0 {
+				f[strings.ToLower(strings.Join(strings.Fields(text[t.Start:t.End]), " "))]++
+			}
 			if t.ID < 0 || sentenceStart(text, t.Start) {
 				continue
 			}
@@ -776,8 +831,14 @@ func perRecord(g *GapReport, m *model.Model, use *recordUse, pool []Candidate, r
 			}
 		}
 	}
+	for i := range g.Themes {
+		for j := range g.Themes[i].Words {
+			g.Themes[i].Words[j].Text = commonest(forms[g.Themes[i].Words[j].word])
+		}
+	}
 	var kept []Candidate
 	for _, c := range pool {
+		c.Text = commonest(forms[c.word])
 		if w := c.word; inner[w] >= 3 && float64(capital[w]) >= 0.8*float64(inner[w]) {
 			if use == nil || c.Records >= opt.MinRecords {
 				g.NamesDropped++
@@ -814,6 +875,18 @@ func perRecord(g *GapReport, m *model.Model, use *recordUse, pool []Candidate, r
 		g.TrendsAbsent = "records span a single year: use over time needs at least two"
 	}
 	return nil
+}
+
+// commonest returns the most frequent form (ties: the shorter, then the
+// first in byte order), or "" for none.
+func commonest(forms map[string]int) string {
+	best, n := "", 0
+	for f, k := range forms {
+		if k > n || k == n && (len(f) < len(best) || len(f) == len(best) && f < best) {
+			best, n = f, k
+		}
+	}
+	return best
 }
 
 func indexOfTheme(ts []Theme, topic int) int {

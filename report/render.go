@@ -48,7 +48,7 @@ func WriteText(w io.Writer, g *GapReport) error {
 	for _, t := range g.Themes {
 		words := make([]string, len(t.Words))
 		for i, ws := range t.Words {
-			words[i] = ws.Term
+			words[i] = shown(ws.Term, ws.Text)
 		}
 		fmt.Fprintf(b, "  theme %d  %.1f%% of tokens: %s\n", t.Topic, 100*t.Share, strings.Join(words, ", "))
 		if t.Nearest != "" {
@@ -68,19 +68,19 @@ func WriteText(w io.Writer, g *GapReport) error {
 	}
 	for _, c := range g.Candidates {
 		if c.Records > 0 {
-			fmt.Fprintf(b, "  %-28q for %-32s seen %d× in %d records, %.0f%% of its uses\n", c.Term, c.Label, c.Count, c.Records, 100*c.PConc)
+			fmt.Fprintf(b, "  %-28q for %-32s seen %d× in %d records, %.0f%% of its uses\n", shown(c.Term, c.Text), c.Label, c.Count, c.Records, 100*c.PConc)
 			continue
 		}
 		fmt.Fprintf(b, "  %-28q for %-32s seen %d×, %.0f%% of its uses, lift %.0f\n", c.Term, c.Label, c.Count, 100*c.PConc, c.Lift)
 	}
 
-	fmt.Fprintf(b, "\nDEAD LABELS (label terms never seen in the corpus): %d\n", len(g.DeadLabels))
+	fmt.Fprintf(b, "\nDEAD LABELS (labels the records never use): %d\n", len(g.DeadLabels))
 	for i, d := range g.DeadLabels {
 		if i == 30 {
 			fmt.Fprintf(b, "  … and %d more (see --format json or csv)\n", len(g.DeadLabels)-30)
 			break
 		}
-		fmt.Fprintf(b, "  %-28q of %s\n", d.Term, d.Label)
+		fmt.Fprintf(b, "  %-28s of %s\n", fmt.Sprintf("%q@%s", d.Text, d.Lang), d.Label)
 	}
 
 	b.WriteString("\nUSE OVER TIME\n")
@@ -172,7 +172,7 @@ func WriteCSV(w io.Writer, g *GapReport) error {
 		rows = append(rows, []string{"candidate", c.IRI, c.Label, c.Term, f(c.Lift), strconv.Itoa(int(c.Count)), "p_concept=" + f(c.PConc)})
 	}
 	for _, d := range g.DeadLabels {
-		rows = append(rows, []string{"dead", d.IRI, d.Label, d.Term, "", "0", ""})
+		rows = append(rows, []string{"dead", d.IRI, d.Label, d.Text, "", "0", "lang=" + d.Lang + " term=" + d.Term})
 	}
 	if g.Trends != nil {
 		for _, s := range g.Trends.Series {
@@ -195,6 +195,15 @@ func WriteCSV(w io.Writer, g *GapReport) error {
 	return cw.Error()
 }
 
+// shown is what a reader sees of a term: the records' commonest form of
+// it when known, else the analysed term.
+func shown(term, text string) string {
+	if text != "" {
+		return text
+	}
+	return term
+}
+
 // WriteHTML writes one self-contained page (no network): the hierarchy as
 // an expandable tree coloured by use, the themes table, the suggestions and
 // small inline-SVG charts of use over time.
@@ -203,8 +212,9 @@ func WriteHTML(w io.Writer, g *GapReport) error {
 }
 
 var pageTmpl = template.Must(template.New("page").Funcs(template.FuncMap{
-	"pct": func(x float64) string { return strconv.FormatFloat(100*x, 'f', 2, 64) + "%" },
-	"num": func(x float64) string { return strconv.FormatFloat(x, 'f', 2, 64) },
+	"shown": shown,
+	"pct":   func(x float64) string { return strconv.FormatFloat(100*x, 'f', 2, 64) + "%" },
+	"num":   func(x float64) string { return strconv.FormatFloat(x, 'f', 2, 64) },
 	"heat": func(x float64) template.CSS {
 		// Unused concepts are drawn apart; others from pale to deep green
 		// on a log scale of their subtree share.
@@ -279,19 +289,19 @@ Colour shows each concept's share of the collection's words (with everything bel
 
 <h2 id="themes">Themes no concept covers</h2>
 {{if .Themes}}<table id="themes-table"><tr><th>Theme</th><th>Share</th><th>Top words</th><th>Closest concept</th><th>Example records</th></tr>
-{{range .Themes}}<tr><td>{{.Topic}}</td><td>{{pct .Share}}</td><td>{{range $i, $w := .Words}}{{if $i}}, {{end}}{{$w.Term}}{{end}}</td>
+{{range .Themes}}<tr><td>{{.Topic}}</td><td>{{pct .Share}}</td><td>{{range $i, $w := .Words}}{{if $i}}, {{end}}{{shown $w.Term $w.Text}}{{end}}</td>
 <td title="{{.Nearest}}">{{.NearestLabel}} <span class="muted">(H {{num .Hellinger}})</span></td>
 <td>{{range .Examples}}<div><b>{{.ID}}</b> {{.Title}} <span class="muted">{{.Snippet}}</span></div>{{end}}</td></tr>
 {{end}}</table>{{else}}<p>The model has no free topics.</p>{{end}}
 
 <h2 id="candidates">Suggested labels</h2>
 {{if .Candidates}}<table id="candidates-table"><tr><th>Term</th><th>For concept</th><th>Seen</th><th>Records</th><th>Share of its uses</th><th>Lift</th></tr>
-{{range .Candidates}}<tr><td>{{.Term}}</td><td title="{{.IRI}}">{{.Label}}</td><td>{{.Count}}</td><td>{{.Records}}</td><td>{{pct .PConc}}</td><td>{{num .Lift}}</td></tr>
+{{range .Candidates}}<tr><td title="term: {{.Term}}">{{shown .Term .Text}}</td><td title="{{.IRI}}">{{.Label}}</td><td>{{.Count}}</td><td>{{.Records}}</td><td>{{pct .PConc}}</td><td>{{num .Lift}}</td></tr>
 {{end}}</table>{{else}}<p>No term passes the thresholds.</p>{{end}}
 
 <h2 id="dead">Labels never seen in the collection ({{len .DeadLabels}})</h2>
-{{if .DeadLabels}}<table id="dead-table"><tr><th>Label term</th><th>Concept</th></tr>
-{{range .DeadLabels}}<tr><td>{{.Term}}</td><td title="{{.IRI}}">{{.Label}}</td></tr>
+{{if .DeadLabels}}<table id="dead-table"><tr><th>Label</th><th>Concept</th></tr>
+{{range .DeadLabels}}<tr><td lang="{{.Lang}}">{{.Text}}</td><td title="{{.IRI}}">{{.Label}}</td></tr>
 {{end}}</table>{{end}}
 
 <h2 id="trends">Use over time</h2>

@@ -5,10 +5,10 @@
 // The gap report has five sections, all read off a fitted model and,
 // optionally, the records it was fitted on:
 //
-//	unused      concepts whose fitted token mass and record count fall below thresholds
+//	unused      concepts whose fitted token mass or count of records about them fall below thresholds
 //	themes      free topics: what the records share that no concept covers
-//	candidates  corpus terms tied to a concept (lift over its prior) that are none of its labels
-//	dead        label terms never seen in the corpus
+//	candidates  corpus terms a concept owns beyond chance that label no concept
+//	dead        labels whose term the corpus never holds
 //	trends      per concept, share of tokens per year (records with dates only)
 //
 //	g, err := report.Gaps(m, annotator, recs, report.GapOptions{})
