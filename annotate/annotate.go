@@ -231,13 +231,12 @@ type Annotator struct {
 	sumAlpha, freeAlpha float64   // Σ_k α_k, Σ_{k ≥ C} α_k
 	labels              []string  // concept prefLabels in the main language
 
-	// Per word w, entries off[w]..off[w+1] list the topics with s_kw > 0,
-	// sorted by topic, e.g. topic [3 17] s [0.01 0.2] for a word that concept
-	// 3 names in a label and topic 17 used.
+	// Per word w, went[off[w]:off[w+1]] lists the topics with s_kw > 0,
+	// sorted by topic, e.g. k [3 17] s [0.01 0.2] for a word that concept
+	// 3 names in a label and topic 17 used; the same entries hold the word's
+	// alias table (p, alt), so that a draw reads one place.
 	off   []int32
-	topic []int32
-	s     []float64
-	wal   []alias   // per word, over α_k·s_kw; views into shared storage
+	went  []wEntry  // per word, by topic; with the word's alias table over α_k·s_kw
 	aw    []float64 // A_w = q + Σ_k α_k·s_kw
 	awF   []float64 // Σ_{k ≥ C} α_k·φ_kw
 	best  []int32   // argmax over concepts k of α_k·φ_kw (-1: no concepts)
@@ -341,8 +340,7 @@ func New(m *model.Model) (*Annotator, error) {
 		}
 		a.off[w] = int32(total)
 	}
-	a.topic = make([]int32, total)
-	a.s = make([]float64, total)
+	a.went = make([]wEntry, total)
 	fill := slices.Clone(a.off[:W])
 	for k := 0; k < K; k++ {
 		var pr []model.WordWeight
@@ -353,8 +351,8 @@ func New(m *model.Model) (*Annotator, error) {
 		put := func(w int32, num float64) {
 			i := fill[w]
 			fill[w]++
-			a.topic[i] = int32(k)
-			a.s[i] = num / den[k]
+			a.went[i].k = int32(k)
+			a.went[i].s = num / den[k]
 		}
 		i, j := 0, 0
 		for i < len(cr) || j < len(pr) {
@@ -375,22 +373,20 @@ func New(m *model.Model) (*Annotator, error) {
 		}
 	}
 	// Topics were visited in increasing order, so each list is sorted.
-	a.wal = make([]alias, W)
 	a.aw = make([]float64, W)
 	a.awF = make([]float64, W)
 	a.best = make([]int32, W)
 	a.bestV = make([]float64, W)
-	prob := make([]float64, total)
-	al := make([]int32, total)
-	var buf []float64
+	var buf, prob []float64
+	var al []int32
 	for w := 0; w < W; w++ {
 		lo, hi := a.off[w], a.off[w+1]
 		buf = buf[:0]
 		sumW, free := 0.0, a.qFree
 		bk, bv := int32(-1), -1.0
 		for i := lo; i < hi; i++ {
-			k := a.topic[i]
-			v := a.alpha[k] * a.s[i]
+			k := a.went[i].k
+			v := a.alpha[k] * a.went[i].s
 			buf = append(buf, v)
 			sumW += v
 			if k >= int32(C) {
@@ -413,7 +409,13 @@ func New(m *model.Model) (*Annotator, error) {
 				break
 			}
 		}
-		a.wal[w] = newAlias(buf, prob[lo:hi:hi], al[lo:hi:hi])
+		n := int(hi - lo)
+		prob, al = slices.Grow(prob[:0], n)[:n], slices.Grow(al[:0], n)[:n]
+		t := newAlias(buf, prob, al)
+		for i := range t.prob {
+			e := &a.went[lo+int32(i)]
+			e.p, e.alt = t.prob[i], a.went[lo+t.alias[i]].k
+		}
 		a.aw[w] = a.q + sumW
 		a.awF[w] = free
 		a.best[w], a.bestV[w] = bk, bv
@@ -425,6 +427,13 @@ func New(m *model.Model) (*Annotator, error) {
 // in about 30 topics each (grouped), the 117k-concept synthetic model's in
 // about 1,800 (rows).
 const defaultMaxList = 128
+
+// wEntry is topic k of a word's list with s_kw, and slot i of the word's
+// alias table over α_k·s_kw: keep k with probability p, else take alt.
+type wEntry struct {
+	s, p   float64
+	k, alt int32
+}
 
 // Model returns the annotator's model.
 func (a *Annotator) Model() *model.Model { return a.m }
@@ -440,13 +449,13 @@ func (a *Annotator) find(w int, k int32) (int32, bool) {
 	lo, hi := a.off[w], a.off[w+1]
 	for lo < hi {
 		mid := int32(uint32(lo+hi) >> 1)
-		if a.topic[mid] < k {
+		if a.went[mid].k < k {
 			lo = mid + 1
 		} else {
 			hi = mid
 		}
 	}
-	return lo, lo < a.off[w+1] && a.topic[lo] == k
+	return lo, lo < a.off[w+1] && a.went[lo].k == k
 }
 
 // sv returns s_kw = (n_kw + λ·π_kw)/(n_k + B_k), searching whichever is
@@ -460,7 +469,7 @@ func (a *Annotator) sv(w int, k int32) float64 {
 	}
 	if int(a.off[w+1]-a.off[w]) <= len(row)+len(pr) {
 		if i, ok := a.find(w, k); ok {
-			return a.s[i]
+			return a.went[i].s
 		}
 		return 0
 	}
@@ -798,7 +807,8 @@ func (a *Annotator) fillRow(st *state, k int32) {
 // holds without reading the topic's whole row.
 func (a *Annotator) group(st *state) {
 	for _, w := range st.uw {
-		for _, k := range a.topic[a.off[w]:a.off[w+1]] {
+		for _, e := range a.went[a.off[w]:a.off[w+1]] {
+			k := e.k
 			if st.bn[k] == 0 {
 				st.bT = append(st.bT, k)
 			}
@@ -814,8 +824,9 @@ func (a *Annotator) group(st *state) {
 	st.bent = slices.Grow(st.bent[:0], int(n))[:n]
 	for u, w := range st.uw {
 		lo, hi := a.off[w], a.off[w+1]
-		for i, k := range a.topic[lo:hi] {
-			st.bent[st.bo[k]+st.bn[k]] = bEntry{u: int32(u), s: a.s[lo+int32(i)]}
+		for _, e := range a.went[lo:hi] {
+			k := e.k
+			st.bent[st.bo[k]+st.bn[k]] = bEntry{u: int32(u), s: e.s}
 			st.bn[k]++
 		}
 	}
@@ -1071,7 +1082,18 @@ func (a *Annotator) draw(st *state, u int32, rng *rand.Rand, record bool) int32 
 	if x < a.q || a.off[w] == a.off[w+1] {
 		return a.dense.draw(rng)
 	}
-	return a.topic[a.off[w]+a.wal[w].draw(rng)]
+	// The word's alias table (Walker 1977, Vose 1991), in its list.
+	lo := a.off[w]
+	n := float64(a.off[w+1] - lo)
+	x = rng.Float64() * n
+	i := int(x)
+	if i >= int(n) {
+		i = int(n) - 1
+	}
+	if e := &a.went[lo+int32(i)]; x-float64(i) < e.p {
+		return e.k
+	}
+	return a.went[lo+int32(i)].alt
 }
 
 // post returns word type u's posterior of topic k (slot s, or -1).

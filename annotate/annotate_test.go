@@ -133,9 +133,11 @@ func (a *Annotator) conditional(st *state, u int32) []float64 {
 		for k, d := range a.dense.pmf() {
 			p[k] += a.q * d
 		}
-		lo := a.off[w]
-		for i, d := range a.wal[w].pmf() {
-			p[a.topic[lo+int32(i)]] += (aw - a.q) * d
+		lo, hi := a.off[w], a.off[w+1]
+		for _, e := range a.went[lo:hi] {
+			n := float64(hi - lo)
+			p[e.k] += (aw - a.q) * e.p / n
+			p[e.alt] += (aw - a.q) * (1 - e.p) / n
 		}
 	}
 	for k := range p {
