@@ -986,7 +986,10 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 // add changes n_dk by delta, keeping the slot's weight and the smoothing
 // bucket total in step.
 func (a *Annotator) add(st *state, k int32, delta int32) {
-	s := a.slotOf(st, k)
+	s := st.slot[k]
+	if s < 0 {
+		s = a.slotOf(st, k)
+	}
 	st.ndk[k] += delta
 	st.cs[s] = float64(st.ndk[k]) + st.ext[k] // recomputed: no drift
 	st.d += float64(delta) * st.phi0s[s]
@@ -1120,7 +1123,15 @@ func (a *Annotator) postAt(st *state, u, k, s int32, acc, sk, samples float64) f
 
 // freePost returns word type u's posterior mass on all free topics.
 func (a *Annotator) freePost(st *state, u int32, samples float64) float64 {
-	return a.freePostDS(st, u, samples, a.freeDSM(st))
+	n := float64(st.ucnt[u]) * samples
+	p := 0.0
+	for j, e := range st.nz[u] {
+		if int(st.slotTopic[e.s]) >= a.C {
+			p += st.wacc[u][j]
+		}
+	}
+	w := st.uw[u]
+	return p/n + st.dacc[u]/n*a.freeDSM(st)/samples + st.cacc[u]/n*a.awF[w]/a.aw[w]
 }
 
 // freeDSM is the free topics' total share of the smoothing bucket.
@@ -1132,17 +1143,6 @@ func (a *Annotator) freeDSM(st *state) float64 {
 		}
 	}
 	return ds
-}
-
-func (a *Annotator) freePostDS(st *state, u int32, samples, ds float64) float64 {
-	n := float64(st.ucnt[u]) * samples
-	p := 0.0
-	for j, e := range st.nz[u] {
-		if int(st.slotTopic[e.s]) >= a.C {
-			p += st.wacc[u][j]
-		}
-	}
-	return p/n + st.dacc[u]/n*ds/samples + st.cacc[u]/n*a.awF[st.uw[u]]/a.aw[st.uw[u]]
 }
 
 // summarise turns the accumulators into scores, paths, supports and words.
@@ -1230,7 +1230,11 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 		selectBest(ranked, want)
 		ranked = ranked[:want]
 	}
-	slices.SortFunc(ranked, func(x, y scored) int {
+	// The pool needs no order; the shown concepts do.
+	if len(ranked) > top {
+		selectBest(ranked, top)
+	}
+	slices.SortFunc(ranked[:min(top, len(ranked))], func(x, y scored) int {
 		switch {
 		case x.v > y.v:
 			return -1
@@ -1479,11 +1483,14 @@ func (a *Annotator) support(st *state, k int32, samples float64) []Support {
 			out = append(out, Support{Term: a.m.Words[w], Weight: wt})
 		}
 	}
-	sort.Slice(out, func(i, j int) bool {
-		if out[i].Weight != out[j].Weight {
-			return out[i].Weight > out[j].Weight
+	slices.SortFunc(out, func(x, y Support) int {
+		switch {
+		case x.Weight > y.Weight:
+			return -1
+		case x.Weight < y.Weight:
+			return 1
 		}
-		return out[i].Term < out[j].Term
+		return strings.Compare(x.Term, y.Term)
 	})
 	if len(out) > maxSupport {
 		out = out[:maxSupport]
@@ -1518,9 +1525,15 @@ func (a *Annotator) words(res *Result, text string, toks []terms.Token, st *stat
 				bk, bp = k, p
 			}
 		}
+		free := 0.0 // the free slots' word-bucket share, as freePostDS sums it
 		for j, e := range st.nz[u] {
 			k := st.slotTopic[e.s]
-			if acc := st.wacc[u][j]; acc > 0 && int(k) < a.C {
+			acc := st.wacc[u][j]
+			if int(k) >= a.C {
+				free += acc
+				continue
+			}
+			if acc > 0 {
 				if p := a.postAt(st, u, k, e.s, acc, e.v, samples); p > bp || (p == bp && k < bk) {
 					bk, bp = k, p
 				}
@@ -1535,7 +1548,8 @@ func (a *Annotator) words(res *Result, text string, toks []terms.Token, st *stat
 		if a.best[w] >= 0 {
 			try(a.best[w])
 		}
-		pf := a.freePostDS(st, u, samples, dsF)
+		n := float64(st.ucnt[u]) * samples
+		pf := free/n + st.dacc[u]/n*dsF/samples + st.cacc[u]/n*a.awF[w]/a.aw[w]
 		if pf > bp || bk < 0 {
 			ch[u] = choice{"", pf}
 		} else {
