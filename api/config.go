@@ -75,6 +75,10 @@ type Config struct {
 	// MetricsListen is the address of the HTTP listener serving /metrics;
 	// "off" disables it.
 	MetricsListen string
+	// Pprof adds the runtime profiles (net/http/pprof, under /debug/pprof/)
+	// to the metrics listener, for profiling the server under load. Off by
+	// default: profiles reveal internals and cost CPU while taken.
+	Pprof bool
 
 	// TLS: certificate and key files of the server (both or neither), and
 	// the CA bundle that client certificates must chain to (mutual TLS).

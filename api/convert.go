@@ -46,7 +46,9 @@ func RequestFromOptions(modelName, id, text string, o annotate.Options) *pb.Anno
 	return r
 }
 
-// ResultToProto converts an annotation result to its response message.
+// ResultToProto converts an annotation result to its response message. The
+// concepts, path nodes, supports and words are each allocated as one array
+// (a response to a 150-word record holds about a hundred such messages).
 func ResultToProto(res *annotate.Result) *pb.AnnotateResponse {
 	out := &pb.AnnotateResponse{
 		Id:              res.ID,
@@ -59,21 +61,47 @@ func ResultToProto(res *annotate.Result) *pb.AnnotateResponse {
 		UnknownSubjects: res.UnknownSubjects,
 		Concepts:        make([]*pb.AnnotatedConcept, len(res.Concepts)),
 	}
+	var nPath, nSupport int
+	for i := range res.Concepts {
+		nPath += len(res.Concepts[i].Path)
+		nSupport += len(res.Concepts[i].Support)
+	}
+	concepts := make([]pb.AnnotatedConcept, len(res.Concepts))
+	nodes := make([]pb.PathNode, nPath)
+	nodePtrs := make([]*pb.PathNode, nPath)
+	supports := make([]pb.Support, nSupport)
+	supportPtrs := make([]*pb.Support, nSupport)
 	for i := range res.Concepts {
 		c := &res.Concepts[i]
-		pc := &pb.AnnotatedConcept{Iri: c.IRI, Label: c.Label, Score: c.Score, Path: make([]*pb.PathNode, len(c.Path))}
+		pc := &concepts[i]
+		pc.Iri, pc.Label, pc.Score = c.IRI, c.Label, c.Score
+		pc.Path = nodePtrs[:len(c.Path):len(c.Path)]
+		nodePtrs = nodePtrs[len(c.Path):]
 		for j, n := range c.Path {
-			pc.Path[j] = &pb.PathNode{Iri: n.IRI, Label: n.Label, Score: n.Score}
+			pn := &nodes[j]
+			pn.Iri, pn.Label, pn.Score = n.IRI, n.Label, n.Score
+			pc.Path[j] = pn
 		}
-		for _, sp := range c.Support {
-			pc.Support = append(pc.Support, &pb.Support{Term: sp.Term, Weight: sp.Weight})
+		nodes = nodes[len(c.Path):]
+		if len(c.Support) > 0 {
+			pc.Support = supportPtrs[:len(c.Support):len(c.Support)]
+			supportPtrs = supportPtrs[len(c.Support):]
+			for j, sp := range c.Support {
+				ps := &supports[j]
+				ps.Term, ps.Weight = sp.Term, sp.Weight
+				pc.Support[j] = ps
+			}
+			supports = supports[len(c.Support):]
 		}
 		out.Concepts[i] = pc
 	}
 	if len(res.Words) > 0 {
+		words := make([]pb.Word, len(res.Words))
 		out.Words = make([]*pb.Word, len(res.Words))
 		for i, w := range res.Words {
-			out.Words[i] = &pb.Word{Start: int32(w.Start), End: int32(w.End), Text: w.Text, Term: w.Term, Concept: w.Concept, P: w.P}
+			pw := &words[i]
+			pw.Start, pw.End, pw.Text, pw.Term, pw.Concept, pw.P = int32(w.Start), int32(w.End), w.Text, w.Term, w.Concept, w.P
+			out.Words[i] = pw
 		}
 	}
 	return out

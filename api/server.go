@@ -9,6 +9,7 @@ import (
 	"log/slog"
 	"net"
 	"net/http"
+	"net/http/pprof"
 	"os"
 	"runtime/debug"
 	"sync"
@@ -87,6 +88,11 @@ func NewServer(cfg Config) (*Server, error) {
 		grpc.ChainUnaryInterceptor(s.unaryInterceptor),
 		grpc.ChainStreamInterceptor(s.streamInterceptor),
 		grpc.InTapHandle(s.shed),
+		// Calls run on a pool of goroutines whose stacks have already grown,
+		// rather than one new goroutine each (whose stack grows by copying
+		// on every call): as many as Annotate calls the shed lets in. Calls
+		// beyond, and long streams, get a goroutine of their own as before.
+		grpc.NumStreamWorkers(uint32(2 * cfg.MaxConcurrent)),
 		// Bounds the streams (and so goroutines and buffers) one connection
 		// can hold; calls are short, so only a misbehaving client meets it.
 		grpc.MaxConcurrentStreams(uint32(max(1024, 8*cfg.MaxConcurrent))),
@@ -220,6 +226,13 @@ func (s *Server) Serve() error {
 		mux.HandleFunc("/healthz", func(w http.ResponseWriter, r *http.Request) {
 			w.Write([]byte("ok\n"))
 		})
+		if s.cfg.Pprof {
+			mux.HandleFunc("/debug/pprof/", pprof.Index)
+			mux.HandleFunc("/debug/pprof/cmdline", pprof.Cmdline)
+			mux.HandleFunc("/debug/pprof/profile", pprof.Profile)
+			mux.HandleFunc("/debug/pprof/symbol", pprof.Symbol)
+			mux.HandleFunc("/debug/pprof/trace", pprof.Trace)
+		}
 		s.metricsHTTP = &http.Server{Handler: mux, ReadHeaderTimeout: 10 * time.Second}
 		go func(h *http.Server) {
 			if err := h.Serve(mlis); err != nil && !errors.Is(err, http.ErrServerClosed) {

@@ -485,6 +485,25 @@ func TestMetrics(t *testing.T) {
 	}
 }
 
+func TestPprof(t *testing.T) {
+	get := func(ts *testServer) (int, string) {
+		resp, err := http.Get("http://" + ts.s.MetricsAddr().String() + "/debug/pprof/")
+		if err != nil {
+			t.Fatal(err)
+		}
+		body, _ := io.ReadAll(resp.Body)
+		resp.Body.Close()
+		return resp.StatusCode, string(body)
+	}
+	if code, _ := get(startServer(t, Config{}, nil)); code != http.StatusNotFound {
+		t.Fatalf("profiles served by default: HTTP %d", code)
+	}
+	code, body := get(startServer(t, Config{Pprof: true}, nil))
+	if code != http.StatusOK || !strings.Contains(body, "goroutine") {
+		t.Fatalf("with Pprof: HTTP %d %.200s", code, body)
+	}
+}
+
 func TestReloadUnderTraffic(t *testing.T) {
 	ts := startServer(t, Config{MaxConcurrent: 16}, nil)
 	stop := make(chan struct{})

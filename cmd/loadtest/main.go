@@ -64,6 +64,9 @@ type options struct {
 	timeout                  time.Duration
 	jsonOut                  bool
 	maxOutstanding           int
+	checkEvery               int
+	batch                    int
+	busyBackoff              time.Duration
 }
 
 func run(args []string) int {
@@ -74,7 +77,7 @@ func run(args []string) int {
 	fs.StringVar(&o.addr, "addr", "127.0.0.1:7400", "server gRPC address (loopback only)")
 	fs.StringVar(&o.metrics, "metrics", "127.0.0.1:7401", "server metrics address (loopback only; \"off\": no memory figures)")
 	fs.StringVar(&o.modelName, "model", "", "model name on the server")
-	fs.StringVar(&o.mode, "mode", "sweep", "sweep (closed loop per concurrency), rate (open loop at -rate), or local (the annotator in this process, no server: the reference)")
+	fs.StringVar(&o.mode, "mode", "sweep", "sweep (closed loop per concurrency), stream (closed loop per concurrency of AnnotateStream streams, -batch records a message), rate (open loop at -rate), or local (the annotator in this process, no server: the reference)")
 	concList := fs.String("concurrency", "1,8,64", "sweep: concurrencies")
 	fs.Float64Var(&o.rate, "rate", 1000, "rate: calls per second")
 	fs.DurationVar(&o.duration, "duration", 10*time.Second, "time per step (at most 15m)")
@@ -87,6 +90,9 @@ func run(args []string) int {
 	fs.DurationVar(&o.timeout, "timeout", 10*time.Second, "deadline of each call")
 	fs.BoolVar(&o.jsonOut, "json", false, "print results as JSON lines")
 	fs.IntVar(&o.maxOutstanding, "max-outstanding", 1024, "rate: calls in progress at most; a call due beyond it is not sent and counted late")
+	fs.IntVar(&o.checkEvery, "check-every", 16, "decode and check every Nth response in full (1: all); the others are only counted, to keep the load tool's own CPU low")
+	fs.IntVar(&o.batch, "batch", 32, "stream: records per AnnotateStream message")
+	fs.DurationVar(&o.busyBackoff, "busy-backoff", 0, "sweep: a worker whose call gets RESOURCE_EXHAUSTED waits this long before its next call (0: at once)")
 	if err := fs.Parse(args); err != nil {
 		return 2
 	}
@@ -104,6 +110,10 @@ func run(args []string) int {
 			fmt.Fprintf(os.Stderr, "loadtest: %s is not a loopback address; refusing\n", a)
 			return 2
 		}
+	}
+	if o.checkEvery < 1 || o.batch < 1 {
+		fmt.Fprintln(os.Stderr, "loadtest: -check-every and -batch must be at least 1")
+		return 2
 	}
 	if o.duration <= 0 || o.duration > 15*time.Minute {
 		fmt.Fprintln(os.Stderr, "loadtest: -duration must be in (0, 15m]")
@@ -144,20 +154,28 @@ func run(args []string) int {
 		}
 		return 0
 	}
-	conns := make([]pb.AnnotationServiceClient, o.conns)
+	conns := make([]*grpc.ClientConn, o.conns)
 	for i := range conns {
-		cc, err := grpc.NewClient(o.addr, grpc.WithTransportCredentials(insecure.NewCredentials()))
+		cc, err := grpc.NewClient(o.addr, grpc.WithTransportCredentials(insecure.NewCredentials()),
+			grpc.WithDefaultCallOptions(grpc.ForceCodecV2(wireCodec{})))
 		if err != nil {
 			fmt.Fprintln(os.Stderr, "loadtest:", err)
 			return 2
 		}
 		defer cc.Close()
-		conns[i] = pb.NewAnnotationServiceClient(cc)
+		conns[i] = cc
 	}
-	// Warm up: connections, the server's pools and caches.
+	reqs, err := prepare(o.modelName, texts)
+	if err != nil {
+		fmt.Fprintln(os.Stderr, "loadtest:", err)
+		return 2
+	}
+	// Warm up: connections, the server's pools and caches; every answer is
+	// checked in full.
 	ctx, cancel := context.WithTimeout(context.Background(), 30*time.Second)
 	for i := range 200 {
-		if _, err := conns[i%len(conns)].Annotate(ctx, &pb.AnnotateRequest{Model: o.modelName, Text: texts[i%len(texts)]}, grpc.WaitForReady(true)); err != nil {
+		r := &reqs[i%len(reqs)]
+		if err := call(ctx, conns[i%len(conns)], r, true, grpc.WaitForReady(true)); err != nil {
 			fmt.Fprintln(os.Stderr, "loadtest: warm-up:", err)
 			cancel()
 			return 1
@@ -169,10 +187,14 @@ func run(args []string) int {
 	switch o.mode {
 	case "sweep":
 		for _, c := range o.conc {
-			report(&o, fmt.Sprintf("concurrency=%d", c), closedLoop(&o, conns, texts, c))
+			report(&o, fmt.Sprintf("concurrency=%d", c), closedLoop(&o, conns, reqs, c))
+		}
+	case "stream":
+		for _, c := range o.conc {
+			report(&o, fmt.Sprintf("streams=%d batch=%d", c, o.batch), streamLoop(&o, conns, texts, c))
 		}
 	case "rate":
-		report(&o, fmt.Sprintf("rate=%.0f/s", o.rate), openLoop(&o, conns, texts))
+		report(&o, fmt.Sprintf("rate=%.0f/s", o.rate), openLoop(&o, conns, reqs))
 	default:
 		fmt.Fprintf(os.Stderr, "loadtest: unknown -mode %q\n", o.mode)
 		return 2
@@ -347,7 +369,7 @@ func (r *recorder) result(step string, el time.Duration) result {
 }
 
 // closedLoop runs c workers, each sending its next call when the last ends.
-func closedLoop(o *options, conns []pb.AnnotationServiceClient, texts []string, c int) result {
+func closedLoop(o *options, conns []*grpc.ClientConn, reqs []prepared, c int) result {
 	var rec recorder
 	stopMem := sampleServer(o)
 	start := time.Now()
@@ -357,16 +379,85 @@ func closedLoop(o *options, conns []pb.AnnotationServiceClient, texts []string, 
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			cl := conns[w%len(conns)]
+			cc := conns[w%len(conns)]
 			for i := w; time.Now().Before(end); i += c {
 				if rec.sent.Add(1) > int64(o.maxRequests) {
 					return
 				}
 				t0 := time.Now()
 				ctx, cancel := context.WithTimeout(context.Background(), o.timeout)
-				_, err := cl.Annotate(ctx, &pb.AnnotateRequest{Model: o.modelName, Id: strconv.Itoa(i), Text: texts[i%len(texts)]})
+				err := call(ctx, cc, &reqs[i%len(reqs)], i%o.checkEvery == 0)
 				cancel()
 				rec.add(time.Since(t0), err)
+				if o.busyBackoff > 0 && status.Code(err) == codes.ResourceExhausted {
+					time.Sleep(o.busyBackoff)
+				}
+			}
+		}()
+	}
+	wg.Wait()
+	res := rec.result("", time.Since(start))
+	res.Server = stopMem()
+	return res
+}
+
+// streamLoop runs c AnnotateStream streams, each sending a message of
+// o.batch records when the answer to its last one has arrived; every
+// record counts as one call, with the latency of its message.
+func streamLoop(o *options, conns []*grpc.ClientConn, texts []string, c int) result {
+	var rec recorder
+	stopMem := sampleServer(o)
+	start := time.Now()
+	end := start.Add(o.duration)
+	var wg sync.WaitGroup
+	for w := range c {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			ctx, cancel := context.WithTimeout(context.Background(), o.duration+o.timeout)
+			defer cancel()
+			cl := pb.NewAnnotationServiceClient(conns[w%len(conns)])
+			st, err := cl.AnnotateStream(ctx)
+			if err != nil {
+				rec.add(0, err)
+				return
+			}
+			defer st.CloseSend()
+			msg := &pb.AnnotateStreamRequest{Records: make([]*pb.AnnotateRequest, o.batch)}
+			for i := w * o.batch; time.Now().Before(end); i += c * o.batch {
+				if rec.sent.Add(int64(o.batch)) > int64(o.maxRequests) {
+					return
+				}
+				for j := range msg.Records {
+					k := i + j
+					msg.Records[j] = &pb.AnnotateRequest{Model: o.modelName, Id: strconv.Itoa(k), Text: texts[k%len(texts)]}
+				}
+				t0 := time.Now()
+				if err := st.Send(msg); err != nil {
+					rec.add(time.Since(t0), err)
+					return
+				}
+				out, err := st.Recv()
+				d := time.Since(t0)
+				if err != nil {
+					rec.add(d, err)
+					return
+				}
+				if len(out.GetResults()) != o.batch {
+					rec.add(d, status.Errorf(codes.DataLoss, "%d results for %d records", len(out.GetResults()), o.batch))
+					return
+				}
+				for j, r := range out.GetResults() {
+					if r.GetId() != msg.Records[j].GetId() {
+						rec.add(d, status.Errorf(codes.DataLoss, "result %d has id %q, want %q", j, r.GetId(), msg.Records[j].GetId()))
+						continue
+					}
+					if e := r.GetError(); e != nil {
+						rec.add(d, status.Error(codes.Code(e.GetCode()), e.GetMessage()))
+						continue
+					}
+					rec.add(d, nil)
+				}
 			}
 		}()
 	}
@@ -404,7 +495,7 @@ func localLoop(o *options, a *annotate.Annotator, texts []string, c int) result 
 // openLoop sends calls at o.rate per second for o.duration, each from its
 // scheduled time; at most o.maxOutstanding calls are in progress (a call
 // due beyond that is not sent and is counted late: the client is saturated).
-func openLoop(o *options, conns []pb.AnnotationServiceClient, texts []string) result {
+func openLoop(o *options, conns []*grpc.ClientConn, reqs []prepared) result {
 	var rec recorder
 	stopMem := sampleServer(o)
 	start := time.Now()
@@ -436,7 +527,7 @@ func openLoop(o *options, conns []pb.AnnotationServiceClient, texts []string) re
 				go func() {
 					defer wg.Done()
 					ctx, cancel := context.WithTimeout(context.Background(), o.timeout)
-					_, err := conns[i%len(conns)].Annotate(ctx, &pb.AnnotateRequest{Model: o.modelName, Id: strconv.Itoa(i), Text: texts[i%len(texts)]})
+					err := call(ctx, conns[i%len(conns)], &reqs[i%len(reqs)], i%o.checkEvery == 0)
 					cancel()
 					rec.add(time.Since(due), err)
 					<-slots
@@ -507,10 +598,13 @@ func sampleServer(o *options) func() *serverStats {
 	}
 }
 
+// scraper reads the server's metrics page uncompressed, so that sampling it
+// once a second costs the server no gzip work.
+var scraper = &http.Client{Timeout: 2 * time.Second, Transport: &http.Transport{DisableCompression: true}}
+
 // scrape reads the plain (unlabelled) samples of a Prometheus text page.
 func scrape(addr string) (map[string]float64, error) {
-	cl := http.Client{Timeout: 2 * time.Second}
-	resp, err := cl.Get("http://" + addr + "/metrics")
+	resp, err := scraper.Get("http://" + addr + "/metrics")
 	if err != nil {
 		return nil, err
 	}
@@ -538,8 +632,7 @@ const annotateHist = `termgrove_grpc_request_duration_seconds_bucket{method="/te
 
 // scrapeHist reads the cumulative bucket counts of annotateHist by bound.
 func scrapeHist(addr string) (map[float64]float64, error) {
-	cl := http.Client{Timeout: 2 * time.Second}
-	resp, err := cl.Get("http://" + addr + "/metrics")
+	resp, err := scraper.Get("http://" + addr + "/metrics")
 	if err != nil {
 		return nil, err
 	}

@@ -40,6 +40,7 @@ func cmdServe(args []string) int {
 	fs.Var(&models, "model", "`[name=]path` of a model file; repeat for several (name defaults to the file name without .grove)")
 	listen := fs.String("listen", api.DefaultListen, "gRPC address; loopback by default, give e.g. 0.0.0.0:7400 to serve other hosts")
 	metricsListen := fs.String("metrics-listen", api.DefaultMetricsListen, "HTTP address of /metrics (Prometheus) and /healthz; \"off\" disables it")
+	pprofOn := fs.Bool("pprof", false, "also serve Go runtime profiles under /debug/pprof/ on --metrics-listen (for profiling; keep that listener private)")
 	tlsCert := fs.String("tls-cert", "", "server certificate (PEM); with --tls-key turns TLS on")
 	tlsKey := fs.String("tls-key", "", "server private key (PEM)")
 	tlsClientCA := fs.String("tls-client-ca", "", "CA bundle (PEM) that client certificates must chain to: turns mutual TLS on")
@@ -97,6 +98,7 @@ Options:
 		Models:           models,
 		Listen:           *listen,
 		MetricsListen:    *metricsListen,
+		Pprof:            *pprofOn,
 		TLSCert:          *tlsCert,
 		TLSKey:           *tlsKey,
 		TLSClientCA:      *tlsClientCA,
@@ -118,6 +120,7 @@ Options:
 		fmt.Fprintf(os.Stderr, "termgrove serve: %v\n", err)
 		return 2
 	}
+
 	ctx, stop := signal.NotifyContext(context.Background(), syscall.SIGTERM, syscall.SIGINT)
 	defer stop()
 	hup := make(chan os.Signal, 1)
