@@ -6,9 +6,12 @@ import (
 	"fmt"
 	"io"
 	"log/slog"
+	"runtime"
 	"runtime/debug"
 	"strconv"
 	"strings"
+	"sync"
+	"sync/atomic"
 	"time"
 
 	"google.golang.org/grpc/codes"
@@ -66,9 +69,27 @@ func (s *Server) Annotate(ctx context.Context, r *pb.AnnotateRequest) (*pb.Annot
 // RESOURCE_EXHAUSTED, and runs the annotator with panics turned into
 // INTERNAL.
 func (s *Server) annotateOne(ctx context.Context, r *pb.AnnotateRequest, prefix string) (*pb.AnnotateResponse, error) {
-	sv, err := s.pick(r.GetModel(), join(prefix, "model"))
+	sv, cur, err := s.prepare(ctx, r, prefix)
 	if err != nil {
 		return nil, err
+	}
+	select {
+	case s.sem <- struct{}{}:
+	default:
+		s.metrics.annotations.WithLabelValues(sv.spec.Name, codes.ResourceExhausted.String()).Inc()
+		return nil, errBusy
+	}
+	res, err := s.run(sv, cur, r)
+	<-s.sem
+	return s.finish(ctx, sv, res, err)
+}
+
+// prepare picks the model of a validated request and checks its subjects
+// against it.
+func (s *Server) prepare(ctx context.Context, r *pb.AnnotateRequest, prefix string) (*served, *loaded, error) {
+	sv, err := s.pick(r.GetModel(), join(prefix, "model"))
+	if err != nil {
+		return nil, nil, err
 	}
 	cur := sv.cur.Load()
 	if sc := cur.m.Scheme; sc != nil {
@@ -79,30 +100,35 @@ func (s *Server) annotateOne(ctx context.Context, r *pb.AnnotateRequest, prefix 
 			}
 		}
 		if err := v.err(); err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 	}
 	if err := ctx.Err(); err != nil {
-		return nil, status.FromContextError(err).Err()
+		return nil, nil, status.FromContextError(err).Err()
 	}
-	select {
-	case s.sem <- struct{}{}:
-	default:
-		s.metrics.annotations.WithLabelValues(sv.spec.Name, codes.ResourceExhausted.String()).Inc()
-		return nil, errBusy
-	}
+	return sv, cur, nil
+}
+
+// run annotates r with cur's annotator; the caller holds a slot.
+func (s *Server) run(sv *served, cur *loaded, r *pb.AnnotateRequest) (*annotate.Result, error) {
 	s.metrics.enter()
 	start := time.Now()
 	res, err := s.runAnnotator(cur.ann, r)
 	s.metrics.leave()
-	<-s.sem
-	code := status.Code(err)
-	s.metrics.annotations.WithLabelValues(sv.spec.Name, code.String()).Inc()
+	s.metrics.annotations.WithLabelValues(sv.spec.Name, status.Code(err).String()).Inc()
 	if err != nil {
 		return nil, err
 	}
 	s.metrics.annLatency.WithLabelValues(sv.spec.Name).Observe(time.Since(start).Seconds())
 	s.metrics.tokens.WithLabelValues(sv.spec.Name).Add(float64(res.Tokens))
+	return res, nil
+}
+
+// finish turns the outcome of run into the response.
+func (s *Server) finish(ctx context.Context, sv *served, res *annotate.Result, err error) (*pb.AnnotateResponse, error) {
+	if err != nil {
+		return nil, err
+	}
 	if err := ctx.Err(); err != nil {
 		// The caller gave up meanwhile; say so rather than pretend success.
 		return nil, status.FromContextError(err).Err()
@@ -160,31 +186,118 @@ func (s *Server) AnnotateStream(stream pb.AnnotationService_AnnotateStreamServer
 			v.add("records", "%d records in one message, more than the server's limit of %d", len(recs), s.cfg.MaxStreamRecords)
 			return v.err()
 		}
-		out := &pb.AnnotateStreamResponse{Results: make([]*pb.AnnotateStreamResult, len(recs))}
-		for i, r := range recs {
-			prefix := "records[" + strconv.Itoa(i) + "]"
-			res := &pb.AnnotateStreamResult{Id: r.GetId()}
-			var v violations
-			validateAnnotate(r, prefix, s.cfg.MaxTextBytes, &v)
-			err := v.err()
-			var a *pb.AnnotateResponse
-			if err == nil {
-				a, err = s.annotateOne(ctx, r, prefix)
-			}
-			if err != nil {
-				if ctx.Err() != nil {
-					return status.FromContextError(ctx.Err()).Err()
-				}
-				res.Outcome = &pb.AnnotateStreamResult_Error{Error: recordError(err)}
-			} else {
-				res.Outcome = &pb.AnnotateStreamResult_Annotation{Annotation: a}
-			}
-			out.Results[i] = res
+		out := &pb.AnnotateStreamResponse{Results: s.annotateBatch(ctx, recs)}
+		if err := ctx.Err(); err != nil {
+			return status.FromContextError(err).Err()
 		}
 		if err := stream.Send(out); err != nil {
 			return err
 		}
 	}
+}
+
+// batchRecord is one record of a stream message on its way through
+// annotateBatch.
+type batchRecord struct {
+	r   *pb.AnnotateRequest
+	sv  *served
+	cur *loaded
+	res *pb.AnnotateStreamResult
+}
+
+// annotateBatch annotates the records of one stream message and returns
+// their results in order. Records that pass validation are annotated by
+// up to GOMAXPROCS workers at once, each holding an annotation slot for the
+// whole message: the slots are taken without waiting, as many as are free;
+// with none free every such record gets RESOURCE_EXHAUSTED, as a unary call
+// would.
+func (s *Server) annotateBatch(ctx context.Context, recs []*pb.AnnotateRequest) []*pb.AnnotateStreamResult {
+	results := make([]*pb.AnnotateStreamResult, len(recs))
+	todo := make([]batchRecord, 0, len(recs))
+	for i, r := range recs {
+		prefix := "records[" + strconv.Itoa(i) + "]"
+		res := &pb.AnnotateStreamResult{Id: r.GetId()}
+		results[i] = res
+		var v violations
+		validateAnnotate(r, prefix, s.cfg.MaxTextBytes, &v)
+		err := v.err()
+		var sv *served
+		var cur *loaded
+		if err == nil {
+			sv, cur, err = s.prepare(ctx, r, prefix)
+		}
+		if err != nil {
+			res.Outcome = &pb.AnnotateStreamResult_Error{Error: recordError(err)}
+			continue
+		}
+		todo = append(todo, batchRecord{r: r, sv: sv, cur: cur, res: res})
+	}
+	workers := 0
+take:
+	for workers < min(len(todo), runtime.GOMAXPROCS(0)) {
+		select {
+		case s.sem <- struct{}{}:
+			workers++
+		default:
+			break take
+		}
+	}
+	if workers == 0 {
+		for _, b := range todo {
+			s.metrics.annotations.WithLabelValues(b.sv.spec.Name, codes.ResourceExhausted.String()).Inc()
+			b.res.Outcome = &pb.AnnotateStreamResult_Error{Error: recordError(errBusy)}
+		}
+		return results
+	}
+	var next atomic.Int64
+	work := func() {
+		defer func() { <-s.sem }()
+		for {
+			i := int(next.Add(1)) - 1
+			if i >= len(todo) {
+				return
+			}
+			s.annotateRecord(ctx, &todo[i])
+		}
+	}
+	var wg sync.WaitGroup
+	for range workers - 1 {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			work()
+		}()
+	}
+	work()
+	wg.Wait()
+	return results
+}
+
+// annotateRecord annotates one record of a batch with a slot held, and sets
+// its outcome. A panic (the annotator's own are already turned into
+// INTERNAL by runAnnotator) becomes INTERNAL for this record: it may run on
+// a goroutine of its own, out of the interceptor's reach.
+func (s *Server) annotateRecord(ctx context.Context, b *batchRecord) {
+	defer func() {
+		if p := recover(); p != nil {
+			err := s.panicked(ServiceName+"/AnnotateStream", p)
+			b.res.Outcome = &pb.AnnotateStreamResult_Error{Error: recordError(err)}
+		}
+	}()
+	var a *pb.AnnotateResponse
+	err := ctx.Err()
+	if err != nil {
+		err = status.FromContextError(err).Err()
+	} else {
+		var res *annotate.Result
+		res, err = s.run(b.sv, b.cur, b.r)
+		a, err = s.finish(ctx, b.sv, res, err)
+	}
+	if err != nil {
+		b.res.Outcome = &pb.AnnotateStreamResult_Error{Error: recordError(err)}
+		return
+	}
+	b.res.Outcome = &pb.AnnotateStreamResult_Annotation{Annotation: a}
 }
 
 // recordError turns a status error into a streamed record's error.
