@@ -963,11 +963,19 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 			continue
 		}
 		for i, u := range st.tu {
-			if sweep > 0 {
-				a.add(st, st.z[i], -1)
+			// Take token i out as add(k0, -1) would, but only commit it
+			// when the token moves: it often stays, and then the slot's
+			// weight and the bucket total are put back exactly.
+			k0 := st.z[i]
+			out := st.takeOut(k0)
+			k := a.draw(st, u, rng, record)
+			if k == k0 {
+				st.putBack(out)
+				continue
 			}
-			st.z[i] = a.draw(st, u, rng, record)
-			a.add(st, st.z[i], 1)
+			st.commitOut(k0, out)
+			st.z[i] = k
+			a.add(st, k, 1)
 		}
 		if record {
 			dn := 0.0
@@ -997,6 +1005,34 @@ func (a *Annotator) add(st *state, k int32, delta int32) {
 		st.activate(s)
 	} else {
 		st.deactivate(s)
+	}
+}
+
+// taken is what putBack needs to undo takeOut.
+type taken struct {
+	s      int32
+	c0, d0 float64
+}
+
+// takeOut removes one token of topic k from the weights draw reads (slot
+// weight and smoothing bucket), as add(k, -1) would, but leaves n_dk and
+// the active list alone until commitOut.
+func (st *state) takeOut(k int32) taken {
+	s := st.slot[k]
+	t := taken{s, st.cs[s], st.d}
+	st.cs[s] = float64(st.ndk[k]-1) + st.ext[k]
+	st.d -= st.phi0s[s]
+	return t
+}
+
+// putBack restores the weights exactly.
+func (st *state) putBack(t taken) { st.cs[t.s], st.d = t.c0, t.d0 }
+
+// commitOut finishes takeOut: the token has left topic k.
+func (st *state) commitOut(k int32, t taken) {
+	st.ndk[k]--
+	if st.cs[t.s] <= 0 {
+		st.deactivate(t.s)
 	}
 }
 

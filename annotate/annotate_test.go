@@ -211,10 +211,28 @@ func testConditionalEqualsDense(t *testing.T, maxList int) {
 		if _, err := a.infer(res, "", toks, opt, st); err != nil {
 			t.Fatal(err)
 		}
-		// Take one token out, as draw sees it, and compare.
+		// The sweeps left counts, weights and the bucket total in step.
+		cnt := map[int32]int32{}
+		for _, k := range st.z {
+			cnt[k]++
+		}
+		dsum := 0.0
+		for s, k := range st.slotTopic {
+			if st.ndk[k] != cnt[k] || st.cs[s] != float64(st.ndk[k])+st.ext[k] {
+				t.Fatalf("%s: topic %d: n_dk %d, tokens %d, weight %v", mode, k, st.ndk[k], cnt[k], st.cs[s])
+			}
+			if (st.cs[s] > 0) != (st.pos[s] >= 0) {
+				t.Fatalf("%s: topic %d: weight %v, active position %d", mode, k, st.cs[s], st.pos[s])
+			}
+			dsum += st.cs[s] * st.phi0s[s]
+		}
+		if math.Abs(dsum-st.d) > 1e-12*dsum {
+			t.Fatalf("%s: smoothing bucket %v, sum %v", mode, st.d, dsum)
+		}
+		// Take one token out, as the sweeps do, and compare.
 		for i := 0; i < 5; i++ {
 			k := st.z[i]
-			a.add(st, k, -1)
+			st.commitOut(k, st.takeOut(k))
 			u := st.tu[i]
 			w := int(st.uw[u])
 			got := a.conditional(st, u)
@@ -267,7 +285,7 @@ func testDrawFrequencies(t *testing.T, maxList int) {
 		if _, err := a.infer(&Result{}, "", toks, opt, st); err != nil {
 			t.Fatal(err)
 		}
-		a.add(st, st.z[0], -1) // token 0 out, as draw sees it
+		st.commitOut(st.z[0], st.takeOut(st.z[0])) // token 0 out, as draw sees it
 		u := st.tu[0]
 		want := a.conditional(st, u)
 		const n = 300000
