@@ -216,7 +216,7 @@ var pageTmpl = template.Must(template.New("page").Funcs(template.FuncMap{
 	"pct":   func(x float64) string { return strconv.FormatFloat(100*x, 'f', 2, 64) + "%" },
 	"num":   func(x float64) string { return strconv.FormatFloat(x, 'f', 2, 64) },
 	"heat": func(x float64) template.CSS {
-		// Unused concepts are drawn apart; others from pale to deep green
+		// Unused concepts (the page passes 0) are drawn apart; others from pale to deep green
 		// on a log scale of their subtree share.
 		if x <= 0 {
 			return "background:#f3d9d6"
@@ -275,9 +275,9 @@ Colour shows each concept's share of the collection's words (with everything bel
 
 <h2 id="tree">The vocabulary as the collection uses it</h2>
 <div id="hierarchy">
-{{define "node"}}{{if .Children}}<details{{if gt .Subtree 0.02}} open{{end}}><summary style="{{heat .Subtree}}" class="{{if .Unused}}unused{{end}}" title="{{.IRI}}">{{.Label}} <span class="muted">{{pct .Subtree}} · {{.Records}} records</span></summary>
+{{define "node"}}{{if .Children}}<details{{if gt .Subtree 0.02}} open{{end}}><summary style="{{if .Unused}}{{heat 0.0}}{{else}}{{heat .Subtree}}{{end}}" class="{{if .Unused}}unused{{end}}" title="{{.IRI}}">{{.Label}} <span class="muted">{{pct .Subtree}} · {{.Records}} records</span></summary>
 {{range .Children}}{{template "node" .}}{{end}}</details>
-{{else}}<div class="leaf {{if .Unused}}unused{{end}}" style="{{heat .Subtree}}" title="{{.IRI}}">{{.Label}} <span class="muted">{{pct .Subtree}} · {{.Records}} records</span></div>
+{{else}}<div class="leaf {{if .Unused}}unused{{end}}" style="{{if .Unused}}{{heat 0.0}}{{else}}{{heat .Subtree}}{{end}}" title="{{.IRI}}">{{.Label}} <span class="muted">{{pct .Subtree}} · {{.Records}} records</span></div>
 {{end}}{{end}}
 {{range .Tree}}{{template "node" .}}{{end}}
 </div>
