@@ -201,7 +201,10 @@ fi
 shot() { # shot PAGE OUT.png HEIGHT [ANCHOR [TEXT]]
   local page=$1 png=$2 height=$3 anchor=${4:-} text=${5:-} url profile wrap=""
   profile=$(mktemp -d)
-  url="file://$PWD/$page"
+  case $page in
+  /*) url="file://$page" ;;
+  *) url="file://$PWD/$page" ;;
+  esac
   if [ -n "$anchor" ]; then
     wrap="$out/.shot.html"
     cat >"$wrap" <<EOF
