@@ -1561,7 +1561,10 @@ func (a *Annotator) words(res *Result, text string, toks []terms.Token, st *stat
 				bk, bp = k, p
 			}
 		}
-		free := 0.0 // the free slots' word-bucket share, as freePostDS sums it
+		n := float64(st.ucnt[u]) * samples
+		invN := 1 / n
+		dn, cn := st.dacc[u]*invN/samples, st.cacc[u]*invN/a.aw[w]
+		free := 0.0 // the free slots' word-bucket share, as freePost sums it
 		for j, e := range st.nz[u] {
 			k := st.slotTopic[e.s]
 			acc := st.wacc[u][j]
@@ -1570,7 +1573,9 @@ func (a *Annotator) words(res *Result, text string, toks []terms.Token, st *stat
 				continue
 			}
 			if acc > 0 {
-				if p := a.postAt(st, u, k, e.s, acc, e.v, samples); p > bp || (p == bp && k < bk) {
+				// postAt, with the word type's factors taken out
+				p := acc*invN + dn*st.dsm[e.s] + cn*a.alpha[k]*(a.phi0[k]+e.v)
+				if p > bp || (p == bp && k < bk) {
 					bk, bp = k, p
 				}
 			}
@@ -1584,7 +1589,6 @@ func (a *Annotator) words(res *Result, text string, toks []terms.Token, st *stat
 		if a.best[w] >= 0 {
 			try(a.best[w])
 		}
-		n := float64(st.ucnt[u]) * samples
 		pf := free/n + st.dacc[u]/n*dsF/samples + st.cacc[u]/n*a.awF[w]/a.aw[w]
 		if pf > bp || bk < 0 {
 			ch[u] = choice{"", pf}
