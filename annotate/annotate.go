@@ -1257,6 +1257,9 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 	if len(a.m.Related) == a.C && !st.allow {
 		cand = a.addRelated(cand, score, &rel)
 	}
+	if !st.allow {
+		cand, score = a.calibrated(cand, score) // calibrate.go
+	}
 	ranked := st.ranked[:0]
 	for _, k := range cand {
 		ranked = append(ranked, scored{k, score(k)})
@@ -1266,11 +1269,13 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 		selectBest(ranked, want)
 		ranked = ranked[:want]
 	}
-	// The pool needs no order; the shown concepts do.
-	if len(ranked) > top {
-		selectBest(ranked, top)
+	// The pool needs no order; the shown concepts do, and as many more as
+	// deprecated concepts could take their places.
+	sel := top + a.deprecated(ranked)
+	if len(ranked) > sel {
+		selectBest(ranked, sel)
 	}
-	slices.SortFunc(ranked[:min(top, len(ranked))], func(x, y scored) int {
+	slices.SortFunc(ranked[:min(sel, len(ranked))], func(x, y scored) int {
 		switch {
 		case x.v > y.v:
 			return -1
@@ -1284,20 +1289,22 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 		cand[i] = ranked[i].k
 	}
 	pool := cand
-	shown := slices.Clone(cand[:min(top, len(cand))])
-	n := 0
-	for _, k := range shown {
-		// A deprecated concept keeps its topic (its words still need a
-		// home) but is never suggested: an indexer must not assign it.
-		if s := a.m.Scheme; s != nil && int(k) < len(s.Concepts) && s.Concepts[k].Deprecated {
+	// The first top concepts of the ranking that may be suggested: a
+	// deprecated concept keeps its topic (its words still need a home) but
+	// is never suggested, and the next one takes its place, so that Top
+	// concepts are returned whenever the pool holds them.
+	var shown []int32
+	for _, k := range cand[:min(sel, len(cand))] {
+		if len(shown) == top {
+			break
+		}
+		if a.isDeprecated(k) {
 			continue
 		}
 		if score(k) >= opt.MinScore {
-			shown[n] = k
-			n++
+			shown = append(shown, k)
 		}
 	}
-	shown = shown[:n]
 
 	// Aggregated scores: own plus the descendants among pool. Each pool
 	// concept adds its score once to every ancestor (poly-hierarchy: once,
@@ -1427,6 +1434,24 @@ type scored struct {
 
 // better orders by score, highest first, then by topic.
 func (x scored) better(y scored) bool { return x.v > y.v || (x.v == y.v && x.k < y.k) }
+
+// isDeprecated reports whether concept k is deprecated: it keeps its topic
+// (its words still need a home) but is never suggested.
+func (a *Annotator) isDeprecated(k int32) bool {
+	s := a.m.Scheme
+	return s != nil && int(k) < len(s.Concepts) && s.Concepts[k].Deprecated
+}
+
+// deprecated counts the deprecated concepts in r.
+func (a *Annotator) deprecated(r []scored) int {
+	n := 0
+	for _, x := range r {
+		if a.isDeprecated(x.k) {
+			n++
+		}
+	}
+	return n
+}
 
 // selectBest moves the n best of r (0 < n < len(r)) to r[:n], in no
 // particular order (Hoare's selection, median-of-three pivots; the order is

@@ -33,6 +33,9 @@ func TestDeprecatedNotSuggested(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	if len(res.Concepts) != 3 {
+		t.Errorf("%d concepts returned for Top 3: the next concept must take the deprecated one's place", len(res.Concepts))
+	}
 	for _, c := range res.Concepts {
 		if c.IRI == best {
 			t.Errorf("deprecated %s still suggested with %v", best, c.Score)

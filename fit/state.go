@@ -473,3 +473,7 @@ func (ai *anchorIndex) concepts(words []int32) []int32 {
 	slices.Sort(out)
 	return out
 }
+
+// HeldOut reports whether Options.HoldoutFraction frac keeps the record
+// with this id out of training (the same choice the fit makes).
+func HeldOut(id string, frac float64) bool { return holdout(id, frac) }

@@ -110,9 +110,40 @@ type Model struct {
 	// the indexed records (the row holds j itself with 1 − P(j)); nil or
 	// empty rows when the corpus had no indexed records. Sorted by concept.
 	Related [][]ConceptWeight
+	// Calibration, when set, turns annotation's raw concept scores into
+	// the probability that a person indexing the record assigns the
+	// concept; learned from records people indexed (annotate.Calibrate).
+	Calibration *Calibration
 
 	sum    [32]byte // payload SHA-256, set by Load
 	hasSum bool
+}
+
+// Calibration maps concept k's raw annotation score s (its fold-in share
+// plus its related-concept boost) to
+//
+//	p_k = 1 / (1 + exp(−(A_k·ln s + B_k)))
+//
+// a Platt (1999) mapping per concept, fitted by logistic regression on
+// records people indexed, each concept's (A_k, B_k) shrunk towards one
+// mapping shared by all concepts (GlobalA, GlobalB) so that rare concepts
+// keep close to it.
+type Calibration struct {
+	A, B             []float64 // C each
+	GlobalA, GlobalB float64
+	Shrink           float64 // the L2 weight pulling (A_k, B_k) to the shared mapping
+	Records          int     // records it was learned from
+	HeldOut          bool    // true when those records were kept out of the fit
+}
+
+// Apply returns concept k's calibrated score for raw score s > 0 (s ≤ 0
+// counts as the smallest positive score).
+func (c *Calibration) Apply(k int, s float64) float64 {
+	if !(s > 0) {
+		s = math.SmallestNonzeroFloat64
+	}
+	z := c.A[k]*math.Log(s) + c.B[k]
+	return 1 / (1 + math.Exp(-z))
 }
 
 // ConceptWeight is a concept index with a weight.
@@ -319,6 +350,16 @@ func (m *Model) Validate() error {
 		for _, r := range row {
 			if r.Concept < 0 || int(r.Concept) >= m.C || !(r.Weight > 0) || r.Weight > 1 {
 				return fmt.Errorf("related[%d]: concept %d weight %v", j, r.Concept, r.Weight)
+			}
+		}
+	}
+	if c := m.Calibration; c != nil {
+		if len(c.A) != m.C || len(c.B) != m.C {
+			return fmt.Errorf("calibration has %d and %d parameters for %d concepts", len(c.A), len(c.B), m.C)
+		}
+		for k := range c.A {
+			if !finite(c.A[k]) || !finite(c.B[k]) {
+				return fmt.Errorf("calibration[%d] = (%v, %v)", k, c.A[k], c.B[k])
 			}
 		}
 	}
@@ -536,6 +577,9 @@ type meta struct {
 	// Related is Model.Related; files written before it was added decode
 	// to nil (gob ignores missing fields).
 	Related [][]ConceptWeight
+	// Calibration is Model.Calibration; older files decode to nil, which
+	// annotation reads as uncalibrated scores.
+	Calibration *Calibration
 }
 
 // enc packs the flat arrays.
@@ -584,7 +628,7 @@ func (e *enc) ints(xs []int) {
 }
 
 func encode(w io.Writer, m *Model) error {
-	md := meta{Analyzer: m.Analyzer, Provenance: m.Provenance, Related: m.Related}
+	md := meta{Analyzer: m.Analyzer, Provenance: m.Provenance, Related: m.Related, Calibration: m.Calibration}
 	if m.Scheme != nil {
 		md.HasScheme = true
 		md.SchemeIRI, md.Title, md.Collections = m.Scheme.IRI, m.Scheme.Title, m.Scheme.Collections
@@ -774,7 +818,7 @@ func decode(b []byte) (*Model, error) {
 		return nil, fmt.Errorf("header: %v", err)
 	}
 	d.off += gn
-	m := &Model{Analyzer: md.Analyzer, Provenance: md.Provenance, Related: md.Related}
+	m := &Model{Analyzer: md.Analyzer, Provenance: md.Provenance, Related: md.Related, Calibration: md.Calibration}
 	m.C = d.count(1)
 	m.F = d.count(1)
 	if d.err == nil && m.C+m.F > len(b) {
@@ -893,3 +937,5 @@ func clampWord(w uint64) int32 {
 	}
 	return int32(w)
 }
+
+func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }

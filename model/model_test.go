@@ -323,3 +323,52 @@ func TestRelatedRoundTrip(t *testing.T) {
 		t.Error("related concept out of range saved")
 	}
 }
+
+// TestCalibrationRoundTrip: the calibration section survives Save and
+// Load, a model written without one (as every file before it was added)
+// loads with none, a wrong-sized or non-finite one is refused, and Apply is
+// the logistic of A·ln s + B. Common practice (Platt 1999), no source.
+func TestCalibrationRoundTrip(t *testing.T) {
+	m := small()
+	cal := &model.Calibration{A: make([]float64, m.C), B: make([]float64, m.C), GlobalA: 1.1, GlobalB: 2, Shrink: 3, Records: 40, HeldOut: true}
+	for k := range cal.A {
+		cal.A[k], cal.B[k] = 1+float64(k)/10, -float64(k)
+	}
+	m.Calibration = cal
+	p := filepath.Join(t.TempDir(), "m.grove")
+	if err := model.Save(p, m); err != nil {
+		t.Fatal(err)
+	}
+	got, err := model.Load(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(got.Calibration, cal) {
+		t.Errorf("calibration after load: %+v, want %+v", got.Calibration, cal)
+	}
+	// p = 1/(1 + e^−(A ln s + B)); concept 2: A = 1.2, B = −2, s = 0.5.
+	want := 1 / (1 + math.Exp(-(1.2*math.Log(0.5) - 2)))
+	if v := got.Calibration.Apply(2, 0.5); math.Abs(v-want) > 1e-15 {
+		t.Errorf("Apply(2, 0.5) = %v, want %v", v, want)
+	}
+	if v := got.Calibration.Apply(2, 0); !(v >= 0 && v < 1e-100) {
+		t.Errorf("Apply(2, 0) = %v, want about 0", v)
+	}
+	if err := model.Save(p, small()); err != nil {
+		t.Fatal(err)
+	}
+	if got, err := model.Load(p); err != nil || got.Calibration != nil {
+		t.Errorf("model without calibration: %v, %v", got.Calibration, err)
+	}
+	m.Calibration = &model.Calibration{A: cal.A[:1], B: cal.B}
+	if err := model.Save(p, m); err == nil {
+		t.Error("calibration of the wrong size saved")
+	}
+	bad := *cal
+	bad.B = append([]float64(nil), cal.B...)
+	bad.B[1] = math.NaN()
+	m.Calibration = &bad
+	if err := model.Save(p, m); err == nil {
+		t.Error("NaN calibration saved")
+	}
+}

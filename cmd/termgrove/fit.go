@@ -10,6 +10,7 @@ import (
 	"io"
 	"io/fs"
 	"math"
+	"math/rand/v2"
 	"os"
 	"os/signal"
 	"path/filepath"
@@ -22,6 +23,7 @@ import (
 	"github.com/schollz/progressbar/v3"
 	"golang.org/x/term"
 
+	"termgrove/annotate"
 	"termgrove/concepts"
 	"termgrove/fit"
 	"termgrove/internal/records"
@@ -53,6 +55,7 @@ type fitFlags struct {
 	quiet, noProgress bool
 	anchor            bool
 	sampler           string
+	calibrate         int
 }
 
 func cmdFit(args []string) int {
@@ -76,6 +79,7 @@ func cmdFit(args []string) int {
 	fl.BoolVar(&f.resume, "resume", false, "continue from MODEL.checkpoint when it exists")
 	fl.StringVar(&f.langs, "lang", "en", "languages, comma-separated; the first is the records' main language")
 	fl.StringVar(&f.fields, "fields", "title,text", "record fields to read, comma-separated")
+	fl.IntVar(&f.calibrate, "calibrate", defaultCalibrate, "learn the score calibration from up to `N` records people indexed: the held-out ones with --holdout, else a sample of the training records (0 = none)")
 	fl.BoolVar(&f.skipBad, "skip-bad", false, "skip records that are not JSON (counted) instead of stopping")
 	fl.BoolVar(&f.quiet, "quiet", false, "only the summary")
 	fl.BoolVar(&f.noProgress, "no-progress", false, "plain log lines even on a terminal")
@@ -106,8 +110,8 @@ func cmdFit(args []string) int {
 		return 2
 	}
 	// Written so that NaN fails too.
-	if f.free < 0 || f.sweeps < 1 || f.burnIn < 0 || !(f.holdout >= 0 && f.holdout < 1) || !(f.lambda >= 0) || f.workers < 1 {
-		fmt.Fprintln(os.Stderr, "termgrove fit: --free-topics ≥ 0, --sweeps ≥ 1, --burn-in ≥ 0, --workers ≥ 1, --lambda ≥ 0 and 0 ≤ --holdout < 1")
+	if f.free < 0 || f.sweeps < 1 || f.burnIn < 0 || !(f.holdout >= 0 && f.holdout < 1) || !(f.lambda >= 0) || f.workers < 1 || f.calibrate < 0 {
+		fmt.Fprintln(os.Stderr, "termgrove fit: --free-topics ≥ 0, --sweeps ≥ 1, --burn-in ≥ 0, --workers ≥ 1, --lambda ≥ 0, --calibrate ≥ 0 and 0 ≤ --holdout < 1")
 		return 2
 	}
 	if f.vocab == "-" && f.recs == "-" {
@@ -193,8 +197,10 @@ func runFit(f *fitFlags) int {
 	fields := fitSplit(f.fields)
 	unknownShown := 0
 	ropt := records.Options{Fields: fields, SkipBad: f.skipBad, Bad: func(err error) { warnf("skipped: %v", err) }}
+	calib := newCalibSample(f.calibrate, f.holdout, f.seed)
 	rstats, err := records.ReadStats(f.recs, ropt, func(r records.Record) error {
 		_, unknown := b.AddLang(r.ID, r.Join(fields), r.Lang, r.Subjects, r.Date)
+		calib.add(r, fields)
 		for _, u := range unknown {
 			if unknownShown < 10 {
 				warnf("%s:%d: record %q: subject %q is not a concept of the vocabulary (ignored)", r.File, r.Line, r.ID, u)
@@ -333,6 +339,23 @@ func runFit(f *fitFlags) int {
 	m.Provenance.CorpusSHA256, _ = fitHashPath(f.recs)
 	m.Provenance.Options["lang"] = strings.Join(langs, ",")
 	m.Provenance.Options["fields"] = strings.Join(fields, ",")
+	if len(calib.texts) > 0 {
+		start := time.Now()
+		cal, err := annotate.Calibrate(m, calib.texts, annotate.CalibrateOptions{Workers: f.workers, HeldOut: f.holdout > 0, Samples: scoreSamples})
+		switch {
+		case errors.Is(err, annotate.ErrNoCalibrationData):
+			warnf("no record people indexed has words the model knows: scores left uncalibrated")
+		case err != nil:
+			return fail(1, "calibration: %v", err)
+		default:
+			m.Calibration = cal
+			src := "training records"
+			if cal.HeldOut {
+				src = "held-out records"
+			}
+			logf("scores calibrated on %d %s people indexed (%.1f s)", cal.Records, src, time.Since(start).Seconds())
+		}
+	}
 	if err := model.Save(f.out, m); err != nil {
 		return fail(1, "%v", err)
 	}
@@ -441,4 +464,40 @@ func resumeDiff(ck, now fit.Options) string {
 		add("--anchor", ck.Anchor, now.Anchor)
 	}
 	return strings.Join(d, ", ")
+}
+
+// defaultCalibrate is fit's default --calibrate: the most records people
+// indexed that annotate.Calibrate learns from. On debtags (bench/quality.md)
+// FIXME
+const defaultCalibrate = 5000
+
+// calibSample keeps a deterministic sample of up to n records people
+// indexed for the score calibration (reservoir sampling, Vitter's
+// algorithm R, seeded by the fit's seed): with a holdout share only the
+// held-out ones, which the fit never sees.
+type calibSample struct {
+	n       int
+	holdout float64
+	seen    int
+	rng     *rand.Rand
+	texts   []annotate.LabeledText
+}
+
+func newCalibSample(n int, holdout float64, seed int64) *calibSample {
+	return &calibSample{n: n, holdout: holdout, rng: rand.New(rand.NewPCG(uint64(seed), 0x63616c6962))}
+}
+
+func (c *calibSample) add(r records.Record, fields []string) {
+	if c.n == 0 || len(r.Subjects) == 0 || (c.holdout > 0 && !fit.HeldOut(r.ID, c.holdout)) {
+		return
+	}
+	t := annotate.LabeledText{ID: r.ID, Text: r.Join(fields), Language: r.Lang, Subjects: r.Subjects}
+	c.seen++
+	if len(c.texts) < c.n {
+		c.texts = append(c.texts, t)
+		return
+	}
+	if j := c.rng.IntN(c.seen); j < c.n {
+		c.texts[j] = t
+	}
 }
