@@ -38,7 +38,9 @@
 // related-concept rows (model.Model.Related, from records people indexed):
 // then each concept also gets γ·θ_j·L_jk from the concepts j it is often
 // assigned beside (see relatedWeight), and scores rank rather than sum to
-// 1. For the words, each token's
+// 1. A calibrated model (model.Model.Calibration, calibrate.go) then maps
+// each concept's score to the probability that a person indexing the text
+// assigns it, and ranks by that. For the words, each token's
 // conditional (not just its draw) is accumulated (Rao–Blackwellised) per
 // word type: occurrences of one word in one text are exchangeable, so they
 // share a posterior. Only the smoothing bucket's split over topics is taken
@@ -1321,7 +1323,7 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 				if st.agg[x] == 0 {
 					st.aggT = append(st.aggT, x)
 				}
-				st.agg[x] += sc
+				st.agg[x] += a.aggTerm(sc)
 			}
 			for _, p := range a.m.Scheme.Concepts[x].Broader {
 				if st.mark[p] != st.gen {
@@ -1331,7 +1333,7 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 			}
 		}
 	}
-	aggOf := func(k int32) float64 { return score(k) + st.agg[k] }
+	aggOf := func(k int32) float64 { return a.aggOf(score(k), st.agg[k]) }
 
 	for _, k := range shown {
 		c := Concept{IRI: a.m.Scheme.Concepts[k].IRI, Label: a.labels[k], Score: score(k)}

@@ -182,7 +182,7 @@ type pairs struct {
 	y []bool
 }
 
-func (p *pairs) reset()                 { p.x, p.y = p.x[:0], p.y[:0] }
+func (p *pairs) reset()                { p.x, p.y = p.x[:0], p.y[:0] }
 func (p *pairs) add(x float64, y bool) { p.x, p.y = append(p.x, x), append(p.y, y) }
 
 // fit minimises the logistic loss of σ(a·x + b) plus λ·((a−a0)² + (b−b0)²)
@@ -280,4 +280,24 @@ func (a *Annotator) calibrated(cand []int32, score func(int32) float64) ([]int32
 		}
 	}
 	return cand, func(k int32) float64 { return cal.Apply(int(k), score(k)) }
+}
+
+// aggTerm is a descendant's contribution to an ancestor's aggregated path
+// score: its score, or with a calibration ln(1 − p), so that aggOf gives the
+// probability that the node or any of those descendants is assigned as if
+// they were independent (a noisy-or), which stays a probability where a
+// sum of probabilities would not.
+func (a *Annotator) aggTerm(s float64) float64 {
+	if a.m.Calibration == nil {
+		return s
+	}
+	return math.Log1p(-min(s, 1-1e-12))
+}
+
+// aggOf combines a node's own score with its descendants' aggTerm sum.
+func (a *Annotator) aggOf(own, agg float64) float64 {
+	if a.m.Calibration == nil {
+		return own + agg
+	}
+	return 1 - (1-own)*math.Exp(agg)
 }

@@ -339,7 +339,9 @@ func runFit(f *fitFlags) int {
 	m.Provenance.CorpusSHA256, _ = fitHashPath(f.recs)
 	m.Provenance.Options["lang"] = strings.Join(langs, ",")
 	m.Provenance.Options["fields"] = strings.Join(fields, ",")
-	if len(calib.texts) > 0 {
+	if n := len(calib.texts); n > 0 && n < minCalibrate {
+		logf("%d records people indexed: too few to calibrate the scores (at least %d)", n, minCalibrate)
+	} else if n > 0 {
 		start := time.Now()
 		cal, err := annotate.Calibrate(m, calib.texts, annotate.CalibrateOptions{Workers: f.workers, HeldOut: f.holdout > 0, Samples: scoreSamples})
 		switch {
@@ -468,8 +470,18 @@ func resumeDiff(ck, now fit.Options) string {
 
 // defaultCalibrate is fit's default --calibrate: the most records people
 // indexed that annotate.Calibrate learns from. On debtags (bench/quality.md)
-// FIXME
+// the same model scored micro/macro F1@5 0.456/0.293 uncalibrated and
+// 0.463/0.300 calibrated on 5,000 of its training records (F1@1 0.261 →
+// 0.276, NDCG@5 0.657 → 0.69); 1,000 and 2,000 records gave 0.005 and 0.003
+// less micro F1, all 21,776 0.003 more. Calibrating takes about as long as
+// scoring as many records.
 const defaultCalibrate = 5000
+
+// minCalibrate is the fewest records people indexed that fit calibrates
+// on: with fewer, most concepts appear in a handful of them, their own
+// mappings are noise about the shared one, and the shared one alone does
+// not change the ranking. (The demo's 90 indexed records are below it.)
+const minCalibrate = 200
 
 // calibSample keeps a deterministic sample of up to n records people
 // indexed for the score calibration (reservoir sampling, Vitter's
