@@ -809,21 +809,25 @@ func FuzzAnnotate(f *testing.F) {
 	for _, s := range []string{"", "w1 w2 w3", "w5 w5 w5 \xff w10", "W1, w2; w24!", strings.Repeat("w7 ", 100)} {
 		f.Add(s)
 	}
+	rows, _ := New(m) // topic rows read per visited topic (row mode)
+	rows.maxList = 0
 	f.Fuzz(func(t *testing.T, text string) {
-		res, err := a.Annotate("f", text, Options{Top: -1, IncludeWords: true})
-		if err != nil {
-			t.Fatal(err)
-		}
-		sum := res.Uncovered
-		for _, c := range res.Concepts {
-			sum += c.Score
-		}
-		if res.Tokens > 0 && math.Abs(sum-1) > 1e-9 {
-			t.Fatalf("scores + uncovered = %v", sum)
-		}
-		for _, w := range res.Words {
-			if w.Start < 0 || w.End > len(text) || w.Start > w.End || text[w.Start:w.End] != w.Text {
-				t.Fatalf("word %+v outside the text", w)
+		for _, a := range []*Annotator{a, rows} {
+			res, err := a.Annotate("f", text, Options{Top: -1, IncludeWords: true})
+			if err != nil {
+				t.Fatal(err)
+			}
+			sum := res.Uncovered
+			for _, c := range res.Concepts {
+				sum += c.Score
+			}
+			if res.Tokens > 0 && math.Abs(sum-1) > 1e-9 {
+				t.Fatalf("scores + uncovered = %v", sum)
+			}
+			for _, w := range res.Words {
+				if w.Start < 0 || w.End > len(text) || w.Start > w.End || text[w.Start:w.End] != w.Text {
+					t.Fatalf("word %+v outside the text", w)
+				}
 			}
 		}
 	})
