@@ -233,12 +233,15 @@ type Annotator struct {
 	sumAlpha, freeAlpha float64   // Σ_k α_k, Σ_{k ≥ C} α_k
 	labels              []string  // concept prefLabels in the main language
 
-	// Per word w, went[off[w]:off[w+1]] lists the topics with s_kw > 0,
-	// sorted by topic, e.g. k [3 17] s [0.01 0.2] for a word that concept
-	// 3 names in a label and topic 17 used; the same entries hold the word's
-	// alias table (p, alt), so that a draw reads one place.
+	// Per word w, entries off[w]..off[w+1] list the topics with s_kw > 0,
+	// sorted by topic, e.g. topic [3 17] s [0.01 0.2] for a word that
+	// concept 3 names in a label and topic 17 used, and hold the word's alias
+	// table over α_k·s_kw (kept apart: a record's regrouping reads topic
+	// and s, a draw reads one alias entry).
 	off   []int32
-	went  []wEntry  // per word, by topic; with the word's alias table over α_k·s_kw
+	topic []int32
+	s     []float64
+	wal   []aEntry
 	aw    []float64 // A_w = q + Σ_k α_k·s_kw
 	awF   []float64 // Σ_{k ≥ C} α_k·φ_kw
 	best  []int32   // argmax over concepts k of α_k·φ_kw (-1: no concepts)
@@ -342,7 +345,9 @@ func New(m *model.Model) (*Annotator, error) {
 		}
 		a.off[w] = int32(total)
 	}
-	a.went = make([]wEntry, total)
+	a.topic = make([]int32, total)
+	a.s = make([]float64, total)
+	a.wal = make([]aEntry, total)
 	fill := slices.Clone(a.off[:W])
 	for k := 0; k < K; k++ {
 		var pr []model.WordWeight
@@ -353,8 +358,8 @@ func New(m *model.Model) (*Annotator, error) {
 		put := func(w int32, num float64) {
 			i := fill[w]
 			fill[w]++
-			a.went[i].k = int32(k)
-			a.went[i].s = num / den[k]
+			a.topic[i] = int32(k)
+			a.s[i] = num / den[k]
 		}
 		i, j := 0, 0
 		for i < len(cr) || j < len(pr) {
@@ -387,8 +392,8 @@ func New(m *model.Model) (*Annotator, error) {
 		sumW, free := 0.0, a.qFree
 		bk, bv := int32(-1), -1.0
 		for i := lo; i < hi; i++ {
-			k := a.went[i].k
-			v := a.alpha[k] * a.went[i].s
+			k := a.topic[i]
+			v := a.alpha[k] * a.s[i]
 			buf = append(buf, v)
 			sumW += v
 			if k >= int32(C) {
@@ -415,8 +420,7 @@ func New(m *model.Model) (*Annotator, error) {
 		prob, al = slices.Grow(prob[:0], n)[:n], slices.Grow(al[:0], n)[:n]
 		t := newAlias(buf, prob, al)
 		for i := range t.prob {
-			e := &a.went[lo+int32(i)]
-			e.p, e.alt = t.prob[i], a.went[lo+t.alias[i]].k
+			a.wal[lo+int32(i)] = aEntry{t.prob[i], a.topic[lo+int32(i)], a.topic[lo+t.alias[i]]}
 		}
 		a.aw[w] = a.q + sumW
 		a.awF[w] = free
@@ -430,10 +434,10 @@ func New(m *model.Model) (*Annotator, error) {
 // about 1,800 (rows).
 const defaultMaxList = 128
 
-// wEntry is topic k of a word's list with s_kw, and slot i of the word's
-// alias table over α_k·s_kw: keep k with probability p, else take alt.
-type wEntry struct {
-	s, p   float64
+// aEntry is slot i of a word's alias table over α_k·s_kw: keep topic k
+// (the list's i-th) with probability p, else take topic alt.
+type aEntry struct {
+	p      float64
 	k, alt int32
 }
 
@@ -451,13 +455,13 @@ func (a *Annotator) find(w int, k int32) (int32, bool) {
 	lo, hi := a.off[w], a.off[w+1]
 	for lo < hi {
 		mid := int32(uint32(lo+hi) >> 1)
-		if a.went[mid].k < k {
+		if a.topic[mid] < k {
 			lo = mid + 1
 		} else {
 			hi = mid
 		}
 	}
-	return lo, lo < a.off[w+1] && a.went[lo].k == k
+	return lo, lo < a.off[w+1] && a.topic[lo] == k
 }
 
 // sv returns s_kw = (n_kw + λ·π_kw)/(n_k + B_k), searching whichever is
@@ -471,7 +475,7 @@ func (a *Annotator) sv(w int, k int32) float64 {
 	}
 	if int(a.off[w+1]-a.off[w]) <= len(row)+len(pr) {
 		if i, ok := a.find(w, k); ok {
-			return a.went[i].s
+			return a.s[i]
 		}
 		return 0
 	}
@@ -809,8 +813,7 @@ func (a *Annotator) fillRow(st *state, k int32) {
 // holds without reading the topic's whole row.
 func (a *Annotator) group(st *state) {
 	for _, w := range st.uw {
-		for _, e := range a.went[a.off[w]:a.off[w+1]] {
-			k := e.k
+		for _, k := range a.topic[a.off[w]:a.off[w+1]] {
 			if st.bn[k] == 0 {
 				st.bT = append(st.bT, k)
 			}
@@ -826,9 +829,9 @@ func (a *Annotator) group(st *state) {
 	st.bent = slices.Grow(st.bent[:0], int(n))[:n]
 	for u, w := range st.uw {
 		lo, hi := a.off[w], a.off[w+1]
-		for _, e := range a.went[lo:hi] {
-			k := e.k
-			st.bent[st.bo[k]+st.bn[k]] = bEntry{u: int32(u), s: e.s}
+		sw := a.s[lo:hi]
+		for i, k := range a.topic[lo:hi] {
+			st.bent[st.bo[k]+st.bn[k]] = bEntry{u: int32(u), s: sw[i]}
 			st.bn[k]++
 		}
 	}
@@ -1131,10 +1134,11 @@ func (a *Annotator) draw(st *state, u int32, rng *rand.Rand, record bool) int32 
 	if i >= int(n) {
 		i = int(n) - 1
 	}
-	if e := &a.went[lo+int32(i)]; x-float64(i) < e.p {
+	e := &a.wal[lo+int32(i)]
+	if x-float64(i) < e.p {
 		return e.k
 	}
-	return a.went[lo+int32(i)].alt
+	return e.alt
 }
 
 // post returns word type u's posterior of topic k (slot s, or -1).
