@@ -602,6 +602,7 @@ type state struct {
 	uw    []int32   // word type u → word id
 	ucnt  []int32   // occurrences of u
 	cacc  []float64 // u → Σ A_w/Z
+	awu   []float64 // u → A_w
 	tu    []int32   // token → u
 	z     []int32   // token → topic
 	uOf   []int32   // W: word id → word type, -1 when not in the record
@@ -653,6 +654,7 @@ func (a *Annotator) put(st *state) {
 		st.uOf[w] = -1
 	}
 	st.uw, st.ucnt, st.cacc, st.tu, st.z = st.uw[:0], st.ucnt[:0], st.cacc[:0], st.tu[:0], st.z[:0]
+	st.awu = st.awu[:0]
 	if cap(st.toks) > 1<<16 || cap(st.bent) > 1<<20 || len(st.nz) > 1<<14 {
 		// do not keep a huge record's buffers
 		st.toks, st.bent, st.nz, st.wacc, st.tu, st.z = nil, nil, nil, nil, nil, nil
@@ -855,6 +857,7 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 			st.ucnt = append(st.ucnt, 0)
 			st.cacc = append(st.cacc, 0)
 			st.dacc = append(st.dacc, 0)
+			st.awu = append(st.awu, a.aw[w])
 			if len(st.nz) < cap(st.nz) {
 				st.nz = st.nz[:len(st.nz)+1]
 				st.wacc = st.wacc[:len(st.wacc)+1]
@@ -1078,7 +1081,7 @@ func (a *Annotator) draw(st *state, u int32, rng *rand.Rand, record bool) int32 
 	}
 	aw := 0.0
 	if !st.allow {
-		aw = a.aw[w]
+		aw = st.awu[u]
 	}
 	z := bt + d + aw
 	if record {
