@@ -33,6 +33,7 @@ import (
 	"strings"
 	"sync"
 	"sync/atomic"
+	"syscall"
 	"time"
 
 	"google.golang.org/grpc"
@@ -309,7 +310,11 @@ type result struct {
 	MaxMs      float64        `json:"max_ms"`
 	RejectP99  float64        `json:"rejected_p99_ms,omitempty"`
 	ClientLate int            `json:"client_late,omitempty"` // rate: calls not sent on time (client saturated)
-	Server     *serverStats   `json:"server,omitempty"`
+	// CPU time (user + system) of this process during the step, per
+	// accepted call in microseconds: the load tool's own cost, or in mode
+	// local the annotator's.
+	CPUPerOKus float64      `json:"cpu_per_ok_us"`
+	Server     *serverStats `json:"server,omitempty"`
 }
 
 // serverStats are samples of the server's own metrics during the step.
@@ -318,10 +323,14 @@ type serverStats struct {
 	HeapStartMB, HeapMaxMB, HeapEndMB             float64
 	GoroutinesStart, GoroutinesMax, GoroutinesEnd float64
 	Samples                                       int
+	cpu                                           float64 // last sample
 	// Server-side Annotate handler time (interceptor start to end) of the
 	// step, from the termgrove_grpc_request_duration_seconds histogram: the
 	// bucket bounds (ms) holding the 50th and 99th percentiles.
 	HandlerP50ms, HandlerP99ms float64
+	// The server process's CPU time (process_cpu_seconds_total) during the
+	// step, in seconds.
+	CPUSeconds float64
 }
 
 // recorder collects latencies of accepted and rejected calls.
@@ -331,6 +340,7 @@ type recorder struct {
 	rejected []time.Duration
 	codes    map[codes.Code]int
 	sent     atomic.Int64
+	cpu0     time.Duration // CPU time of this process at the start
 }
 
 func (r *recorder) add(d time.Duration, err error) {
@@ -356,6 +366,15 @@ func pct(ds []time.Duration, p float64) float64 {
 	return float64(ds[max(i, 0)]) / 1e6
 }
 
+// cpuTime is this process's CPU time so far (user + system).
+func cpuTime() time.Duration {
+	var ru syscall.Rusage
+	if syscall.Getrusage(syscall.RUSAGE_SELF, &ru) != nil {
+		return 0
+	}
+	return time.Duration(ru.Utime.Nano() + ru.Stime.Nano())
+}
+
 func (r *recorder) result(step string, el time.Duration) result {
 	slices.Sort(r.ok)
 	slices.Sort(r.rejected)
@@ -365,12 +384,15 @@ func (r *recorder) result(step string, el time.Duration) result {
 	for c, n := range r.codes {
 		res.Codes[c.String()] = n
 	}
+	if len(r.ok) > 0 {
+		res.CPUPerOKus = float64(cpuTime()-r.cpu0) / 1e3 / float64(len(r.ok))
+	}
 	return res
 }
 
 // closedLoop runs c workers, each sending its next call when the last ends.
 func closedLoop(o *options, conns []*grpc.ClientConn, reqs []prepared, c int) result {
-	var rec recorder
+	rec := recorder{cpu0: cpuTime()}
 	stopMem := sampleServer(o)
 	start := time.Now()
 	end := start.Add(o.duration)
@@ -405,7 +427,7 @@ func closedLoop(o *options, conns []*grpc.ClientConn, reqs []prepared, c int) re
 // o.batch records when the answer to its last one has arrived; every
 // record counts as one call, with the latency of its message.
 func streamLoop(o *options, conns []*grpc.ClientConn, texts []string, c int) result {
-	var rec recorder
+	rec := recorder{cpu0: cpuTime()}
 	stopMem := sampleServer(o)
 	start := time.Now()
 	end := start.Add(o.duration)
@@ -470,7 +492,7 @@ func streamLoop(o *options, conns []*grpc.ClientConn, texts []string, c int) res
 // localLoop is closedLoop calling the annotator in this process: the
 // reference that shows what gRPC and the server add.
 func localLoop(o *options, a *annotate.Annotator, texts []string, c int) result {
-	var rec recorder
+	rec := recorder{cpu0: cpuTime()}
 	start := time.Now()
 	end := start.Add(o.duration)
 	var wg sync.WaitGroup
@@ -496,7 +518,7 @@ func localLoop(o *options, a *annotate.Annotator, texts []string, c int) result 
 // scheduled time; at most o.maxOutstanding calls are in progress (a call
 // due beyond that is not sent and is counted late: the client is saturated).
 func openLoop(o *options, conns []*grpc.ClientConn, reqs []prepared) result {
-	var rec recorder
+	rec := recorder{cpu0: cpuTime()}
 	stopMem := sampleServer(o)
 	start := time.Now()
 	interval := time.Duration(float64(time.Second) / o.rate)
@@ -558,6 +580,7 @@ func sampleServer(o *options) func() *serverStats {
 		mu.Lock()
 		defer mu.Unlock()
 		rss, heap, gr := v["process_resident_memory_bytes"]/1e6, v["go_memstats_heap_inuse_bytes"]/1e6, v["go_goroutines"]
+		st.cpu = v["process_cpu_seconds_total"]
 		if st.Samples == 0 {
 			st.RSSStartMB, st.HeapStartMB, st.GoroutinesStart = rss, heap, gr
 		}
@@ -566,6 +589,7 @@ func sampleServer(o *options) func() *serverStats {
 		st.Samples++
 	}
 	take()
+	cpu0 := st.cpu
 	h0, _ := scrapeHist(o.metrics)
 	done := make(chan struct{})
 	stopped := make(chan struct{})
@@ -586,6 +610,7 @@ func sampleServer(o *options) func() *serverStats {
 		close(done)
 		<-stopped
 		take()
+		st.CPUSeconds = st.cpu - cpu0
 		if h1, err := scrapeHist(o.metrics); err == nil {
 			st.HandlerP50ms, st.HandlerP99ms = histQuantile(h0, h1, .5), histQuantile(h0, h1, .99)
 		}
@@ -696,7 +721,13 @@ func report(o *options, step string, r result) {
 		fmt.Printf(" client_late=%d", r.ClientLate)
 	}
 	fmt.Println()
+	if o.mode == "local" {
+		fmt.Printf("  cpu per call: %.0fµs (this process: the annotator)\n", r.CPUPerOKus)
+	}
 	if s := r.Server; s != nil {
+		if r.OK > 0 {
+			fmt.Printf("  cpu per accepted call: server %.0fµs, load tool %.0fµs\n", s.CPUSeconds*1e6/float64(r.OK), r.CPUPerOKus)
+		}
 		fmt.Printf("  server: rss %.0f→max %.0f→%.0f MB, heap %.0f→max %.0f→%.0f MB, goroutines %.0f→max %.0f→%.0f (%d samples)\n",
 			s.RSSStartMB, s.RSSMaxMB, s.RSSEndMB, s.HeapStartMB, s.HeapMaxMB, s.HeapEndMB,
 			s.GoroutinesStart, s.GoroutinesMax, s.GoroutinesEnd, s.Samples)
