@@ -66,6 +66,7 @@ type options struct {
 	jsonOut                  bool
 	maxOutstanding           int
 	checkEvery               int
+	unknown                  bool
 	batch                    int
 	busyBackoff              time.Duration
 }
@@ -92,6 +93,7 @@ func run(args []string) int {
 	fs.BoolVar(&o.jsonOut, "json", false, "print results as JSON lines")
 	fs.IntVar(&o.maxOutstanding, "max-outstanding", 1024, "rate: calls in progress at most; a call due beyond it is not sent and counted late")
 	fs.IntVar(&o.checkEvery, "check-every", 16, "decode and check every Nth response in full (1: all); the others are only counted, to keep the load tool's own CPU low")
+	fs.BoolVar(&o.unknown, "unknown-words", false, "records of words no model knows: the server analyses them and answers, with nothing to sample (the ceiling of the transport and the analyser)")
 	fs.IntVar(&o.batch, "batch", 32, "stream: records per AnnotateStream message")
 	fs.DurationVar(&o.busyBackoff, "busy-backoff", 0, "sweep: a worker whose call gets RESOURCE_EXHAUSTED waits this long before its next call (0: at once)")
 	if err := fs.Parse(args); err != nil {
@@ -172,19 +174,31 @@ func run(args []string) int {
 		return 2
 	}
 	// Warm up: connections, the server's pools and caches; every answer is
-	// checked in full.
+	// checked in full, and the server's token counts are summed.
 	ctx, cancel := context.WithTimeout(context.Background(), 30*time.Second)
-	for i := range 200 {
+	var tokens, words int
+	const warm = 200
+	for i := range warm {
 		r := &reqs[i%len(reqs)]
-		if err := call(ctx, conns[i%len(conns)], r, true, grpc.WaitForReady(true)); err != nil {
+		resp, err := call(ctx, conns[i%len(conns)], r, true, grpc.WaitForReady(true))
+		if err != nil {
 			fmt.Fprintln(os.Stderr, "loadtest: warm-up:", err)
 			cancel()
 			return 1
 		}
+		tokens += int(resp.GetTokens())
+		words += len(strings.Fields(texts[i%len(texts)]))
 	}
+	md, err := pb.NewAnnotationServiceClient(conns[0]).GetModel(ctx, &pb.GetModelRequest{Model: o.modelName})
 	cancel()
-	fmt.Printf("# loadtest %s: %d records of %d words, %d conns, GOMAXPROCS %d, %s\n",
-		o.mode, len(texts), o.words, o.conns, runtime.GOMAXPROCS(0), time.Now().UTC().Format(time.RFC3339))
+	if err != nil {
+		fmt.Fprintln(os.Stderr, "loadtest: GetModel:", err)
+		return 1
+	}
+	fmt.Printf("# server model %q: %s, %d concepts (%d used), %d free topics, %d word types\n",
+		md.GetName(), md.GetPath(), md.GetConcepts(), md.GetUsedConcepts(), md.GetFreeTopics(), md.GetWordTypes())
+	fmt.Printf("# loadtest %s: %d records of %.1f words on average (the server analysed %.1f tokens each), %d conns, GOMAXPROCS %d, %s\n",
+		o.mode, len(texts), float64(words)/warm, float64(tokens)/warm, o.conns, runtime.GOMAXPROCS(0), time.Now().UTC().Format(time.RFC3339))
 	switch o.mode {
 	case "sweep":
 		for _, c := range o.conc {
@@ -245,6 +259,19 @@ func makeTexts(o *options) ([]string, error) {
 			return nil, fmt.Errorf("%s: no record with %d+ words", o.recordsFile, o.words/2)
 		}
 		return out, sc.Err()
+	}
+	if o.unknown {
+		// 997 distinct words, as a real text's words repeat: the server's
+		// word caches hold them after the warm-up.
+		out := make([]string, o.records)
+		for i := range out {
+			w := make([]string, o.words)
+			for j := range w {
+				w[j] = fmt.Sprintf("zq%dx", (i*151+j)%997)
+			}
+			out[i] = strings.Join(w, " ")
+		}
+		return out, nil
 	}
 	if o.wordsFrom == "" {
 		return nil, errors.New("give -words-from MODEL or -records-file FILE")
@@ -408,7 +435,7 @@ func closedLoop(o *options, conns []*grpc.ClientConn, reqs []prepared, c int) re
 				}
 				t0 := time.Now()
 				ctx, cancel := context.WithTimeout(context.Background(), o.timeout)
-				err := call(ctx, cc, &reqs[i%len(reqs)], i%o.checkEvery == 0)
+				_, err := call(ctx, cc, &reqs[i%len(reqs)], i%o.checkEvery == 0)
 				cancel()
 				rec.add(time.Since(t0), err)
 				if o.busyBackoff > 0 && status.Code(err) == codes.ResourceExhausted {
@@ -549,7 +576,7 @@ func openLoop(o *options, conns []*grpc.ClientConn, reqs []prepared) result {
 				go func() {
 					defer wg.Done()
 					ctx, cancel := context.WithTimeout(context.Background(), o.timeout)
-					err := call(ctx, conns[i%len(conns)], &reqs[i%len(reqs)], i%o.checkEvery == 0)
+					_, err := call(ctx, conns[i%len(conns)], &reqs[i%len(reqs)], i%o.checkEvery == 0)
 					cancel()
 					rec.add(time.Since(due), err)
 					<-slots

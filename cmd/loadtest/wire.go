@@ -79,24 +79,24 @@ func (wireCodec) Unmarshal(data mem.BufferSlice, v any) error {
 }
 
 // call makes one Annotate call with a prepared request. With check, the
-// response is decoded and must carry the request's id.
-func call(ctx context.Context, cc *grpc.ClientConn, p *prepared, check bool, opts ...grpc.CallOption) error {
+// response is decoded, must carry the request's id, and is returned.
+func call(ctx context.Context, cc *grpc.ClientConn, p *prepared, check bool, opts ...grpc.CallOption) (*pb.AnnotateResponse, error) {
 	r := reply{check: check}
 	if err := cc.Invoke(ctx, annotateMethod, p, &r, opts...); err != nil {
-		return err
+		return nil, err
 	}
 	if !check {
 		if r.n == 0 { // an answer always carries the record's id
-			return status.Errorf(codes.DataLoss, "empty response to %s", p.id)
+			return nil, status.Errorf(codes.DataLoss, "empty response to %s", p.id)
 		}
-		return nil
+		return nil, nil
 	}
-	var resp pb.AnnotateResponse
-	if err := proto.Unmarshal(r.wire, &resp); err != nil {
-		return status.Errorf(codes.DataLoss, "response to %s: %v", p.id, err)
+	resp := &pb.AnnotateResponse{}
+	if err := proto.Unmarshal(r.wire, resp); err != nil {
+		return nil, status.Errorf(codes.DataLoss, "response to %s: %v", p.id, err)
 	}
 	if resp.GetId() != p.id {
-		return status.Errorf(codes.DataLoss, "response to %s carries id %q", p.id, resp.GetId())
+		return nil, status.Errorf(codes.DataLoss, "response to %s carries id %q", p.id, resp.GetId())
 	}
-	return nil
+	return resp, nil
 }

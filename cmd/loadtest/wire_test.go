@@ -51,20 +51,23 @@ func TestPreparedCalls(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	if resp, err := call(ctx, cc, &reqs[0], true); err != nil || resp.GetTokens() != int32(len("some words here")) {
+		t.Fatalf("checked call: %v %v", resp, err)
+	}
 	for _, check := range []bool{true, false} {
-		if err := call(ctx, cc, &reqs[0], check); err != nil {
+		if _, err := call(ctx, cc, &reqs[0], check); err != nil {
 			t.Fatalf("check=%v: %v", check, err)
 		}
 	}
 	// A checked answer must carry the request's id; an unchecked one is
 	// only counted.
-	if err := call(ctx, cc, &reqs[1], true); status.Code(err) != codes.DataLoss {
+	if _, err := call(ctx, cc, &reqs[1], true); status.Code(err) != codes.DataLoss {
 		t.Fatalf("wrong id not caught: %v", err)
 	}
-	if err := call(ctx, cc, &reqs[1], false); err != nil {
+	if _, err := call(ctx, cc, &reqs[1], false); err != nil {
 		t.Fatalf("unchecked: %v", err)
 	}
-	if err := call(ctx, cc, &reqs[2], false); status.Code(err) != codes.ResourceExhausted {
+	if _, err := call(ctx, cc, &reqs[2], false); status.Code(err) != codes.ResourceExhausted {
 		t.Fatalf("status lost: %v", err)
 	}
 	// Ordinary messages still go through the proto codec on the same conn.
