@@ -758,6 +758,8 @@ func report(o *options, step string, r result) {
 		fmt.Printf("  server: rss %.0f→max %.0f→%.0f MB, heap %.0f→max %.0f→%.0f MB, goroutines %.0f→max %.0f→%.0f (%d samples)\n",
 			s.RSSStartMB, s.RSSMaxMB, s.RSSEndMB, s.HeapStartMB, s.HeapMaxMB, s.HeapEndMB,
 			s.GoroutinesStart, s.GoroutinesMax, s.GoroutinesEnd, s.Samples)
-		fmt.Printf("  server-side Annotate handler time: p50 ≤ %.2fms, p99 ≤ %.2fms (histogram bucket bounds)\n", s.HandlerP50ms, s.HandlerP99ms)
+		if s.HandlerP99ms > 0 { // no unary calls in mode stream
+			fmt.Printf("  server-side Annotate handler time: p50 ≤ %.2fms, p99 ≤ %.2fms (histogram bucket bounds)\n", s.HandlerP50ms, s.HandlerP99ms)
+		}
 	}
 }
