@@ -8,11 +8,15 @@
 //	if err != nil { ... }
 //	err = s.Run(ctx) // serves until ctx ends, then drains within Config.Grace
 //
-// Limits. A call beyond Config.MaxConcurrent annotations in progress gets
-// RESOURCE_EXHAUSTED at once (a non-blocking semaphore: no queue grows under
-// overload); while the slots are full, or twice as many Annotate calls are
-// already inside the server, the call is refused in the transport before a
-// goroutine is started or its message read, so that refusals stay cheap.
+// Limits. At most Config.MaxConcurrent annotations run at once (default: one
+// per core). An Annotate call that finds every slot taken waits in a short
+// queue: at most MaxConcurrent + Config.MaxWaiting Annotate calls are inside
+// the server at once (default MaxWaiting: 2 × MaxConcurrent), and a call
+// beyond is refused with RESOURCE_EXHAUSTED in the transport, before a
+// goroutine is started or its message read, so that refusals stay cheap and
+// no queue grows under overload. With MaxWaiting negative a call is refused
+// as soon as every slot is taken. A stream message takes the free slots
+// without waiting; with none free its records get RESOURCE_EXHAUSTED.
 // Unary calls without a deadline get Config.DefaultDeadline; streams live
 // until the client ends them or the server shuts down. A request that fails validation gets INVALID_ARGUMENT with a
 // google.rpc.BadRequest detail listing every bad field. An unknown model or

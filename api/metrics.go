@@ -60,7 +60,7 @@ func newMetrics() *metrics {
 		}),
 		shed: prometheus.NewCounter(prometheus.CounterOpts{
 			Name: "termgrove_calls_shed_total",
-			Help: "Annotate calls refused in the transport because every annotation slot was taken (also counted in termgrove_grpc_requests_total).",
+			Help: "Annotate calls refused in the transport because every annotation slot and place to wait was taken (also counted in termgrove_grpc_requests_total).",
 		}),
 		modelInfo: prometheus.NewGaugeVec(prometheus.GaugeOpts{
 			Name: "termgrove_model_info",

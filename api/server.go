@@ -92,7 +92,7 @@ func NewServer(cfg Config) (*Server, error) {
 		// rather than one new goroutine each (whose stack grows by copying
 		// on every call): as many as Annotate calls the shed lets in. Calls
 		// beyond, and long streams, get a goroutine of their own as before.
-		grpc.NumStreamWorkers(uint32(2 * cfg.MaxConcurrent)),
+		grpc.NumStreamWorkers(uint32(max(4, cfg.MaxConcurrent+max(cfg.MaxWaiting, 0)))),
 		// Bounds the streams (and so goroutines and buffers) one connection
 		// can hold; calls are short, so only a misbehaving client meets it.
 		grpc.MaxConcurrentStreams(uint32(max(1024, 8*cfg.MaxConcurrent))),
@@ -243,7 +243,8 @@ func (s *Server) Serve() error {
 	s.mu.Unlock()
 	s.log.Info("serving", slog.String("addr", lis.Addr().String()),
 		slog.Bool("tls", s.cfg.TLSCert != ""), slog.Bool("mtls", s.cfg.TLSClientCA != ""),
-		slog.Any("models", s.models.names), slog.Int("max_concurrent", s.cfg.MaxConcurrent))
+		slog.Any("models", s.models.names), slog.Int("max_concurrent", s.cfg.MaxConcurrent),
+		slog.Int("max_waiting", max(s.cfg.MaxWaiting, 0)))
 	return s.grpc.Serve(lis)
 }
 
@@ -305,17 +306,18 @@ func (s *Server) Shutdown(grace time.Duration) bool {
 const annotateMethod = "/" + ServiceName + "/Annotate"
 
 // shed refuses an Annotate call with RESOURCE_EXHAUSTED in the transport,
-// before a goroutine is started or the message is read, while every
-// annotation slot is taken or 2×MaxConcurrent Annotate calls are already in
-// the server (reading, waiting for CPU, annotating or writing). Under
-// overload this keeps refusals cheap and stops a backlog from building up
-// in front of the slots, where it would only add latency. A call that
-// passes can still be refused by the slot check in the handler.
+// before a goroutine is started or the message is read, once
+// MaxConcurrent + MaxWaiting Annotate calls are already in the server
+// (being read, waiting for a slot, annotating or being answered), or, with
+// no waiting allowed, while every annotation slot is taken. Under overload
+// this keeps refusals cheap and the queue in front of the slots short: a
+// call let in waits for at most MaxWaiting annotations to finish.
 func (s *Server) shed(ctx context.Context, info *tap.Info) (context.Context, error) {
 	if info.FullMethodName != annotateMethod {
 		return ctx, nil
 	}
-	if n := s.calls.Add(1); n > int64(2*s.cfg.MaxConcurrent) || len(s.sem) == cap(s.sem) {
+	waiting := max(s.cfg.MaxWaiting, 0)
+	if n := s.calls.Add(1); n > int64(s.cfg.MaxConcurrent+waiting) || (waiting == 0 && len(s.sem) == cap(s.sem)) {
 		s.calls.Add(-1)
 		s.metrics.requests.WithLabelValues(annotateMethod, codes.ResourceExhausted.String()).Inc()
 		s.metrics.shed.Inc()

@@ -291,7 +291,8 @@ func TestGetGapReport(t *testing.T) {
 func TestResourceExhausted(t *testing.T) {
 	release := make(chan struct{})
 	entered := make(chan struct{}, 4)
-	ts := startServer(t, Config{MaxConcurrent: 2}, func(text string) {
+	// No waiting: a call is refused as soon as every slot is taken.
+	ts := startServer(t, Config{MaxConcurrent: 2, MaxWaiting: -1}, func(text string) {
 		if text == "block" {
 			entered <- struct{}{}
 			<-release
@@ -347,10 +348,11 @@ func TestResourceExhausted(t *testing.T) {
 }
 
 func TestShedBacklog(t *testing.T) {
-	// One slot: a second call is refused in the transport at once.
+	// One slot and no waiting: a second call is refused in the transport at
+	// once.
 	release := make(chan struct{})
 	entered := make(chan struct{}, 1)
-	ts := startServer(t, Config{MaxConcurrent: 1}, func(text string) {
+	ts := startServer(t, Config{MaxConcurrent: 1, MaxWaiting: -1}, func(text string) {
 		if text == "block" {
 			entered <- struct{}{}
 			<-release
@@ -374,6 +376,86 @@ func TestShedBacklog(t *testing.T) {
 		t.Fatal(err)
 	}
 	waitCalls(t, ts)
+}
+
+func TestWaitingCalls(t *testing.T) {
+	// One slot and two places to wait: while the slot is taken two calls
+	// wait, the next ones are refused in the transport at once, and the
+	// waiting ones are served, in turn, when the slot frees.
+	release := make(chan struct{})
+	entered := make(chan struct{}, 1)
+	var served atomic.Int64
+	ts := startServer(t, Config{MaxConcurrent: 1, MaxWaiting: 2}, func(text string) {
+		switch text {
+		case "block":
+			entered <- struct{}{}
+			<-release
+		case "cat":
+			served.Add(1)
+		}
+	})
+	done := make(chan error, 3)
+	go func() {
+		_, err := ts.c.Annotate(ctxT(t), &pb.AnnotateRequest{Text: "block"})
+		done <- err
+	}()
+	<-entered
+	for range 2 {
+		go func() {
+			_, err := ts.c.Annotate(ctxT(t), &pb.AnnotateRequest{Text: "cat"})
+			done <- err
+		}()
+	}
+	for deadline := time.Now().Add(5 * time.Second); ts.s.calls.Load() != 3; {
+		if time.Now().After(deadline) {
+			t.Fatalf("%d calls in the server, want 3", ts.s.calls.Load())
+		}
+		time.Sleep(time.Millisecond)
+	}
+	var shed dto.Metric
+	for i := range 5 {
+		start := time.Now()
+		_, err := ts.c.Annotate(ctxT(t), &pb.AnnotateRequest{Text: "cat"})
+		wantCode(t, err, codes.ResourceExhausted)
+		if d := time.Since(start); d > 2*time.Second {
+			t.Fatalf("refusal took %v", d)
+		}
+		ts.s.metrics.shed.Write(&shed)
+		if got := shed.GetCounter().GetValue(); got != float64(i+1) {
+			t.Fatalf("shed counter %v after %d refusals: not refused in the transport", got, i+1)
+		}
+	}
+	if n := served.Load(); n != 0 {
+		t.Fatalf("%d waiting calls ran while the slot was taken", n)
+	}
+	// A waiting call whose deadline passes gives up with DEADLINE_EXCEEDED
+	// and leaves its place.
+	ctx, cancel := context.WithTimeout(ctxT(t), 50*time.Millisecond)
+	defer cancel()
+	ts2 := startServer(t, Config{MaxConcurrent: 1, MaxWaiting: 1}, func(text string) {
+		if text == "block" {
+			entered <- struct{}{}
+			<-release
+		}
+	})
+	go func() {
+		_, err := ts2.c.Annotate(ctxT(t), &pb.AnnotateRequest{Text: "block"})
+		done <- err
+	}()
+	<-entered
+	_, err := ts2.c.Annotate(ctx, &pb.AnnotateRequest{Text: "cat"})
+	wantCode(t, err, codes.DeadlineExceeded)
+	close(release)
+	for range 4 {
+		if err := <-done; err != nil {
+			t.Fatal(err)
+		}
+	}
+	if n := served.Load(); n != 2 {
+		t.Fatalf("%d waiting calls served, want 2", n)
+	}
+	waitCalls(t, ts)
+	waitCalls(t, ts2)
 }
 
 func TestDefaultDeadline(t *testing.T) {

@@ -64,10 +64,11 @@ func (s *Server) Annotate(ctx context.Context, r *pb.AnnotateRequest) (*pb.Annot
 	return resp, nil
 }
 
-// annotateOne annotates a validated request: picks the model, checks the
-// subjects against it, takes an annotation slot or fails at once with
-// RESOURCE_EXHAUSTED, and runs the annotator with panics turned into
-// INTERNAL.
+// annotateOne annotates a validated unary request: picks the model, checks
+// the subjects against it, takes an annotation slot, and runs the annotator
+// with panics turned into INTERNAL. With Config.MaxWaiting it waits for a
+// slot until the call's deadline (shed bounds how many calls wait);
+// without, it fails at once with RESOURCE_EXHAUSTED when none is free.
 func (s *Server) annotateOne(ctx context.Context, r *pb.AnnotateRequest, prefix string) (*pb.AnnotateResponse, error) {
 	sv, cur, err := s.prepare(ctx, r, prefix)
 	if err != nil {
@@ -76,8 +77,15 @@ func (s *Server) annotateOne(ctx context.Context, r *pb.AnnotateRequest, prefix 
 	select {
 	case s.sem <- struct{}{}:
 	default:
-		s.metrics.annotations.WithLabelValues(sv.spec.Name, codes.ResourceExhausted.String()).Inc()
-		return nil, errBusy
+		if s.cfg.MaxWaiting <= 0 {
+			s.metrics.annotations.WithLabelValues(sv.spec.Name, codes.ResourceExhausted.String()).Inc()
+			return nil, errBusy
+		}
+		select {
+		case s.sem <- struct{}{}:
+		case <-ctx.Done():
+			return nil, status.FromContextError(ctx.Err()).Err()
+		}
 	}
 	res, err := s.run(sv, cur, r)
 	<-s.sem

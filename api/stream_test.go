@@ -163,3 +163,20 @@ func TestStreamBatchSlots(t *testing.T) {
 	st.CloseSend()
 	waitCalls(t, ts)
 }
+
+func TestWaitingDefaults(t *testing.T) {
+	for _, tc := range []struct{ conc, wait, wantConc, wantWait int }{
+		{0, 0, runtime.GOMAXPROCS(0), 2 * runtime.GOMAXPROCS(0)},
+		{3, 0, 3, 6},
+		{3, 1, 3, 1},
+		{3, -5, 3, -1},
+	} {
+		c, err := Config{Models: []ModelSpec{{Name: "m", Path: "m.grove"}}, MaxConcurrent: tc.conc, MaxWaiting: tc.wait}.withDefaults()
+		if err != nil {
+			t.Fatal(err)
+		}
+		if c.MaxConcurrent != tc.wantConc || c.MaxWaiting != tc.wantWait {
+			t.Errorf("MaxConcurrent %d, MaxWaiting %d: got %d, %d; want %d, %d", tc.conc, tc.wait, c.MaxConcurrent, c.MaxWaiting, tc.wantConc, tc.wantWait)
+		}
+	}
+}
