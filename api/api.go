@@ -15,8 +15,9 @@
 // beyond is refused with RESOURCE_EXHAUSTED in the transport, before a
 // goroutine is started or its message read, so that refusals stay cheap and
 // no queue grows under overload. With MaxWaiting negative a call is refused
-// as soon as every slot is taken. A stream message takes the free slots
-// without waiting; with none free its records get RESOURCE_EXHAUSTED.
+// as soon as every slot is taken. A stream message takes the free slots, up
+// to one per core; with none free it waits for one when fewer than
+// MaxWaiting messages wait already, else its records get RESOURCE_EXHAUSTED.
 // Unary calls without a deadline get Config.DefaultDeadline; streams live
 // until the client ends them or the server shuts down. A request that fails validation gets INVALID_ARGUMENT with a
 // google.rpc.BadRequest detail listing every bad field. An unknown model or

@@ -49,7 +49,9 @@ type Server struct {
 	grpc    *grpc.Server
 	sem     chan struct{} // annotation slots; a full channel means overload
 	calls   atomic.Int64  // Annotate calls admitted by shed and not yet ended
-	cert    atomic.Pointer[tls.Certificate]
+	// batchWaiting counts stream messages waiting for an annotation slot.
+	batchWaiting atomic.Int64
+	cert         atomic.Pointer[tls.Certificate]
 
 	mu          sync.Mutex
 	lis         net.Listener

@@ -217,8 +217,8 @@ type batchRecord struct {
 // their results in order. Records that pass validation are annotated by
 // up to GOMAXPROCS workers at once, each holding an annotation slot for the
 // whole message: the slots are taken without waiting, as many as are free;
-// with none free every such record gets RESOURCE_EXHAUSTED, as a unary call
-// would.
+// with none free the message waits for one (takeSlots), and when it may not
+// wait every such record gets RESOURCE_EXHAUSTED, as a unary call would.
 func (s *Server) annotateBatch(ctx context.Context, recs []*pb.AnnotateRequest) []*pb.AnnotateStreamResult {
 	results := make([]*pb.AnnotateStreamResult, len(recs))
 	todo := make([]batchRecord, 0, len(recs))
@@ -241,14 +241,8 @@ func (s *Server) annotateBatch(ctx context.Context, recs []*pb.AnnotateRequest) 
 		todo = append(todo, batchRecord{r: r, sv: sv, cur: cur, res: res})
 	}
 	workers := 0
-take:
-	for workers < min(len(todo), runtime.GOMAXPROCS(0)) {
-		select {
-		case s.sem <- struct{}{}:
-			workers++
-		default:
-			break take
-		}
+	if len(todo) > 0 {
+		workers = s.takeSlots(ctx, min(len(todo), runtime.GOMAXPROCS(0)))
 	}
 	if workers == 0 {
 		for _, b := range todo {
@@ -279,6 +273,37 @@ take:
 	work()
 	wg.Wait()
 	return results
+}
+
+// takeSlots takes up to n free annotation slots without waiting. With none
+// free it waits for one, as a queued unary call does, when fewer than
+// Config.MaxWaiting stream messages are waiting already and until ctx ends;
+// otherwise it takes none. It returns how many it took.
+func (s *Server) takeSlots(ctx context.Context, n int) int {
+	took := 0
+take:
+	for took < n {
+		select {
+		case s.sem <- struct{}{}:
+			took++
+		default:
+			break take
+		}
+	}
+	if took > 0 || s.cfg.MaxWaiting <= 0 {
+		return took
+	}
+	if s.batchWaiting.Add(1) > int64(s.cfg.MaxWaiting) {
+		s.batchWaiting.Add(-1)
+		return 0
+	}
+	defer s.batchWaiting.Add(-1)
+	select {
+	case s.sem <- struct{}{}:
+		return 1
+	case <-ctx.Done():
+		return 0
+	}
 }
 
 // annotateRecord annotates one record of a batch with a slot held, and sets

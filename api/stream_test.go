@@ -90,13 +90,14 @@ func TestStreamBatchParallel(t *testing.T) {
 }
 
 // TestStreamBatchSlots checks that a batch takes only the slots that are
-// free, never fails a record for want of one once it has one, and fails
-// every record with RESOURCE_EXHAUSTED when none is free.
+// free, never fails a record for want of one once it has one, and, when it
+// may not wait, fails every record with RESOURCE_EXHAUSTED when none is
+// free.
 func TestStreamBatchSlots(t *testing.T) {
 	release := make(chan struct{})
 	entered := make(chan struct{}, 4)
 	var inside, most atomic.Int64
-	ts := startServer(t, Config{MaxConcurrent: 2}, func(text string) {
+	ts := startServer(t, Config{MaxConcurrent: 2, MaxWaiting: -1}, func(text string) {
 		switch text {
 		case "block":
 			entered <- struct{}{}
@@ -178,5 +179,71 @@ func TestWaitingDefaults(t *testing.T) {
 		if c.MaxConcurrent != tc.wantConc || c.MaxWaiting != tc.wantWait {
 			t.Errorf("MaxConcurrent %d, MaxWaiting %d: got %d, %d; want %d, %d", tc.conc, tc.wait, c.MaxConcurrent, c.MaxWaiting, tc.wantConc, tc.wantWait)
 		}
+	}
+}
+
+// TestStreamBatchWaits checks that a batch that finds every slot taken
+// waits for one when it may, and is refused when the waiting places are
+// taken too.
+func TestStreamBatchWaits(t *testing.T) {
+	release := make(chan struct{})
+	entered := make(chan struct{}, 1)
+	ts := startServer(t, Config{MaxConcurrent: 1, MaxWaiting: 1}, func(text string) {
+		if text == "block" {
+			entered <- struct{}{}
+			<-release
+		}
+	})
+	done := make(chan error, 1)
+	go func() {
+		_, err := ts.c.Annotate(ctxT(t), &pb.AnnotateRequest{Text: "block"})
+		done <- err
+	}()
+	<-entered
+	send := func(id string) pb.AnnotationService_AnnotateStreamClient {
+		st, err := ts.c.AnnotateStream(ctxT(t))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := st.Send(&pb.AnnotateStreamRequest{Records: []*pb.AnnotateRequest{{Id: id, Text: "cat"}, {Id: id + "2", Text: "dog"}}}); err != nil {
+			t.Fatal(err)
+		}
+		return st
+	}
+	waiter := send("w")
+	for deadline := time.Now().Add(5 * time.Second); ts.s.batchWaiting.Load() != 1; {
+		if time.Now().After(deadline) {
+			t.Fatal("the first batch is not waiting for a slot")
+		}
+		time.Sleep(time.Millisecond)
+	}
+	// The one waiting place is taken: the next batch is refused.
+	refused := send("x")
+	r, err := refused.Recv()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, res := range r.GetResults() {
+		if res.GetError().GetCode() != int32(codes.ResourceExhausted) {
+			t.Fatalf("batch beyond the waiting places: %v", res)
+		}
+	}
+	refused.CloseSend()
+	close(release)
+	if err := <-done; err != nil {
+		t.Fatal(err)
+	}
+	r, err = waiter.Recv()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, res := range r.GetResults() {
+		if res.GetAnnotation() == nil {
+			t.Fatalf("waiting batch: %v", res)
+		}
+	}
+	waiter.CloseSend()
+	if n := ts.s.batchWaiting.Load(); n != 0 {
+		t.Fatalf("%d batches still counted waiting", n)
 	}
 }
