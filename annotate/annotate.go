@@ -46,8 +46,9 @@
 // share a posterior. Only the smoothing bucket's split over topics is taken
 // per sweep rather than per token; the posterior still sums to 1.
 //
-// Memory per call grows with distinct words × topics met, so texts are
-// limited by Options.MaxBytes (default 1 MiB).
+// Memory per call grows with the record's distinct words times the topics
+// that hold them (or, for large vocabularies, that the sampler visits), so
+// texts are limited by Options.MaxBytes (default 1 MiB).
 //
 // The random seed is a hash of the model's checksum, the text and the
 // options, so the same model and text always give the same result, whatever
@@ -1193,8 +1194,8 @@ func (a *Annotator) freeDSM(st *state) float64 {
 // summarise turns the accumulators into scores, paths, supports and words.
 func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt Options, st *state, samples float64) {
 	N := float64(len(st.tu))
-	// θ_k = mean over sampling sweeps of (n_dk + α'_k) / (N + Σα'), where α'
-	// is α as the options changed it (restricted: α of the allowed topics
+	// θ_k = (n̄_dk + α'_k) / (N + Σα'), n̄_dk the sampling sweeps' mean of
+	// Σ_i p(z_i = k | z_¬i) (theta), where α' is α as the options changed it (restricted: α of the allowed topics
 	// only; boosted: plus the subjects' extra).
 	alphaP := func(k int32) float64 {
 		if st.allow {
