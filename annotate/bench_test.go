@@ -377,7 +377,7 @@ func TestSweepsQuality(t *testing.T) {
 		}
 		return nil
 	})
-	for _, c := range [][2]int{{2, 5}, {3, 5}, {2, 8}, {DefaultBurnIn, DefaultSamples}, {3, 16}, {10, 20}, {20, 40}} {
+	for _, c := range [][2]int{{3, 5}, {DefaultBurnIn, DefaultSamples}, {3, 8}, {3, 10}, {3, 16}, {10, 20}, {20, 40}} {
 		hit, n := 0, 0
 		t0 := time.Now()
 		for _, r := range recs {
