@@ -40,7 +40,9 @@ echo "## $(date -u +%FT%TZ) $(nproc) cores, load average: $(cut -d' ' -f1-3 /pro
 bin/loadtest -mode local -concurrency 1,2 -duration 10s -words-from "$model"
 echo "## transport ceiling: 150 words the model does not know"
 bin/loadtest "${addr[@]}" -mode sweep -concurrency 8 -duration 10s -unknown-words
-bin/loadtest "${addr[@]}" -mode sweep -concurrency 1,8,64 -duration 10s "${src[@]}" > .cache/load/sweep.txt
+# Refused workers back off (2 ms, doubling up to 64 ms), as the server asks
+# and as gRPC clients' retry policies do, instead of spinning on refusals.
+bin/loadtest "${addr[@]}" -mode sweep -concurrency 1,8,64 -duration 10s -busy-backoff 2ms "${src[@]}" > .cache/load/sweep.txt
 cat .cache/load/sweep.txt
 bin/loadtest "${addr[@]}" -mode stream -concurrency 1,2 -batch 32 -duration 10s "${src[@]}"
 # Capacity: the best accepted rate of the unary sweep.

@@ -95,7 +95,7 @@ func run(args []string) int {
 	fs.IntVar(&o.checkEvery, "check-every", 16, "decode and check every Nth response in full (1: all); the others are only counted, to keep the load tool's own CPU low")
 	fs.BoolVar(&o.unknown, "unknown-words", false, "records of words no model knows: the server analyses them and answers, with nothing to sample (the ceiling of the transport and the analyser)")
 	fs.IntVar(&o.batch, "batch", 32, "stream: records per AnnotateStream message")
-	fs.DurationVar(&o.busyBackoff, "busy-backoff", 0, "sweep: a worker whose call gets RESOURCE_EXHAUSTED waits this long before its next call (0: at once)")
+	fs.DurationVar(&o.busyBackoff, "busy-backoff", 0, "sweep: a worker whose call gets RESOURCE_EXHAUSTED backs off before its next call, as the server asks: this long at first, doubling with each refusal in a row up to 32 times as long, with jitter (0: retry at once)")
 	if err := fs.Parse(args); err != nil {
 		return 2
 	}
@@ -429,6 +429,8 @@ func closedLoop(o *options, conns []*grpc.ClientConn, reqs []prepared, c int) re
 		go func() {
 			defer wg.Done()
 			cc := conns[w%len(conns)]
+			backoff := o.busyBackoff
+			rnd := rand.New(rand.NewPCG(uint64(w), 7))
 			for i := w; time.Now().Before(end); i += c {
 				if rec.sent.Add(1) > int64(o.maxRequests) {
 					return
@@ -438,8 +440,13 @@ func closedLoop(o *options, conns []*grpc.ClientConn, reqs []prepared, c int) re
 				_, err := call(ctx, cc, &reqs[i%len(reqs)], i%o.checkEvery == 0)
 				cancel()
 				rec.add(time.Since(t0), err)
-				if o.busyBackoff > 0 && status.Code(err) == codes.ResourceExhausted {
-					time.Sleep(o.busyBackoff)
+				if o.busyBackoff > 0 {
+					if status.Code(err) != codes.ResourceExhausted {
+						backoff = o.busyBackoff
+						continue
+					}
+					time.Sleep(backoff/2 + time.Duration(rnd.Int64N(int64(backoff/2)+1)))
+					backoff = min(2*backoff, 32*o.busyBackoff)
 				}
 			}
 		}()
