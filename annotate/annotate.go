@@ -600,6 +600,7 @@ type state struct {
 	d         float64     // D = Σ_k c_k·φ⁰_k over the active slots
 	touched   []int32
 	ranked    []scored
+	sup       []Support // support's scratch
 
 	uw    []int32   // word type u → word id
 	ucnt  []int32   // occurrences of u
@@ -1223,7 +1224,13 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 	}
 	res.Uncovered = unc * norm
 	var rel map[int32]float64 // related-concept boosts, see relatedWeight
-	score := func(k int32) float64 { return (st.th[k]+a.alpha[k]*a.phi0[k]*rbF+alphaP(k))*norm + rel[k] }
+	score := func(k int32) float64 {
+		v := (st.th[k] + a.alpha[k]*a.phi0[k]*rbF + alphaP(k)) * norm
+		if rel != nil {
+			v += rel[k]
+		}
+		return v
+	}
 
 	// Rank: the record's concepts, plus the others in the order of α_k
 	// (their score is α_k/(N + Σα)).
@@ -1404,9 +1411,13 @@ func (a *Annotator) theta(st *state, samples float64) float64 {
 		sfree += f * (a.awF[w] - a.qFree)
 	}
 	st.sfree = sfree * inv
-	for _, k := range st.bT {
+	for _, k := range st.bT { // each with its bucket already
 		if int(k) < a.C {
-			a.addAliasS(st, k, 1)
+			v := 0.0
+			for _, e := range st.bent[st.bo[k] : st.bo[k]+st.bn[k]] {
+				v += e.s * st.fu[e.u]
+			}
+			st.th[k] += a.alpha[k] * v
 		}
 	}
 	for u := range st.uw {
@@ -1525,17 +1536,16 @@ func (a *Annotator) support(st *state, k int32, samples float64) []Support {
 		ds = st.dsm[s] / samples
 	}
 	ak, p0 := a.alpha[k], a.phi0[k]
-	for u, w := range st.uw {
-		buf[u] = st.dacc[u]*ds + st.cacc[u]*ak*p0/a.aw[w]
+	fu := st.fu // cacc_u/A_w, from theta
+	for u := range buf {
+		buf[u] = st.dacc[u]*ds + fu[u]*ak*p0
 	}
-	{
-		for _, e := range a.bucket(st, k) {
-			v := st.cacc[e.u] * ak * e.s / a.aw[st.uw[e.u]]
-			if s >= 0 {
-				v += st.wacc[e.u][e.j]
-			}
-			buf[e.u] += v
+	for _, e := range a.bucket(st, k) {
+		v := fu[e.u] * ak * e.s
+		if s >= 0 {
+			v += st.wacc[e.u][e.j]
 		}
+		buf[e.u] += v
 	}
 	mass := 0.0
 	inv := 1 / samples
@@ -1546,7 +1556,7 @@ func (a *Annotator) support(st *state, k int32, samples float64) []Support {
 	if mass <= 0 {
 		return nil
 	}
-	var out []Support
+	out := st.sup[:0]
 	for u, w := range st.uw {
 		if buf[u] < minSupportPost*float64(st.ucnt[u]) {
 			continue
@@ -1554,6 +1564,10 @@ func (a *Annotator) support(st *state, k int32, samples float64) []Support {
 		if wt := buf[u] / mass; wt >= minSupport {
 			out = append(out, Support{Term: a.m.Words[w], Weight: wt})
 		}
+	}
+	st.sup = out[:0]
+	if len(out) == 0 {
+		return nil
 	}
 	slices.SortFunc(out, func(x, y Support) int {
 		switch {
@@ -1564,10 +1578,7 @@ func (a *Annotator) support(st *state, k int32, samples float64) []Support {
 		}
 		return strings.Compare(x.Term, y.Term)
 	})
-	if len(out) > maxSupport {
-		out = out[:maxSupport]
-	}
-	return out
+	return slices.Clone(out[:min(len(out), maxSupport)])
 }
 
 // words fills res.Words: per occurrence the concept its word type most
