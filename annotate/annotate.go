@@ -575,18 +575,19 @@ type state struct {
 	gen  uint32
 	aggT []int32
 	// The record's word lists regrouped by topic, built once per record:
-	// topic k's entries (word type, s_kw) are bent[bo[k] : bo[k]+bn[k]].
-	// In row mode (rows) a topic's entries are found when first needed
-	// (bucket), bhas[k] saying so, and bT lists the topics found.
-	bn, bo []int32 // K
-	bhas   []bool  // K
-	bT     []int32 // topics with bn > 0, or in row mode with bhas
-	bent   []bEntry
-	rows   bool
-	usort  []int32   // row mode: word types ordered by word id
-	fu     []float64 // word type → cacc/A_w
-	sfree  float64   // free topics' share of the α·s_kw part, over all sweeps
-	stack  []int32
+	// topic k's entries (word type, s_kw) are linked through bent from
+	// bent[bh[k]-1] (bh[k] = 0: none). In row mode (rows) a topic's
+	// entries are found when first needed (first), bhas[k] saying so, and
+	// bT lists the topics found.
+	bh    []int32 // K
+	bhas  []bool  // K
+	bT    []int32 // topics with bh > 0, or in row mode with bhas
+	bent  []bEntry
+	rows  bool
+	usort []int32   // row mode: word types ordered by word id
+	fu    []float64 // word type → cacc/A_w
+	sfree float64   // free topics' share of the α·s_kw part, over all sweeps
+	stack []int32
 
 	slotTopic []int32     // slot → topic
 	pos       []int32     // slot → position in act, -1 when inactive
@@ -619,7 +620,7 @@ func (a *Annotator) get() *state {
 	}
 	st := &state{ndk: make([]int32, a.K), ext: make([]float64, a.K), slot: make([]int32, a.K),
 		th: make([]float64, a.K), agg: make([]float64, a.C), mark: make([]uint32, a.C),
-		bn: make([]int32, a.K), bo: make([]int32, a.K), bhas: make([]bool, a.K), uOf: make([]int32, len(a.m.Words))}
+		bh: make([]int32, a.K), bhas: make([]bool, a.K), uOf: make([]int32, len(a.m.Words))}
 	for k := range st.slot {
 		st.slot[k] = -1
 	}
@@ -649,7 +650,7 @@ func (a *Annotator) put(st *state) {
 	}
 	st.nz, st.wacc = st.nz[:0], st.wacc[:0]
 	for _, k := range st.bT {
-		st.bn[k], st.bhas[k] = 0, false
+		st.bh[k], st.bhas[k] = 0, false
 	}
 	st.bT, st.bent, st.usort, st.rows = st.bT[:0], st.bent[:0], st.usort[:0], false
 	st.d = 0
@@ -675,13 +676,12 @@ func (a *Annotator) slotOf(st *state, k int32) int32 {
 	st.slot[k] = s
 	st.slotTopic = append(st.slotTopic, k)
 	st.pos = append(st.pos, -1)
-	if b := a.bucket(st, k); len(b) > 0 {
-		for i := range b {
-			e := &b[i]
-			e.j = int32(len(st.nz[e.u]))
-			st.nz[e.u] = append(st.nz[e.u], nzEntry{s, e.s})
-			st.wacc[e.u] = append(st.wacc[e.u], 0)
-		}
+	for i := a.first(st, k); i >= 0; {
+		e := &st.bent[i]
+		e.j = int32(len(st.nz[e.u]))
+		st.nz[e.u] = append(st.nz[e.u], nzEntry{s, e.s})
+		st.wacc[e.u] = append(st.wacc[e.u], 0)
+		i = e.next
 	}
 	st.cs = append(st.cs, float64(st.ndk[k])+st.ext[k])
 	st.phi0s = append(st.phi0s, a.phi0[k])
@@ -695,11 +695,12 @@ type nzEntry struct {
 	v float64
 }
 
-// bEntry is a word type u of the record that a topic holds, with s_kw;
-// once the topic has a slot, nz[u][j] is that slot's entry.
+// bEntry is a word type u of the record that topic k holds, with s_kw;
+// once the topic has a slot, nz[u][j] is that slot's entry. next is the
+// topic's next entry (-1: none).
 type bEntry struct {
-	u, j int32
-	s    float64
+	u, j, k, next int32
+	s             float64
 }
 
 // nextGen starts a new hierarchy walk.
@@ -748,16 +749,13 @@ func (a *Annotator) sOf(st *state, s, u int32) float64 {
 	return 0
 }
 
-// bucket returns topic k's entries: the record's word types it holds.
-func (a *Annotator) bucket(st *state, k int32) []bEntry {
+// first returns the index in bent of topic k's first entry (-1: none);
+// bent[i].next links the others: the record's word types topic k holds.
+func (a *Annotator) first(st *state, k int32) int32 {
 	if st.rows && !st.bhas[k] {
 		a.fillRow(st, k)
 	}
-	n := st.bn[k]
-	if n == 0 {
-		return nil
-	}
-	return st.bent[st.bo[k] : st.bo[k]+n]
+	return st.bh[k] - 1
 }
 
 // fillRow finds topic k's entries (row mode): a merge of topic k's sorted
@@ -766,7 +764,6 @@ func (a *Annotator) bucket(st *state, k int32) []bEntry {
 func (a *Annotator) fillRow(st *state, k int32) {
 	st.bhas[k] = true
 	st.bT = append(st.bT, k)
-	start := len(st.bent)
 	row := a.m.Counts[k]
 	var pr []model.WordWeight
 	if int(k) < len(a.m.Prior) {
@@ -808,38 +805,29 @@ func (a *Annotator) fillRow(st *state, k int32) {
 		default:
 			continue
 		}
-		st.bent = append(st.bent, bEntry{u: u, s: num / a.den[k]})
+		st.bent = append(st.bent, bEntry{u: u, k: k, next: st.bh[k] - 1, s: num / a.den[k]})
+		st.bh[k] = int32(len(st.bent))
 	}
-	st.bo[k], st.bn[k] = int32(start), int32(len(st.bent)-start)
 }
 
-// group regroups the word lists of the record's word types by topic (a
-// counting sort), so that a new slot finds the record's words its topic
-// holds without reading the topic's whole row.
-func (a *Annotator) group(st *state) {
-	for _, w := range st.uw {
-		for _, k := range a.topic[a.off[w]:a.off[w+1]] {
-			if st.bn[k] == 0 {
-				st.bT = append(st.bT, k)
-			}
-			st.bn[k]++
-		}
-	}
-	n := int32(0)
-	for _, k := range st.bT {
-		st.bo[k] = n
-		n += st.bn[k]
-		st.bn[k] = 0
-	}
-	st.bent = slices.Grow(st.bent[:0], int(n))[:n]
+// group regroups the word lists of the record's word types by topic (one
+// linked list per topic, in one pass), so that a new slot finds the
+// record's words its topic holds without reading the topic's whole row.
+func (a *Annotator) group(st *state, T int) {
+	bent := slices.Grow(st.bent[:0], T)
 	for u, w := range st.uw {
 		lo, hi := a.off[w], a.off[w+1]
 		sw := a.s[lo:hi]
 		for i, k := range a.topic[lo:hi] {
-			st.bent[st.bo[k]+st.bn[k]] = bEntry{u: int32(u), s: sw[i]}
-			st.bn[k]++
+			h := st.bh[k]
+			if h == 0 {
+				st.bT = append(st.bT, k)
+			}
+			bent = append(bent, bEntry{u: int32(u), k: k, next: h - 1, s: sw[i]})
+			st.bh[k] = int32(len(bent))
 		}
 	}
+	st.bent = bent
 }
 
 // infer runs the sampler over toks and fills res.
@@ -885,7 +873,7 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 		}
 		slices.SortFunc(st.usort, func(x, y int32) int { return int(st.uw[x] - st.uw[y]) })
 	} else {
-		a.group(st)
+		a.group(st, T)
 	}
 
 	// Known subjects.
@@ -1261,7 +1249,7 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 			if extra >= want {
 				break
 			}
-			if st.slot[k] < 0 && st.bn[k] == 0 && !st.bhas[k] {
+			if st.slot[k] < 0 && st.bh[k] == 0 && !st.bhas[k] {
 				if st.rows {
 					// Its α·s_kw share, unknown until its row is read.
 					a.addAliasS(st, k, 1/samples)
@@ -1411,13 +1399,10 @@ func (a *Annotator) theta(st *state, samples float64) float64 {
 		sfree += f * (a.awF[w] - a.qFree)
 	}
 	st.sfree = sfree * inv
-	for _, k := range st.bT { // each with its bucket already
-		if int(k) < a.C {
-			v := 0.0
-			for _, e := range st.bent[st.bo[k] : st.bo[k]+st.bn[k]] {
-				v += e.s * st.fu[e.u]
-			}
-			st.th[k] += a.alpha[k] * v
+	for i := range st.bent { // the entries of every topic in bT
+		e := &st.bent[i]
+		if int(e.k) < a.C {
+			st.th[e.k] += a.alpha[e.k] * (e.s * st.fu[e.u])
 		}
 	}
 	for u := range st.uw {
@@ -1442,8 +1427,8 @@ func (a *Annotator) theta(st *state, samples float64) float64 {
 // of the alias part (theta).
 func (a *Annotator) addAliasS(st *state, k int32, scale float64) {
 	ak, v := a.alpha[k], 0.0
-	for _, e := range a.bucket(st, k) {
-		v += e.s * st.fu[e.u]
+	for i := a.first(st, k); i >= 0; i = st.bent[i].next {
+		v += st.bent[i].s * st.fu[st.bent[i].u]
 	}
 	st.th[k] += ak * v * scale
 }
@@ -1540,7 +1525,8 @@ func (a *Annotator) support(st *state, k int32, samples float64) []Support {
 	for u := range buf {
 		buf[u] = st.dacc[u]*ds + fu[u]*ak*p0
 	}
-	for _, e := range a.bucket(st, k) {
+	for i := a.first(st, k); i >= 0; i = st.bent[i].next {
+		e := &st.bent[i]
 		v := fu[e.u] * ak * e.s
 		if s >= 0 {
 			v += st.wacc[e.u][e.j]
