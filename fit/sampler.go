@@ -41,6 +41,9 @@ type worker struct {
 	qbuf []float64 // word bucket terms, parallel to wt[w]
 	pbuf []float64 // prior bucket terms, parallel to the prior list of w
 
+	oldPos int // index in wt[w] of the unassigned token's topic (see wordBucket)
+	newPos int // index in wt[w] of the drawn topic, or −1
+
 	changes [][]change // per merge partition (word mod workers)
 
 	mh *mhState // tables of the MH sampler (mh.go); nil until used
@@ -177,13 +180,21 @@ func (wk *worker) doc(d *sdoc, first bool) {
 			}
 			prefetch(unsafe.Pointer(&st.pStart[w2]))
 		}
-		if !first {
-			wk.remove(w, old)
+		if first {
+			k := wk.draw(w, -1)
+			wk.add(w, k)
+			st.z[i] = k
+			continue
 		}
-		k := wk.draw(w)
-		wk.add(w, k)
+		// The old topic leaves the counts but stays in the word's list until
+		// the new one is known (draw reads its count there less one): the
+		// list is searched once, and not changed at all when the token keeps
+		// its topic.
+		wk.unassign(w, old)
+		k := wk.draw(w, old)
+		wk.reassign(w, old, k)
 		st.z[i] = k
-		if wk.local && !first && k != old {
+		if wk.local && k != old {
 			p := int(w) % len(wk.changes)
 			wk.changes[p] = append(wk.changes[p], change{w, old, k})
 		}
@@ -214,7 +225,15 @@ func (wk *worker) update(k int32, ndBefore int32) {
 	wk.coef[k] = (a + float64(nd)) * inv
 }
 
+// remove takes a token of word w off topic k.
 func (wk *worker) remove(w, k int32) {
+	wk.unassign(w, k)
+	decList(&wk.wt[w], k)
+}
+
+// unassign takes a token of word w off topic k in every count but the word
+// list (n_k, n_dk and the cached sums).
+func (wk *worker) unassign(w, k int32) {
 	nd := wk.ndk[k]
 	wk.ndk[k] = nd - 1
 	wk.nk[k]--
@@ -226,10 +245,33 @@ func (wk *worker) remove(w, k int32) {
 		wk.dtopics = wk.dtopics[:len(wk.dtopics)-1]
 	}
 	wk.update(k, nd)
-	decList(&wk.wt[w], k)
 }
 
+// reassign finishes moving a token of word w from topic old (unassigned,
+// still in the word list, found there by draw at wk.oldPos) to topic k
+// (found there at wk.newPos, if drawn from the word bucket).
+func (wk *worker) reassign(w, old, k int32) {
+	if k == old {
+		wk.assign(k)
+		return
+	}
+	j := decListAt(&wk.wt[w], wk.oldPos)
+	p := wk.newPos
+	if p > wk.oldPos && p <= j {
+		p--
+	}
+	wk.assign(k)
+	incListAt(&wk.wt[w], k, p)
+}
+
+// add puts a token of word w on topic k.
 func (wk *worker) add(w, k int32) {
+	wk.assign(k)
+	incList(&wk.wt[w], k)
+}
+
+// assign puts a token on topic k in n_k, n_dk and the cached sums.
+func (wk *worker) assign(k int32) {
 	nd := wk.ndk[k]
 	if nd == 0 {
 		wk.dpos[k] = int32(len(wk.dtopics))
@@ -238,78 +280,123 @@ func (wk *worker) add(w, k int32) {
 	wk.ndk[k] = nd + 1
 	wk.nk[k]++
 	wk.update(k, nd)
-	incList(&wk.wt[w], k)
 }
 
-// buckets fills qbuf and pbuf for word w and returns the four bucket totals
-// (word, prior, document, smoothing). The current token must be removed.
-func (wk *worker) buckets(w int32) (qw, qp, r, s float64) {
-	st := wk.st
+// wordBucket fills qbuf with the word bucket terms (α_k+n_dk)·n_kw/(n_k+B_k)
+// of w's list (0 at disallowed topics) and returns their total. Topic old
+// (−1: none) is the unassigned token's: its list count is one too high
+// (the list is changed once the new topic is known), and its index is kept
+// in oldPos.
+func (wk *worker) wordBucket(w, old int32) float64 {
 	list := wk.wt[w]
 	qb := wk.qbuf[:len(list)]
+	coef := wk.coef
+	q := 0.0
+	if !wk.restricted {
+		for i, e := range list {
+			n := e.n
+			if e.k == old {
+				n--
+				wk.oldPos = i
+			}
+			v := coef[e.k] * float64(n)
+			qb[i] = v
+			q += v
+		}
+		return q
+	}
+	al := wk.allowed
+	for i, e := range list {
+		n := e.n
+		if e.k == old {
+			n--
+			wk.oldPos = i
+		}
+		v := 0.0
+		if al[e.k] {
+			v = coef[e.k] * float64(n)
+		}
+		qb[i] = v
+		q += v
+	}
+	return q
+}
+
+// priorBucket fills pbuf with the prior terms of w and returns their total.
+func (wk *worker) priorBucket(w int32) float64 {
+	st := wk.st
 	lo, hi := st.pStart[w], st.pStart[w+1]
+	if lo == hi {
+		return 0
+	}
 	pt := st.pTopic[lo:hi]
 	pm := st.pMass[lo:hi]
 	pb := wk.pbuf[:len(pt)]
 	coef := wk.coef
+	q := 0.0
 	if !wk.restricted {
-		for i, e := range list {
-			v := coef[e.k] * float64(e.n)
-			qb[i] = v
-			qw += v
-		}
 		for j, k := range pt {
 			v := coef[k] * pm[j]
 			pb[j] = v
-			qp += v
+			q += v
 		}
-		return qw, qp, wk.rsum, wk.sCon + wk.sFree
+		return q
 	}
 	al := wk.allowed
-	for i, e := range list {
-		v := 0.0
-		if al[e.k] {
-			v = coef[e.k] * float64(e.n)
-		}
-		qb[i] = v
-		qw += v
-	}
 	for j, k := range pt {
 		v := 0.0
 		if al[k] {
 			v = coef[k] * pm[j]
 		}
 		pb[j] = v
-		qp += v
+		q += v
 	}
-	return qw, qp, wk.rsum, wk.sFree + wk.sSubj
+	return q
 }
 
-// draw samples a topic for one token of word w from the conditional.
-func (wk *worker) draw(w int32) int32 {
-	st := wk.st
-	qw, qp, r, s := wk.buckets(w)
+// smoothTotal is the smoothing bucket's total over the allowed topics.
+func (wk *worker) smoothTotal() float64 {
+	if wk.restricted {
+		return wk.sFree + wk.sSubj
+	}
+	return wk.sCon + wk.sFree
+}
+
+// draw samples a topic for one token of word w from the conditional, the
+// token unassigned; old is its former topic while still in w's list (see
+// wordBucket), else −1.
+func (wk *worker) draw(w, old int32) int32 {
+	wk.newPos = -1
+	qw := wk.wordBucket(w, old)
+	qp := wk.priorBucket(w)
+	r, s := wk.rsum, wk.smoothTotal()
 	u := wk.r.Float64() * (qw + qp + r + s)
 	if u < qw {
 		list := wk.wt[w]
-		qb := wk.qbuf[:len(list)]
-		last := int32(-1)
-		for i, v := range qb {
+		last := -1
+		for i, v := range wk.qbuf[:len(list)] {
 			if v > 0 {
-				last = list[i].k
+				last = i
 				u -= v
 				if u < 0 {
-					return list[i].k
+					break
 				}
 			}
 		}
-		if last >= 0 { // rounding
-			return last
+		if last >= 0 {
+			wk.newPos = last
+			return list[last].k
 		}
 	}
-	u -= qw
-	lo, hi := st.pStart[w], st.pStart[w+1]
+	return wk.pickOther(w, u-qw, qp, r)
+}
+
+// pickOther returns the topic at offset u of the prior, document and
+// smoothing buckets, in that order.
+func (wk *worker) pickOther(w int32, u, qp, r float64) int32 {
+	st := wk.st
 	if u < qp {
+		lo, hi := st.pStart[w], st.pStart[w+1]
 		pt := st.pTopic[lo:hi]
 		last := int32(-1)
 		for j, v := range wk.pbuf[:len(pt)] {

@@ -114,13 +114,19 @@ func denseConditional(st *state, di int, skip int64) []float64 {
 
 // bucketConditional lays the four buckets of the sparse sampler out per
 // topic, using the worker's own bucket values, and checks its cached totals.
-func bucketConditional(t *testing.T, wk *worker, w int32) []float64 {
+// old is the topic of a token unassigned but still in w's list (−1: none).
+func bucketConditional(t *testing.T, wk *worker, w, old int32) []float64 {
 	t.Helper()
 	st := wk.st
-	qw, qp, r, s := wk.buckets(w)
+	qw := wk.wordBucket(w, old)
+	qp := wk.priorBucket(w)
+	r, s := wk.rsum, wk.smoothTotal()
 	p := make([]float64, st.K)
 	var sq, sp, sr, ss float64
 	for i, e := range wk.wt[w] {
+		if e.k == old && wk.oldPos != i {
+			t.Fatalf("old topic %d at index %d, oldPos %d", old, i, wk.oldPos)
+		}
 		p[e.k] += wk.qbuf[i]
 		sq += wk.qbuf[i]
 	}
@@ -189,9 +195,17 @@ func TestBucketsEqualDense(t *testing.T) {
 			d := &st.docs[di]
 			wk.begin(d, true)
 			for i := d.start; i < d.end; i++ {
-				w := st.words[i]
-				wk.remove(w, st.z[i])
-				got := bucketConditional(t, wk, w)
+				// Every other token as the sweep does it (the old topic still
+				// in the word list), the others fully removed.
+				w, old := st.words[i], st.z[i]
+				lazy := i%2 == 0
+				if lazy {
+					wk.unassign(w, old)
+				} else {
+					wk.remove(w, old)
+					old = -1
+				}
+				got := bucketConditional(t, wk, w, old)
 				want := denseConditional(st, di, i)
 				for k := range want {
 					if math.Abs(got[k]-want[k]) > 1e-9 {
@@ -199,8 +213,12 @@ func TestBucketsEqualDense(t *testing.T) {
 					}
 				}
 				checked++
-				k := wk.draw(w) // move on, so the cached sums evolve
-				wk.add(w, k)
+				k := wk.draw(w, old) // move on, so the cached sums evolve
+				if lazy {
+					wk.reassign(w, old, k)
+				} else {
+					wk.add(w, k)
+				}
 				st.z[i] = k
 			}
 			wk.end()
@@ -233,12 +251,12 @@ func TestDrawMatchesConditional(t *testing.T) {
 		i := d.start
 		w := st.words[i]
 		wk.begin(d, true)
-		wk.remove(w, st.z[i])
+		wk.unassign(w, st.z[i])
 		want := denseConditional(st, di, i)
 		const n = 400000
 		counts := make([]float64, st.K)
 		for j := 0; j < n; j++ {
-			counts[wk.draw(w)]++
+			counts[wk.draw(w, st.z[i])]++
 		}
 		for k := range want {
 			se := math.Sqrt(n * want[k] * (1 - want[k]))
@@ -390,6 +408,54 @@ func TestMarginalAlpha(t *testing.T) {
 			}
 			if math.Abs(a[k]-want) > 1e-12 {
 				t.Errorf("anchor %v: α_%d = %v, want %v", anchor, k, a[k], want)
+			}
+		}
+	}
+}
+
+// TestWordListOrder: after random increments and decrements a word's list
+// holds exactly the nonzero counts, in the order of before (count
+// descending, ties by topic), whatever the order of the operations.
+// Common practice, no source.
+func TestWordListOrder(t *testing.T) {
+	r := rand.New(rand.NewPCG(4, 4))
+	for trial := 0; trial < 200; trial++ {
+		K := 1 + r.IntN(40)
+		want := make([]int32, K)
+		var l []tc
+		for op := 0; op < 300; op++ {
+			k := int32(r.IntN(K))
+			switch {
+			case want[k] > 0 && r.IntN(2) == 0:
+				want[k]--
+				if r.IntN(2) == 0 {
+					decList(&l, k)
+				} else {
+					j := decListAt(&l, findList(l, k))
+					if want[k] > 0 && l[j].k != k || want[k] == 0 && j != len(l) {
+						t.Fatalf("trial %d: decListAt of %d returned %d in %v", trial, k, j, l)
+					}
+				}
+			default:
+				want[k]++
+				if r.IntN(2) == 0 {
+					incList(&l, k)
+				} else { // with a guess, right or wrong
+					incListAt(&l, k, r.IntN(len(l)+2)-1)
+				}
+			}
+			got := make([]int32, K)
+			for i, e := range l {
+				if e.n <= 0 || got[e.k] != 0 {
+					t.Fatalf("trial %d: bad entry %v in %v", trial, e, l)
+				}
+				got[e.k] = e.n
+				if i > 0 && !before(l[i-1], e) {
+					t.Fatalf("trial %d: %v out of order", trial, l)
+				}
+			}
+			if !reflect.DeepEqual(got, want) {
+				t.Fatalf("trial %d: counts %v, want %v", trial, got, want)
 			}
 		}
 	}

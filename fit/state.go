@@ -12,7 +12,7 @@ import (
 )
 
 // tc is one nonzero word–topic count: topic k holds n tokens of the word.
-// A word's list is kept sorted by n, largest first, so that walks end early.
+// A word's list is kept sorted by n, largest first (ties by k), see before.
 type tc struct{ k, n int32 }
 
 // sdoc is a training record inside the sampler: its tokens are
@@ -46,7 +46,7 @@ type state struct {
 	heldout []int // indices into corpus.Docs kept out of training
 
 	nk []int32 // K: n_k
-	wt [][]tc  // W: nonzero n_kw, sorted by count descending
+	wt [][]tc  // W: nonzero n_kw, in the order of before
 
 	sweep    int
 	rngs     []*rng
@@ -363,45 +363,103 @@ func (st *state) rebuildCounts() error {
 	return nil
 }
 
-// incList adds one to topic k in a word's list, keeping it sorted by count
-// descending.
-func incList(l *[]tc, k int32) {
+// A word's list is kept in one order that depends on its counts only:
+// count descending, ties by topic ascending. Walks then meet the large terms
+// first, and the sampler's path from a state to its next draw does not
+// depend on how the state was reached (a fit resumed from a checkpoint,
+// whose lists are rebuilt from z, draws exactly what the uninterrupted fit
+// draws).
+
+// before reports whether entry a comes before entry b in a word's list.
+func before(a, b tc) bool { return a.n > b.n || (a.n == b.n && a.k < b.k) }
+
+// findList returns the index of topic k in a word's list, or −1.
+func findList(s []tc, k int32) int {
+	for i := range s {
+		if s[i].k == k {
+			return i
+		}
+	}
+	return -1
+}
+
+// incList adds one to topic k in a word's list.
+func incList(l *[]tc, k int32) { incListAt(l, k, -1) }
+
+// incListAt is incList with a guess at k's index (−1: none).
+func incListAt(l *[]tc, k int32, i int) {
 	s := *l
-	i := 0
-	for i < len(s) && s[i].k != k {
-		i++
+	if i < 0 || i >= len(s) || s[i].k != k {
+		i = findList(s, k)
 	}
-	if i == len(s) {
-		s = append(s, tc{k, 1})
-		*l = s
+	var e tc
+	if i < 0 {
+		s = append(s, tc{})
+		i = len(s) - 1
+		e = tc{k, 1}
 	} else {
-		s[i].n++
+		e = s[i]
+		e.n++
 	}
-	for i > 0 && s[i-1].n < s[i].n {
-		s[i-1], s[i] = s[i], s[i-1]
-		i--
+	// The entry moves up to the first index j ≤ i it comes before.
+	j := i
+	if j > 0 && before(e, s[j-1]) {
+		lo, hi := 0, j-1 // before(e, s[hi]) holds; find the first such index
+		for lo < hi {
+			m := int(uint(lo+hi) >> 1)
+			if before(e, s[m]) {
+				hi = m
+			} else {
+				lo = m + 1
+			}
+		}
+		j = lo
+		copy(s[j+1:i+1], s[j:i])
 	}
+	s[j] = e
+	*l = s
 }
 
 // decList removes one from topic k in a word's list; an entry reaching zero
-// drops off the end.
+// drops off.
 func decList(l *[]tc, k int32) {
-	s := *l
-	i := 0
-	for i < len(s) && s[i].k != k {
-		i++
-	}
-	if i == len(s) {
+	i := findList(*l, k)
+	if i < 0 {
 		panic("fit: internal error: word-topic count underflow")
 	}
-	s[i].n--
-	for i+1 < len(s) && s[i+1].n > s[i].n {
-		s[i+1], s[i] = s[i], s[i+1]
-		i++
-	}
-	if s[i].n == 0 {
+	decListAt(l, i)
+}
+
+// decListAt removes one from the entry at index i of a word's list and
+// returns the entry's new index (the list's new length when it dropped off):
+// the entries between the two moved up by one.
+func decListAt(l *[]tc, i int) int {
+	s := *l
+	e := s[i]
+	e.n--
+	if e.n == 0 {
+		copy(s[i:], s[i+1:])
 		*l = s[:len(s)-1]
+		return len(s) - 1
 	}
+	// The entry moves down to just before the first later entry it comes
+	// before.
+	j := i
+	if j+1 < len(s) && before(s[j+1], e) {
+		lo, hi := j+1, len(s) // s[lo] comes before e; find the first index that does not
+		for lo < hi {
+			m := int(uint(lo+hi) >> 1)
+			if before(s[m], e) {
+				lo = m + 1
+			} else {
+				hi = m
+			}
+		}
+		j = lo - 1
+		copy(s[i:j], s[i+1:j+1])
+	}
+	s[j] = e
+	return j
 }
 
 // AnchorShare is the least weight, relative to the heaviest term of its row,
