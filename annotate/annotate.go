@@ -1582,21 +1582,32 @@ func (a *Annotator) words(res *Result, text string, toks []terms.Token, st *stat
 			dk, dv = k, st.dsm[s]
 		}
 	}
+	sdk := int32(-1)
+	if dk >= 0 {
+		sdk = st.slot[dk]
+	}
 	for u := range st.uw {
 		u := int32(u)
 		w := int(st.uw[u])
 		bk, bp := int32(-1), -1.0
-		try := func(k int32) {
-			if int(k) >= a.C {
-				return
-			}
-			if p := a.post(st, u, k, samples); p > bp || (p == bp && k < bk) {
+		try := func(k int32, p float64) {
+			if p > bp || (p == bp && k < bk) {
 				bk, bp = k, p
 			}
 		}
+		// post(u, k), with the word type's factors taken out.
 		n := float64(st.ucnt[u]) * samples
 		invN := 1 / n
 		dn, cn := st.dacc[u]*invN/samples, st.cacc[u]*invN/a.aw[w]
+		// Candidates: the record's concepts that hold the word; the
+		// concept taking most of the smoothing bucket (dk); the best
+		// concept by α_k·φ_kw alone (best), which no concept without
+		// record mass can beat.
+		b, sb := a.best[w], int32(-1)
+		if b >= 0 {
+			sb = st.slot[b]
+		}
+		doneDk, doneB := false, false
 		free := 0.0 // the free slots' word-bucket share, as freePost sums it
 		for j, e := range st.nz[u] {
 			k := st.slotTopic[e.s]
@@ -1605,22 +1616,19 @@ func (a *Annotator) words(res *Result, text string, toks []terms.Token, st *stat
 				free += acc
 				continue
 			}
-			if acc > 0 {
-				// postAt, with the word type's factors taken out
-				p := acc*invN + dn*st.dsm[e.s] + cn*a.alpha[k]*(a.phi0[k]+e.v)
-				if p > bp || (p == bp && k < bk) {
-					bk, bp = k, p
-				}
+			try(k, acc*invN+dn*st.dsm[e.s]+cn*a.alpha[k]*(a.phi0[k]+e.v))
+			doneDk = doneDk || e.s == sdk
+			doneB = doneB || e.s == sb
+		}
+		if dk >= 0 && !doneDk { // dk does not hold the word: s = 0
+			try(dk, dn*st.dsm[sdk]+cn*a.alpha[dk]*a.phi0[dk])
+		}
+		if b >= 0 && !doneB {
+			p := cn * a.bestV[w]
+			if sb >= 0 {
+				p += dn * st.dsm[sb]
 			}
-		}
-		// The concept taking most of the smoothing bucket.
-		if dk >= 0 {
-			try(dk)
-		}
-		// The best concept by α_k·φ_kw alone: those without record mass
-		// cannot beat it.
-		if a.best[w] >= 0 {
-			try(a.best[w])
+			try(b, p)
 		}
 		pf := free/n + st.dacc[u]/n*dsF/samples + st.cacc[u]/n*a.awF[w]/a.aw[w]
 		if pf > bp || bk < 0 {

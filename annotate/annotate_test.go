@@ -388,18 +388,7 @@ func testDistributions(t *testing.T, maxList int) {
 				}
 			}
 		}
-		for _, wd := range res.Words {
-			u := st.uOf[slices.Index(m.Words, wd.Term)]
-			bk, bp := "", a.freePost(st, u, samples)
-			for k := 0; k < m.C; k++ {
-				if p := a.post(st, u, int32(k), samples); p > bp {
-					bk, bp = m.Scheme.Concepts[k].IRI, p
-				}
-			}
-			if wd.Concept != bk || math.Abs(wd.P-bp) > 1e-12 {
-				t.Errorf("%+v: word %s: %s %v, want %s %v", opt, wd.Term, wd.Concept, wd.P, bk, bp)
-			}
-		}
+		checkWords(t, a, st, res, samples, fmt.Sprintf("%+v", opt))
 		unc := 0.0
 		for k := m.C; k < m.K(); k++ {
 			unc += th[k]
@@ -876,4 +865,63 @@ func TestSelectBest(t *testing.T) {
 func bothModes(t *testing.T, test func(*testing.T, int)) {
 	t.Run("grouped", func(t *testing.T) { test(t, 1<<30) })
 	t.Run("rows", func(t *testing.T) { test(t, 0) })
+}
+
+// checkWords: each word's attribution is the argmax of post over all
+// concepts, or "" when the free topics' summed posterior is larger. Then
+// the same with the accumulators cut down to one part of the conditional
+// (only the α·φ part, only the smoothing bucket), where the candidates
+// outside the record's word lists decide.
+func checkWords(t *testing.T, a *Annotator, st *state, res *Result, samples float64, name string) {
+	t.Helper()
+	m := a.m
+	check := func(words []Word, what string) {
+		for _, wd := range words {
+			u := st.uOf[slices.Index(m.Words, wd.Term)]
+			bk, bp := "", a.freePost(st, u, samples)
+			for k := 0; k < m.C; k++ {
+				if p := a.post(st, u, int32(k), samples); p > bp {
+					bk, bp = m.Scheme.Concepts[k].IRI, p
+				}
+			}
+			if wd.Concept != bk || math.Abs(wd.P-bp) > 1e-12 {
+				t.Errorf("%s%s: word %s: %s %v, want %s %v", name, what, wd.Term, wd.Concept, wd.P, bk, bp)
+			}
+		}
+	}
+	check(res.Words, "")
+	if st.allow || len(res.Words) == 0 {
+		return
+	}
+	toks := make([]terms.Token, len(res.Words))
+	for i, wd := range res.Words {
+		toks[i] = terms.Token{Start: wd.Start, End: wd.End, Term: wd.Term, ID: int32(slices.Index(m.Words, wd.Term))}
+	}
+	text := strings.Repeat(" ", res.Words[len(res.Words)-1].End)
+	wacc := make([][]float64, len(st.wacc))
+	for u := range st.wacc {
+		wacc[u] = slices.Clone(st.wacc[u])
+		clear(st.wacc[u])
+	}
+	dacc, cacc := slices.Clone(st.dacc), slices.Clone(st.cacc)
+	clear(st.dacc) // only α·φ: best decides
+	r := &Result{}
+	a.words(r, text, toks, st, samples)
+	check(r.Words, " (α·φ part only)")
+	copy(st.dacc, dacc)
+	clear(st.cacc) // only the smoothing bucket, no free topics: dk decides
+	dsm := slices.Clone(st.dsm)
+	for s, k := range st.slotTopic {
+		if int(k) >= a.C {
+			st.dsm[s] = 0
+		}
+	}
+	r = &Result{}
+	a.words(r, text, toks, st, samples)
+	check(r.Words, " (smoothing bucket only)")
+	copy(st.cacc, cacc)
+	copy(st.dsm, dsm)
+	for u := range st.wacc {
+		copy(st.wacc[u], wacc[u])
+	}
 }
