@@ -601,6 +601,7 @@ type state struct {
 	d         float64     // D = Σ_k c_k·φ⁰_k over the active slots
 	touched   []int32
 	ranked    []scored
+	cand      []int32
 	sup       []Support // support's scratch
 
 	uw    []int32   // word type u → word id
@@ -1230,7 +1231,7 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 		top = a.C
 	}
 	want := max(top, min(pathPool, a.C))
-	var cand []int32
+	cand := st.cand[:0]
 	for _, k := range st.slotTopic {
 		if int(k) < a.C {
 			cand = append(cand, k)
@@ -1295,6 +1296,7 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 		cand[i] = ranked[i].k
 	}
 	pool := cand
+	st.cand = cand[:0] // reused by the next record; pool is read only below
 	// The first top concepts of the ranking that may be suggested: a
 	// deprecated concept keeps its topic (its words still need a home) but
 	// is never suggested, and the next one takes its place, so that Top
