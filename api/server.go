@@ -92,9 +92,10 @@ func NewServer(cfg Config) (*Server, error) {
 		grpc.InTapHandle(s.shed),
 		// Calls run on a pool of goroutines whose stacks have already grown,
 		// rather than one new goroutine each (whose stack grows by copying
-		// on every call): as many as Annotate calls the shed lets in. Calls
-		// beyond, and long streams, get a goroutine of their own as before.
-		grpc.NumStreamWorkers(uint32(max(4, cfg.MaxConcurrent+max(cfg.MaxWaiting, 0)))),
+		// on every call): as many as Annotate calls the shed lets in, within
+		// 4..256. Calls beyond, and long streams, get a goroutine of their
+		// own as before.
+		grpc.NumStreamWorkers(uint32(min(max(4, cfg.MaxConcurrent+max(cfg.MaxWaiting, 0)), 256))),
 		// Bounds the streams (and so goroutines and buffers) one connection
 		// can hold; calls are short, so only a misbehaving client meets it.
 		grpc.MaxConcurrentStreams(uint32(max(1024, 8*cfg.MaxConcurrent))),
