@@ -163,6 +163,10 @@ type Options struct {
 	// BoostFactor multiplies known subjects' α in Boost mode (default 20;
 	// values below 1 count as 1).
 	BoostFactor float64
+	// Uncalibrated leaves a calibrated model's scores as shares of the
+	// text (plus the related boost) instead of probabilities: for measuring
+	// how much of a text a concept takes (the gap report).
+	Uncalibrated bool
 }
 
 // Result is the annotation of one text. JSON names are part of the CLI format.
@@ -1264,7 +1268,7 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 	if len(a.m.Related) == a.C && !st.allow {
 		cand = a.addRelated(cand, score, &rel)
 	}
-	if !st.allow {
+	if !st.allow && !opt.Uncalibrated {
 		cand, score = a.calibrated(cand, score) // calibrate.go
 	}
 	ranked := st.ranked[:0]

@@ -27,7 +27,9 @@ import (
 // by L2-penalised logistic regression whose penalty pulls (A_k, B_k)
 // towards one mapping fitted on all concepts together: a concept seen in
 // few calibration texts keeps close to the shared mapping, a frequent one
-// gets its own. Annotation then ranks by p_k (see calibrated).
+// gets its own. Annotation then ranks by p_k (see calibrated), unless
+// Options.Uncalibrated asks for the shares (the gap report measures use
+// with them).
 
 // LabeledText is a text with the concepts people assigned to it.
 type LabeledText struct {

@@ -7,6 +7,7 @@ import (
 	"strings"
 	"testing"
 
+	"termgrove/model"
 	"termgrove/model/modeltest"
 )
 
@@ -168,5 +169,53 @@ func TestCalibrateBadInput(t *testing.T) {
 	m.Calibration = cal
 	if err := m.Validate(); err != nil {
 		t.Errorf("calibration from one text: %v", err)
+	}
+}
+
+// TestUncalibratedOption: Options.Uncalibrated gives a calibrated model's
+// raw shares, the same as the model without its calibration would (same
+// sampler seed: the checksum is that of the calibrated model in both runs,
+// so the comparison uses one annotator). Arithmetic of the mapping: the
+// calibrated score is Apply of the raw one.
+func TestUncalibratedOption(t *testing.T) {
+	m := modeltest.Synthetic(modeltest.Options{Concepts: 20, Free: 2, Words: 200, WordsPerConcept: 15, Seed: 9})
+	m.Calibration = &model.Calibration{A: make([]float64, m.C), B: make([]float64, m.C)}
+	for k := range m.Calibration.A {
+		m.Calibration.A[k], m.Calibration.B[k] = 1+float64(k%3)/2, float64(k%5)-2
+	}
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var words []string
+	for _, ww := range m.TopWords(4, 10) {
+		words = append(words, m.Words[ww.Word])
+	}
+	text := strings.Join(words, " ")
+	raw, err := a.Annotate("t", text, Options{Top: -1, Uncalibrated: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := a.Annotate("t", text, Options{Top: -1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(raw.Concepts) != m.C || len(got.Concepts) != m.C {
+		t.Fatalf("%d raw and %d calibrated concepts for C = %d", len(raw.Concepts), len(got.Concepts), m.C)
+	}
+	sum := 0.0
+	rawOf := map[string]float64{}
+	for _, c := range raw.Concepts {
+		rawOf[c.IRI] = c.Score
+		sum += c.Score
+	}
+	if math.Abs(sum+raw.Uncovered-1) > 1e-9 {
+		t.Errorf("raw shares plus uncovered sum to %v", sum+raw.Uncovered)
+	}
+	for _, c := range got.Concepts {
+		k, _ := m.ConceptIndex(c.IRI)
+		if want := m.Calibration.Apply(k, rawOf[c.IRI]); math.Abs(c.Score-want) > 1e-12 {
+			t.Errorf("%s: calibrated %v, want Apply(raw %v) = %v", c.IRI, c.Score, rawOf[c.IRI], want)
+		}
 	}
 }

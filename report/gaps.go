@@ -400,7 +400,7 @@ func useByRecord(m *model.Model, s *concepts.Scheme, a Annotator, recs []records
 	for ri := range recs {
 		r := &recs[ri]
 		res, err := a.Annotate(r.ID, r.Join(opt.Fields), annotate.Options{Top: m.C, MinScore: opt.RecordThreshold / 10,
-			Language: r.Lang, IncludeWords: len(pool) > 0})
+			Language: r.Lang, IncludeWords: len(pool) > 0, Uncalibrated: true})
 		if err != nil {
 			return nil, fmt.Errorf("record %s: %w", r.ID, err)
 		}
