@@ -528,8 +528,7 @@ func (st *state) merge() {
 							prefetch(unsafe.Pointer(unsafe.SliceData(l)))
 						}
 					}
-					decList(&st.wt[c.w], c.old)
-					incList(&st.wt[c.w], c.new)
+					moveList(&st.wt[c.w], c.old, c.new)
 				}
 			}
 		}(p)

@@ -436,6 +436,14 @@ func TestWordListOrder(t *testing.T) {
 						t.Fatalf("trial %d: decListAt of %d returned %d in %v", trial, k, j, l)
 					}
 				}
+			case want[k] > 0 && r.IntN(3) == 0:
+				k2 := int32(r.IntN(K))
+				if k2 == k {
+					continue
+				}
+				want[k]--
+				want[k2]++
+				moveList(&l, k, k2)
 			default:
 				want[k]++
 				if r.IntN(2) == 0 {

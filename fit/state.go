@@ -430,6 +430,32 @@ func decList(l *[]tc, k int32) {
 	decListAt(l, i)
 }
 
+// moveList moves one count of a word's list from topic old to topic new
+// (old ≠ new), finding both in one walk.
+func moveList(l *[]tc, old, new int32) {
+	s := *l
+	io, in := -1, -1
+	for i := range s {
+		switch s[i].k {
+		case old:
+			io = i
+		case new:
+			in = i
+		}
+		if io >= 0 && in >= 0 {
+			break
+		}
+	}
+	if io < 0 {
+		panic("fit: internal error: word-topic count underflow")
+	}
+	j := decListAt(l, io)
+	if in > io && in <= j {
+		in--
+	}
+	incListAt(l, new, in)
+}
+
 // decListAt removes one from the entry at index i of a word's list and
 // returns the entry's new index (the list's new length when it dropped off):
 // the entries between the two moved up by one.
