@@ -8,7 +8,6 @@ import (
 	"encoding/gob"
 	"fmt"
 	"io"
-	"math/rand/v2"
 	"os"
 	"path/filepath"
 )
@@ -182,7 +181,7 @@ func (st *state) restore(ck *checkpoint, path string) error {
 		}
 	} else { // another worker count: fresh streams derived from the sweep
 		for i := range st.rngs {
-			st.rngs[i].p = rand.NewPCG(uint64(st.opt.Seed)^uint64(st.sweep)<<32, 0x9e3779b97f4a7c15^uint64(i))
+			st.rngs[i].p.Seed(uint64(st.opt.Seed)^uint64(st.sweep)<<32, 0x9e3779b97f4a7c15^uint64(i))
 		}
 	}
 	if len(st.workers) > 1 {

@@ -13,6 +13,7 @@ type change struct{ w, old, new int32 }
 // n_k and n_kw taken after the last merge; alone it samples on the shared
 // counts directly.
 type worker struct {
+	_     [64]byte // the hot fields below share no cache line with other data
 	st    *state
 	r     *rng
 	local bool // counts are a private copy; log changes
@@ -47,6 +48,7 @@ type worker struct {
 	changes [][]change // per merge partition (word mod workers)
 
 	mh *mhState // tables of the MH sampler (mh.go); nil until used
+	_  [64]byte
 }
 
 func newWorker(st *state, r *rng, local bool) *worker {
@@ -61,6 +63,7 @@ func newWorker(st *state, r *rng, local bool) *worker {
 		local:   local,
 		ndk:     make([]int32, K),
 		dpos:    make([]int32, K),
+		dtopics: make([]int32, 0, K), // never reallocated, never shared
 		invD:    make([]float64, K),
 		coef:    make([]float64, K),
 		allowed: make([]bool, K),

@@ -64,11 +64,20 @@ type state struct {
 	secs     float64 // sampling seconds of earlier runs (from a checkpoint)
 }
 
-// rng is a PCG generator (math/rand/v2) with a cheap Float64.
-type rng struct{ p *rand.PCG }
+// rng is a PCG generator (math/rand/v2) with a cheap Float64. Each worker
+// writes its generator's state for every token, so the state is padded to
+// a cache line of its own: two generators on one line made every draw of
+// two workers a cache miss (false sharing).
+type rng struct {
+	_ [64]byte
+	p rand.PCG
+	_ [64]byte
+}
 
 func newRNG(seed int64, stream uint64) *rng {
-	return &rng{p: rand.NewPCG(uint64(seed), 0x9e3779b97f4a7c15^stream)}
+	r := &rng{}
+	r.p.Seed(uint64(seed), 0x9e3779b97f4a7c15^stream)
+	return r
 }
 
 // Float64 is uniform on [0,1).
@@ -313,7 +322,9 @@ func (st *state) makeWorkers() {
 	for w := range st.workers {
 		st.rngs[w] = newRNG(st.opt.Seed, uint64(w))
 		st.workers[w] = newWorker(st, st.rngs[w], nw > 1)
-		st.workers[w].changes = make([][]change, nw)
+		// Spare capacity keeps the slice headers, written for every
+		// changed token, off the cache lines of other workers' data.
+		st.workers[w].changes = make([][]change, nw, nw+8)
 	}
 }
 
