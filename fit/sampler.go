@@ -378,7 +378,10 @@ func (wk *worker) smoothTotal() float64 {
 func (wk *worker) draw(w, old int32) int32 {
 	wk.newPos = -1
 	qw := wk.wordBucket(w, old)
-	qp := wk.priorBucket(w)
+	qp := 0.0
+	if len(wk.st.pTopic) > 0 { // else not even the index is read
+		qp = wk.priorBucket(w)
+	}
 	r, s := wk.rsum, wk.smoothTotal()
 	u := wk.r.Float64() * (qw + qp + r + s)
 	if u < qw {
