@@ -262,6 +262,8 @@ type Annotator struct {
 	maxList int
 
 	pool sync.Pool // *state
+
+	cal calTables // calibrate.go
 }
 
 // New prepares an annotator for m: the alias tables and per-word topic lists.
@@ -308,6 +310,7 @@ func New(m *model.Model) (*Annotator, error) {
 		a.order[k] = int32(k)
 	}
 	sort.SliceStable(a.order, func(i, j int) bool { return dw[a.order[i]] > dw[a.order[j]] })
+	a.cal = newCalTables(m, a.phi0)
 	a.corder = make([]int32, C)
 	for k := range a.corder {
 		a.corder[k] = int32(k)
@@ -1268,8 +1271,9 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 	if len(a.m.Related) == a.C && !st.allow {
 		cand = a.addRelated(cand, score, &rel)
 	}
-	if !st.allow && !opt.Uncalibrated {
-		cand, score = a.calibrated(cand, score) // calibrate.go
+	calOn := !st.allow && !opt.Uncalibrated && a.m.Calibration != nil
+	if calOn {
+		cand, score = a.calibrated(cand, score, want, norm, rbF) // calibrate.go
 	}
 	ranked := st.ranked[:0]
 	for _, k := range cand {
@@ -1333,7 +1337,7 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 				if st.agg[x] == 0 {
 					st.aggT = append(st.aggT, x)
 				}
-				st.agg[x] += a.aggTerm(sc)
+				st.agg[x] += a.aggTerm(sc, calOn)
 			}
 			for _, p := range a.m.Scheme.Concepts[x].Broader {
 				if st.mark[p] != st.gen {
@@ -1343,7 +1347,7 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 			}
 		}
 	}
-	aggOf := func(k int32) float64 { return a.aggOf(score(k), st.agg[k]) }
+	aggOf := func(k int32) float64 { return a.aggOf(score(k), st.agg[k], calOn) }
 
 	for _, k := range shown {
 		c := Concept{IRI: a.m.Scheme.Concepts[k].IRI, Label: a.labels[k], Score: score(k)}

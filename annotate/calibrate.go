@@ -263,43 +263,110 @@ func softplus(z float64) float64 {
 	return math.Log1p(math.Exp(z))
 }
 
-// calibrated returns, when the model holds a calibration, every concept as
-// a candidate and the calibrated score; otherwise cand and score unchanged.
-// All concepts compete because a concept outside the record's topics may
-// still map to a high probability (a large B_k).
-func (a *Annotator) calibrated(cand []int32, score func(int32) float64) ([]int32, func(int32) float64) {
+// calTables hold what calibrated needs per concept, so that it can skip
+// the concepts a record does not touch without computing their mapping.
+type calTables struct {
+	lnAlpha []float64 // ln α_k
+	phi0Max float64   // max_k φ⁰_k over the concepts
+}
+
+func newCalTables(m *model.Model, phi0 []float64) calTables {
+	if m.Calibration == nil {
+		return calTables{}
+	}
+	t := calTables{lnAlpha: make([]float64, m.C)}
+	for k := 0; k < m.C; k++ {
+		t.lnAlpha[k] = math.Log(m.Alpha[k])
+		t.phi0Max = max(t.phi0Max, phi0[k])
+	}
+	return t
+}
+
+// calPrune lets the tests compare the pruned ranking with the full one.
+var calPrune = true
+
+// calibrated returns, for a model that holds a calibration, the candidates
+// together with every other concept that may rank among the want best once
+// calibrated, and the calibrated score.
+// Concepts outside the record's candidates can matter because a large B_k
+// may lift a concept the text does not touch.
+//
+// Such a concept's raw score is s_k = α_k·(1 + φ⁰_k·r)·norm (no record
+// counts, no related boost; r ≥ 0 is the record's smoothing factor, rbF in
+// summarise), so its log-odds are at most
+//
+//	A_k·(ln α_k + ln norm) + B_k + max(A_k, 0)·ln(1 + max_j φ⁰_j·r),
+//
+// and it is added only when that bound reaches the want-th best log-odds
+// of the candidates: the ranking is the same as over all concepts
+// (TestCalibratedPruneExact), with few logarithms.
+func (a *Annotator) calibrated(cand []int32, score func(int32) float64, want int, norm, rbF float64) ([]int32, func(int32) float64) {
 	cal := a.m.Calibration
-	if cal == nil {
-		return cand, score
+	// pv[k] is concept k's calibrated score once mapped (−1 before): each
+	// is asked for several times (ranking, pool, paths).
+	pv := make([]float64, a.C)
+	for k := range pv {
+		pv[k] = -1
 	}
-	in := make([]bool, a.C)
+	zs := make([]scored, 0, len(cand))
 	for _, k := range cand {
-		in[k] = true
+		s := score(k)
+		if !(s > 0) {
+			s = math.SmallestNonzeroFloat64
+		}
+		z := cal.A[k]*math.Log(s) + cal.B[k]
+		pv[k] = 1 / (1 + math.Exp(-z)) // = cal.Apply(k, s)
+		zs = append(zs, scored{k, z})
 	}
-	for k := 0; k < a.C; k++ {
-		if !in[k] {
-			cand = append(cand, int32(k))
+	if len(cand) < a.C {
+		tau := math.Inf(-1)
+		if calPrune && len(zs) > want && want > 0 {
+			selectBest(zs, want)
+			tau = zs[0].v
+			for _, x := range zs[1:want] {
+				tau = min(tau, x.v)
+			}
+		}
+		lnNorm := math.Log(norm)
+		u := math.Log1p(a.cal.phi0Max * max(rbF, 0))
+		for k := 0; k < a.C; k++ {
+			if pv[k] >= 0 {
+				continue
+			}
+			ak := cal.A[k]
+			ub := ak*(a.cal.lnAlpha[k]+lnNorm) + cal.B[k] + max(ak, 0)*u
+			if ub >= tau-1e-9*(1+math.Abs(tau)) {
+				cand = append(cand, int32(k))
+			}
 		}
 	}
-	return cand, func(k int32) float64 { return cal.Apply(int(k), score(k)) }
+	return cand, func(k int32) float64 {
+		if pv[k] < 0 {
+			pv[k] = cal.Apply(int(k), score(k))
+		}
+		return pv[k]
+	}
 }
 
 // aggTerm is a descendant's contribution to an ancestor's aggregated path
 // score: its score, or with a calibration ln(1 − p), so that aggOf gives the
 // probability that the node or any of those descendants is assigned as if
 // they were independent (a noisy-or), which stays a probability where a
-// sum of probabilities would not.
-func (a *Annotator) aggTerm(s float64) float64 {
-	if a.m.Calibration == nil {
+// sum of probabilities would not. on says whether this call's scores are
+// calibrated.
+func (a *Annotator) aggTerm(s float64, on bool) float64 {
+	if !on {
 		return s
 	}
 	return math.Log1p(-min(s, 1-1e-12))
 }
 
 // aggOf combines a node's own score with its descendants' aggTerm sum.
-func (a *Annotator) aggOf(own, agg float64) float64 {
-	if a.m.Calibration == nil {
+func (a *Annotator) aggOf(own, agg float64, on bool) float64 {
+	if !on {
 		return own + agg
 	}
 	return 1 - (1-own)*math.Exp(agg)
 }
+
+var zzCand, zzAdded int

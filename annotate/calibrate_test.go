@@ -212,10 +212,155 @@ func TestUncalibratedOption(t *testing.T) {
 	if math.Abs(sum+raw.Uncovered-1) > 1e-9 {
 		t.Errorf("raw shares plus uncovered sum to %v", sum+raw.Uncovered)
 	}
+	// Raw path scores are sums: with Top −1 every concept is in the pool,
+	// so a concept's own path node holds its score plus all its
+	// descendants' (each once).
+	children := make([][]int, m.C)
+	for k, c := range m.Scheme.Concepts {
+		for _, b := range c.Broader {
+			children[b] = append(children[b], k)
+		}
+	}
+	for _, c := range raw.Concepts {
+		k, _ := m.ConceptIndex(c.IRI)
+		want, seen, stack := 0.0, map[int]bool{k: true}, []int{k}
+		for len(stack) > 0 {
+			x := stack[len(stack)-1]
+			stack = stack[:len(stack)-1]
+			want += rawOf[m.Scheme.Concepts[x].IRI]
+			for _, ch := range children[x] {
+				if !seen[ch] {
+					seen[ch] = true
+					stack = append(stack, ch)
+				}
+			}
+		}
+		if got := c.Path[len(c.Path)-1].Score; math.Abs(got-want) > 1e-9 {
+			t.Errorf("raw path score of %s: %v, want the sum %v", c.IRI, got, want)
+		}
+	}
 	for _, c := range got.Concepts {
 		k, _ := m.ConceptIndex(c.IRI)
 		if want := m.Calibration.Apply(k, rawOf[c.IRI]); math.Abs(c.Score-want) > 1e-12 {
 			t.Errorf("%s: calibrated %v, want Apply(raw %v) = %v", c.IRI, c.Score, rawOf[c.IRI], want)
+		}
+	}
+}
+
+// TestCalibratedPruneExact: skipping the untouched concepts whose bound on
+// the calibrated log-odds falls below the want-th best candidate gives the
+// same concepts, scores and paths as ranking every concept, for texts of
+// one, two and many concepts' words, small and large Top, and mappings
+// with negative and large A_k and B_k (so that untouched concepts do enter
+// the ranking). Source: the bound in calibrated's comment; the test is the
+// brute-force comparison.
+func TestCalibratedPruneExact(t *testing.T) {
+	m := modeltest.Synthetic(modeltest.Options{Concepts: 300, Free: 5, Words: 2000, WordsPerConcept: 20, Seed: 11})
+	r := rand.New(rand.NewPCG(7, 8))
+	cal := &model.Calibration{A: make([]float64, m.C), B: make([]float64, m.C)}
+	for k := range cal.A {
+		cal.A[k] = 0.2 + 1.5*r.Float64()
+		if k%17 == 0 {
+			cal.A[k] = -0.5 * r.Float64()
+		}
+		cal.B[k] = 4*r.Float64() - 1
+		if k%23 == 0 {
+			cal.B[k] += 8 // an untouched concept that people assign often
+		}
+	}
+	m.Calibration = cal
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer func() { calPrune = true }()
+	entered := 0
+	for trial := 0; trial < 40; trial++ {
+		var words []string
+		for c := 0; c < 1+trial%5*3; c++ {
+			for _, ww := range m.TopWords(r.IntN(m.C), 6) {
+				words = append(words, m.Words[ww.Word])
+			}
+		}
+		text := strings.Join(words, " ")
+		top := []int{1, 5, 10, 150, -1}[trial%5]
+		calPrune = true
+		got, err := a.Annotate("t", text, Options{Top: top, Samples: 5})
+		if err != nil {
+			t.Fatal(err)
+		}
+		calPrune = false
+		want, err := a.Annotate("t", text, Options{Top: top, Samples: 5})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(got.Concepts) != len(want.Concepts) {
+			t.Fatalf("trial %d: %d concepts pruned, %d in full", trial, len(got.Concepts), len(want.Concepts))
+		}
+		for i := range got.Concepts {
+			g, w := got.Concepts[i], want.Concepts[i]
+			if g.IRI != w.IRI || g.Score != w.Score || len(g.Path) != len(w.Path) {
+				t.Fatalf("trial %d rank %d: pruned %s %v, full %s %v", trial, i, g.IRI, g.Score, w.IRI, w.Score)
+			}
+			for j := range g.Path {
+				if g.Path[j].IRI != w.Path[j].IRI || math.Abs(g.Path[j].Score-w.Path[j].Score) > 1e-12 {
+					t.Fatalf("trial %d rank %d path %d: %+v, full %+v", trial, i, j, g.Path[j], w.Path[j])
+				}
+			}
+			if k, _ := m.ConceptIndex(g.IRI); k%23 == 0 && i < 5 {
+				entered++
+			}
+		}
+	}
+	if entered == 0 {
+		t.Error("no concept with a large B_k ranked among the first five: the test does not exercise the untouched concepts")
+	}
+}
+
+// TestPathSumsWhenRaw: path scores are noisy-or probabilities only when the
+// scores are calibrated; with Uncalibrated they are sums of shares as for a
+// model without calibration (a node's score at least its own plus its
+// shown child's).
+func TestPathSumsWhenRaw(t *testing.T) {
+	m := modeltest.Synthetic(modeltest.Options{Concepts: 60, Free: 3, Words: 600, WordsPerConcept: 15, Seed: 12})
+	m.Calibration = &model.Calibration{A: make([]float64, m.C), B: make([]float64, m.C)}
+	for k := range m.Calibration.A {
+		m.Calibration.A[k], m.Calibration.B[k] = 1, 3
+	}
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var words []string
+	for _, c := range []int{5, 40, 41} {
+		for _, ww := range m.TopWords(c, 8) {
+			words = append(words, m.Words[ww.Word])
+		}
+	}
+	text := strings.Join(words, " ")
+	for _, raw := range []bool{false, true} {
+		res, err := a.Annotate("t", text, Options{Top: 20, Uncalibrated: raw})
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, c := range res.Concepts {
+			for _, p := range c.Path {
+				if !raw && !(p.Score >= 0 && p.Score <= 1) {
+					t.Errorf("calibrated path score %v of %s is not a probability", p.Score, p.IRI)
+				}
+			}
+			if n := len(c.Path); raw && n > 1 && c.Path[n-2].Score < c.Path[n-1].Score {
+				t.Errorf("raw: parent %v below child %v", c.Path[n-2].Score, c.Path[n-1].Score)
+			}
+		}
+		if raw {
+			sum := res.Uncovered
+			for _, c := range res.Concepts {
+				sum += c.Score
+			}
+			if sum > 1+1e-9 {
+				t.Errorf("raw shares of the first 20 plus uncovered sum to %v", sum)
+			}
 		}
 	}
 }
