@@ -49,3 +49,36 @@ func (b *Bench) HeldOut() [][]int32 {
 	}
 	return out
 }
+
+// ListStats returns, averaged over the training tokens, the length of the
+// token's word–topic list and the number of distinct topics of its record:
+// the two walks a sparse sampler's cost per token grows with.
+func (b *Bench) ListStats() (wordList, recordTopics float64) {
+	st := b.st
+	seen := make([]bool, st.K)
+	var ks []int32
+	var n float64
+	for di := range st.docs {
+		d := &st.docs[di]
+		for i := d.start; i < d.end; i++ {
+			if k := st.z[i]; !seen[k] {
+				seen[k] = true
+				ks = append(ks, k)
+			}
+		}
+		for i := d.start; i < d.end; i++ {
+			wordList += float64(len(st.wt[st.words[i]]))
+			recordTopics += float64(len(ks))
+			n++
+		}
+		for _, k := range ks {
+			seen[k] = false
+		}
+		ks = ks[:0]
+	}
+	if n > 0 {
+		wordList /= n
+		recordTopics /= n
+	}
+	return wordList, recordTopics
+}

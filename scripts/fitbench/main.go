@@ -49,6 +49,7 @@ func main() {
 	compare := flag.String("compare", "", "with PREFIX of -export and fitbench_gensim.py: score gensim's model and time termgrove to the same held-out figure")
 	compl := flag.String("completion", "", "with -records: document-completion perplexity of this MODEL.grove vs a unigram model")
 	compRecs := flag.String("records", "", "test records (JSON Lines) for -completion")
+	stats := flag.Bool("stats", false, "after each fit, print the mean word-list length and record topic count per token")
 	samplers := flag.String("sampler", "", "samplers to fit with, comma-separated (sparse, mh, auto); when set, each row also gives the sampler and the training log-likelihood per token after the warm-up and timed sweeps")
 	flag.Parse()
 	if *compl != "" {
@@ -96,14 +97,14 @@ func main() {
 		for _, sm := range strings.Split(*samplers, ",") {
 			for _, ws := range strings.Split(*workers, ",") {
 				nw, _ := strconv.Atoi(ws)
-				run(c, K, nw, *warm, *sweeps, *concepts, sm)
+				run(c, K, nw, *warm, *sweeps, *concepts, sm, *stats)
 			}
 		}
 	}
 }
 
 // run fits one configuration; sampler "" keeps the original output columns.
-func run(c *fit.Corpus, K, workers, warm, sweeps int, concepts bool, sampler string) {
+func run(c *fit.Corpus, K, workers, warm, sweeps int, concepts bool, sampler string, stats bool) {
 	var p *prior.Prior
 	opt := fit.Options{FreeTopics: K, Workers: workers, Seed: 1, Sweeps: 1 << 30, FixedAlpha: true, LogLikEvery: 1 << 30, Sampler: sampler}
 	if concepts {
@@ -143,6 +144,10 @@ func run(c *fit.Corpus, K, workers, warm, sweeps int, concepts bool, sampler str
 	} else {
 		ll := b.LogLik() / float64(c.Tokens())
 		fmt.Printf("%-8d %-8s %-8d %-8.1f %-14.0f %-14.0f %-12.1f %-10s %-12.4f\n", K, sampler, workers, initS, n/sec, n/cpu, 1e9*cpu/n, peakRSS(), ll)
+	}
+	if stats {
+		l, d := b.ListStats()
+		fmt.Printf("  K=%d: per token, word-list length %.1f, record topics %.1f\n", K, l, d)
 	}
 	b = nil
 	runtime.GC()
