@@ -8,7 +8,8 @@
 # "eval:begin" and "eval:end" markers.
 #
 # Settings can be changed from the environment: EVAL_FREE, EVAL_SWEEPS,
-# EVAL_WORKERS, EVAL_LAMBDA, EVAL_ANCHORS=0 (skip the anchors).
+# EVAL_WORKERS, EVAL_LAMBDA, EVAL_CALIBRATE (records for the score
+# calibration, default 5000; 0 = none), EVAL_ANCHORS=0 (skip the anchors).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 tg=bin/termgrove
@@ -22,11 +23,12 @@ free=${EVAL_FREE:-20}
 sweeps=${EVAL_SWEEPS:-200}
 workers=${EVAL_WORKERS:-$(nproc)}
 lambda=${EVAL_LAMBDA:-0}
+calibrate=${EVAL_CALIBRATE:-5000}
 start=$(date +%s)
 
 echo "== fit on the train split (free topics $free, sweeps $sweeps, workers $workers)"
 $tg fit --vocab "$data/vocabulary.ttl" --records "$data/train.jsonl" --out "$out/debtags.grove" \
-  --free-topics "$free" --sweeps "$sweeps" --workers "$workers" --lambda "$lambda" --checkpoint 0 --quiet \
+  --free-topics "$free" --sweeps "$sweeps" --workers "$workers" --lambda "$lambda" --calibrate "$calibrate" --checkpoint 0 --quiet \
   | tee "$out/fit.txt"
 fit_end=$(date +%s)
 
@@ -41,9 +43,9 @@ if [ "${EVAL_ANCHORS:-1}" = 1 ]; then
   /usr/bin/python3 scripts/anchors.py "$data" > "$out/anchors.json"
 fi
 
-/usr/bin/python3 - "$out" "$((fit_end - start))" "$((score_end - fit_end))" "$free" "$sweeps" "$workers" "$lambda" <<'EOF'
+/usr/bin/python3 - "$out" "$((fit_end - start))" "$((score_end - fit_end))" "$free" "$sweeps" "$workers" "$lambda" "$calibrate" <<'EOF'
 import json, os, sys, datetime, platform, re
-out, fit_s, score_s, free, sweeps, workers, lam = sys.argv[1:]
+out, fit_s, score_s, free, sweeps, workers, lam, cal = sys.argv[1:]
 tg = json.load(open(os.path.join(out, "score.json")))
 rows = [("termgrove", tg["metrics"])]
 anchors = {}
@@ -57,8 +59,8 @@ for line in open("/proc/cpuinfo"):
     if line.startswith("model name"):
         cpu = line.split(":", 1)[1].strip(); break
 lines = []
-lines.append("Measured %s on %s (%d cores), `make eval` (EVAL_FREE=%s EVAL_SWEEPS=%s EVAL_WORKERS=%s EVAL_LAMBDA=%s)." % (
-    datetime.date.today().isoformat(), cpu, os.cpu_count(), free, sweeps, workers, lam))
+lines.append("Measured %s on %s (%d cores), `make eval` (EVAL_FREE=%s EVAL_SWEEPS=%s EVAL_WORKERS=%s EVAL_LAMBDA=%s EVAL_CALIBRATE=%s)." % (
+    datetime.date.today().isoformat(), cpu, os.cpu_count(), free, sweeps, workers, lam, cal))
 lines.append("Test split: %d records scored. termgrove fit %s s, scoring %s s." % (tg["records"], fit_s, score_s))
 if anchors:
     svm = anchors["anchors"].get("tfidf-svm", {})

@@ -468,14 +468,16 @@ func resumeDiff(ck, now fit.Options) string {
 	return strings.Join(d, ", ")
 }
 
-// defaultCalibrate is fit's default --calibrate: the most records people
-// indexed that annotate.Calibrate learns from. On debtags (bench/quality.md)
+// defaultCalibrate is fit's default --calibrate: none. DESIGN.md defines a
+// concept's score as its share of the record, and a calibrated model ranks
+// by another quantity (the probability that a person assigns the concept),
+// so calibration is asked for, not assumed. On debtags (bench/quality.md)
 // the same model scored micro/macro F1@5 0.456/0.293 uncalibrated and
 // 0.463/0.300 calibrated on 5,000 of its training records (F1@1 0.261 →
 // 0.276, NDCG@5 0.657 → 0.696); 1,000 and 2,000 records gave 0.005 and 0.003
 // less micro F1, all 21,776 0.003 more. Calibrating takes about as long as
 // scoring as many records.
-const defaultCalibrate = 5000
+const defaultCalibrate = 0
 
 // minCalibrate is the fewest records people indexed that fit calibrates
 // on: with fewer, most concepts appear in a handful of them, their own
