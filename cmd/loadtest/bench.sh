@@ -21,6 +21,7 @@ model=${1:-.cache/load/syn640.grove}
 src=(-words-from "$model")
 [ -n "${2:-}" ] && src=(-records-file "$2")
 OVERLOAD=${OVERLOAD:-60s}
+STEP=${STEP:-10s} # duration of each closed-loop step
 PORT=${PORT:-7400}
 addr=(-addr 127.0.0.1:$PORT -metrics 127.0.0.1:$((PORT + 1)))
 
@@ -37,14 +38,14 @@ for _ in $(seq 50); do
 done
 
 echo "## $(date -u +%FT%TZ) $(nproc) cores, load average: $(cut -d' ' -f1-3 /proc/loadavg)"
-bin/loadtest -mode local -concurrency 1,2 -duration 10s -words-from "$model"
+bin/loadtest -mode local -concurrency 1,2 -duration "$STEP" -words-from "$model"
 echo "## transport ceiling: 150 words the model does not know"
-bin/loadtest "${addr[@]}" -mode sweep -concurrency 8 -duration 10s -unknown-words
+bin/loadtest "${addr[@]}" -mode sweep -concurrency 8 -duration "$STEP" -unknown-words
 # Refused workers back off (2 ms, doubling up to 64 ms), as the server asks
 # and as gRPC clients' retry policies do, instead of spinning on refusals.
-bin/loadtest "${addr[@]}" -mode sweep -concurrency 1,8,64 -duration 10s -busy-backoff 2ms "${src[@]}" > .cache/load/sweep.txt
+bin/loadtest "${addr[@]}" -mode sweep -concurrency 1,8,64 -duration "$STEP" -busy-backoff 2ms "${src[@]}" > .cache/load/sweep.txt
 cat .cache/load/sweep.txt
-bin/loadtest "${addr[@]}" -mode stream -concurrency 1,2 -batch 32 -duration 10s "${src[@]}"
+bin/loadtest "${addr[@]}" -mode stream -concurrency 1,2 -batch 32 -duration "$STEP" "${src[@]}"
 # Capacity: the best accepted rate of the unary sweep.
 cap=$(sed -n 's/.*ok=[0-9]* (\([0-9]*\)\/s).*/\1/p' .cache/load/sweep.txt | sort -n | tail -1)
 echo "## capacity ${cap}/s; overload at 3x = $((cap * 3))/s for $OVERLOAD"
