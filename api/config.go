@@ -98,7 +98,8 @@ type Config struct {
 	// MaxWaiting is how many more Annotate calls than MaxConcurrent may be
 	// inside the server (being read, waiting for a slot, being answered);
 	// a call beyond is refused with RESOURCE_EXHAUSTED before its message
-	// is read. 0 takes DefaultMaxWaiting; negative means none: a call is
+	// is read. As many stream messages, counted apart, may wait for a
+	// slot. 0 takes DefaultMaxWaiting; negative means none: a call is
 	// refused at once when every slot is taken.
 	MaxWaiting      int
 	DefaultDeadline time.Duration // applied to unary calls that carry none

@@ -48,7 +48,7 @@ func cmdServe(args []string) int {
 	maxText := fs.Int("max-text-bytes", api.DefaultMaxTextBytes, "largest text of one record")
 	maxRecords := fs.Int("max-stream-records", api.DefaultMaxStreamRecords, "most records in one AnnotateStream message")
 	maxConc := fs.Int("max-concurrent", api.DefaultMaxConcurrent(), "most annotations in progress (default: one per core)")
-	maxWait := fs.Int("max-waiting", 0, "Annotate calls that may wait for a slot beyond --max-concurrent; more get RESOURCE_EXHAUSTED at once (0: 2 × --max-concurrent; -1: none, refuse as soon as every slot is taken)")
+	maxWait := fs.Int("max-waiting", 0, "Annotate calls (and, counted apart, stream messages) that may wait for a slot beyond --max-concurrent; more get RESOURCE_EXHAUSTED at once (0: 2 × --max-concurrent; -1: none, refuse as soon as every slot is taken)")
 	deadline := fs.Duration("default-deadline", api.DefaultDefaultDeadline, "deadline of unary calls whose client sets none")
 	grace := fs.Duration("grace", api.DefaultGrace, "on SIGTERM/SIGINT, time for calls in progress to finish before they are cut")
 	maxAge := fs.Duration("max-connection-age", 0, "ask clients to reconnect after this long (e.g. 5m) so replicas behind a connection-level balancer even out; 0 = never")
