@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"slices"
 	"sync"
 	"unsafe"
 )
@@ -519,6 +520,25 @@ func (st *state) merge() {
 		st.nk[k] += delta[k]
 	}
 	var wg sync.WaitGroup
+	if !st.opt.useMH(st.K) {
+		// Every worker's lists are its own counts (the mh sampler keeps
+		// them in its tables instead): merge word by word.
+		if len(st.mscratch) != P {
+			st.mscratch = make([]mergeScratch, P)
+		}
+		for _, wk := range st.workers {
+			copy(wk.nk, st.nk)
+		}
+		for p := 0; p < P; p++ {
+			wg.Add(1)
+			go func(p int) {
+				defer wg.Done()
+				st.mergeWords(p, &st.mscratch[p])
+			}(p)
+		}
+		wg.Wait()
+		return
+	}
 	for p := 0; p < P; p++ {
 		wg.Add(1)
 		go func(p int) {
@@ -550,4 +570,89 @@ func (st *state) merge() {
 		}(p)
 	}
 	wg.Wait()
+}
+
+// mergeScratch is the reusable state of one merge partition.
+type mergeScratch struct {
+	seen  []bool  // W: word already queued
+	inK   []bool  // K: topic already in ks
+	cnt   []int32 // K: merged count
+	words []int32
+	ks    []int32
+	buf   []tc
+}
+
+// mergeWords merges the words of partition p (w ≡ p mod workers) that some
+// worker changed in the sweep (its log names them): the shared list
+// becomes shared + Σ_workers (worker − shared) and is copied back to every
+// worker. The merged list is sorted into the order of before, so the result
+// is the one replaying the changes one by one would give. A word no worker
+// changed is the same everywhere already.
+func (st *state) mergeWords(p int, ms *mergeScratch) {
+	if ms.seen == nil {
+		ms.seen = make([]bool, st.W)
+		ms.inK = make([]bool, st.K)
+		ms.cnt = make([]int32, st.K)
+	}
+	words := ms.words[:0]
+	for _, wk := range st.workers {
+		for _, c := range wk.changes[p] {
+			if !ms.seen[c.w] {
+				ms.seen[c.w] = true
+				words = append(words, c.w)
+			}
+		}
+	}
+	ms.words = words
+	P := int32(len(st.workers))
+	for i, w := range words {
+		if i+2 < len(words) {
+			for _, wk := range st.workers {
+				if l := wk.wt[words[i+2]]; len(l) > 0 {
+					prefetch(unsafe.Pointer(unsafe.SliceData(l)))
+				}
+			}
+		}
+		ms.seen[w] = false
+		ks := ms.ks[:0]
+		for _, e := range st.wt[w] {
+			ms.cnt[e.k] -= (P - 1) * e.n
+			if !ms.inK[e.k] {
+				ms.inK[e.k] = true
+				ks = append(ks, e.k)
+			}
+		}
+		for _, wk := range st.workers {
+			for _, e := range wk.wt[w] {
+				ms.cnt[e.k] += e.n
+				if !ms.inK[e.k] {
+					ms.inK[e.k] = true
+					ks = append(ks, e.k)
+				}
+			}
+		}
+		buf := ms.buf[:0]
+		for _, k := range ks {
+			n := ms.cnt[k]
+			if n < 0 {
+				panic("fit: internal error: negative word-topic count after merge")
+			}
+			if n > 0 {
+				buf = append(buf, tc{k, n})
+			}
+			ms.cnt[k] = 0
+			ms.inK[k] = false
+		}
+		slices.SortFunc(buf, func(a, b tc) int {
+			if before(a, b) {
+				return -1
+			}
+			return 1
+		})
+		ms.ks, ms.buf = ks, buf
+		st.wt[w] = append(st.wt[w][:0], buf...)
+		for _, wk := range st.workers {
+			wk.wt[w] = append(wk.wt[w][:0], buf...)
+		}
+	}
 }

@@ -61,7 +61,8 @@ type state struct {
 	occStart []int64
 	occ      []int64
 	zSnap    []int32
-	secs     float64 // sampling seconds of earlier runs (from a checkpoint)
+	mscratch []mergeScratch // per merge partition (sampler.go)
+	secs     float64        // sampling seconds of earlier runs (from a checkpoint)
 }
 
 // rng is a PCG generator (math/rand/v2) with a cheap Float64. Each worker
