@@ -43,7 +43,9 @@ type CalibrateOptions struct {
 	// Shrink is the L2 weight pulling each concept's mapping towards the
 	// shared one (default DefaultShrink).
 	Shrink float64
-	// BurnIn and Samples are the fold-in sweeps per text (defaults 10, 200).
+	// BurnIn and Samples are the fold-in sweeps per text (defaults
+	// DefaultBurnIn and 200; fit passes score's own, so calibration sees the
+	// scores that score ranks).
 	BurnIn, Samples int
 	// Workers annotate in parallel (default GOMAXPROCS).
 	Workers int

@@ -343,7 +343,7 @@ func runFit(f *fitFlags) int {
 		logf("%d records people indexed: too few to calibrate the scores (at least %d)", n, minCalibrate)
 	} else if n > 0 {
 		start := time.Now()
-		cal, err := annotate.Calibrate(m, calib.texts, annotate.CalibrateOptions{Workers: f.workers, HeldOut: f.holdout > 0, Samples: scoreSamples})
+		cal, err := annotate.Calibrate(m, calib.texts, annotate.CalibrateOptions{Workers: f.workers, HeldOut: f.holdout > 0, BurnIn: scoreBurnIn, Samples: scoreSamples})
 		switch {
 		case errors.Is(err, annotate.ErrNoCalibrationData):
 			warnf("no record people indexed has words the model knows: scores left uncalibrated")
