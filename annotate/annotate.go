@@ -153,6 +153,12 @@ type Options struct {
 	Subjects     []string
 	SubjectMode  SubjectMode
 	IncludeWords bool
+	// ConceptsOnly returns the ranked concepts with their scores and the
+	// uncovered share only: no paths, no supporting terms (and no words,
+	// whatever IncludeWords says). The concepts and scores are those of
+	// the full result; this is the job of a topic-proportions call such
+	// as gensim's get_document_topics.
+	ConceptsOnly bool
 	Language     string // BCP 47 tag of the text; "" = the model's main language
 
 	// MaxBytes refuses longer texts with ErrTooLarge (default 1 MiB;
@@ -1320,6 +1326,13 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 		if score(k) >= opt.MinScore {
 			shown = append(shown, k)
 		}
+	}
+
+	if opt.ConceptsOnly {
+		for _, k := range shown {
+			res.Concepts = append(res.Concepts, Concept{IRI: a.m.Scheme.Concepts[k].IRI, Label: a.labels[k], Score: score(k)})
+		}
+		return
 	}
 
 	// Aggregated scores: own plus the descendants among pool. Each pool

@@ -925,3 +925,89 @@ func checkWords(t *testing.T, a *Annotator, st *state, res *Result, samples floa
 		copy(st.wacc[u], wacc[u])
 	}
 }
+
+// TestConceptsOnly: ConceptsOnly returns the same concepts, in the same
+// order with the same scores, and the same uncovered share as the full
+// annotation, without paths, supports or words: with and without
+// deprecated concepts, known subjects, a calibration and related rows.
+func TestConceptsOnly(t *testing.T) { bothModes(t, testConceptsOnly) }
+
+func testConceptsOnly(t *testing.T, maxList int) {
+	m := modeltest.Synthetic(modeltest.Options{Concepts: 300, Free: 5, Words: 2000, WordsPerConcept: 20, Seed: 11})
+	r := rand.New(rand.NewPCG(3, 4))
+	for k := 0; k < m.C; k += 13 {
+		m.Scheme.Concepts[k].Deprecated = true
+	}
+	cal := &model.Calibration{A: make([]float64, m.C), B: make([]float64, m.C)}
+	for k := range cal.A {
+		cal.A[k] = 0.2 + 1.5*r.Float64()
+		cal.B[k] = 4*r.Float64() - 1
+	}
+	related := make([][]model.ConceptWeight, m.C)
+	for k := range related {
+		for j := 0; j < 3; j++ {
+			related[k] = append(related[k], model.ConceptWeight{Concept: int32(r.IntN(m.C)), Weight: r.Float64()})
+		}
+	}
+	for _, variant := range []string{"plain", "calibrated", "related"} {
+		m.Calibration, m.Related = nil, nil
+		switch variant {
+		case "calibrated":
+			m.Calibration = cal
+		case "related":
+			m.Related = related
+		}
+		a, err := New(m)
+		if err != nil {
+			t.Fatal(err)
+		}
+		a.maxList = maxList
+		nonEmpty := 0
+		for trial := 0; trial < 30; trial++ {
+			var words []string
+			for c := 0; c < 1+trial%4*3; c++ {
+				for _, ww := range m.TopWords(r.IntN(m.C), 6) {
+					words = append(words, m.Words[ww.Word])
+				}
+			}
+			text := strings.Join(words, " ")
+			opt := Options{Top: []int{1, 5, 10, 150, -1}[trial%5], IncludeWords: trial%2 == 0}
+			if trial%3 == 0 {
+				opt.Subjects = []string{m.Scheme.Concepts[r.IntN(m.C)].IRI}
+				opt.SubjectMode = SubjectMode(trial % 2)
+			}
+			if trial%7 == 0 {
+				opt.MinScore = 0.01
+			}
+			want, err := a.Annotate("t", text, opt)
+			if err != nil {
+				t.Fatal(err)
+			}
+			opt.ConceptsOnly = true
+			got, err := a.Annotate("t", text, opt)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if got.Uncovered != want.Uncovered || got.Tokens != want.Tokens || got.Words != nil {
+				t.Fatalf("%s trial %d: uncovered %v tokens %d words %d, full %v %d", variant, trial,
+					got.Uncovered, got.Tokens, len(got.Words), want.Uncovered, want.Tokens)
+			}
+			if len(want.Concepts) > 0 {
+				nonEmpty++
+			}
+			if len(got.Concepts) != len(want.Concepts) {
+				t.Fatalf("%s trial %d: %d concepts, full %d", variant, trial, len(got.Concepts), len(want.Concepts))
+			}
+			for i, g := range got.Concepts {
+				w := want.Concepts[i]
+				if g.IRI != w.IRI || g.Label != w.Label || g.Score != w.Score || g.Path != nil || g.Support != nil {
+					t.Fatalf("%s trial %d rank %d: %s %v (%d path nodes), full %s %v", variant, trial, i,
+						g.IRI, g.Score, len(g.Path), w.IRI, w.Score)
+				}
+			}
+		}
+		if nonEmpty < 20 {
+			t.Errorf("%s: only %d of 30 texts had concepts", variant, nonEmpty)
+		}
+	}
+}

@@ -182,13 +182,15 @@ func BenchmarkAnnotateFile(b *testing.B) {
 		b.Logf("exported word ids to %s (W=%d, K=%d)", dir, m.W(), m.K())
 	}
 	// full: Annotate on the text, words included, as the CLI runs it.
-	// topics-only: pre-analysed tokens, no words, the job gensim's
-	// get_document_topics does.
+	// topics-only: pre-analysed tokens, no words (still paths and
+	// supporting terms).
+	// concepts-only: pre-analysed tokens, ranked concepts and scores only
+	// (Options.ConceptsOnly), the job gensim's get_document_topics does.
 	toks := make([][]terms.Token, len(texts))
 	for i, t := range texts {
 		toks[i], _ = a.an.Analyze(t, nil, false)
 	}
-	for _, mode := range []string{"full", "topics-only"} {
+	for _, mode := range []string{"full", "topics-only", "concepts-only"} {
 		b.Run(mode, func(b *testing.B) {
 			lat := make([]time.Duration, 0, b.N)
 			cpu := make([]time.Duration, 0, b.N)
@@ -200,10 +202,13 @@ func BenchmarkAnnotateFile(b *testing.B) {
 				c0 := threadCPU()
 				t1 := time.Now()
 				var err error
-				if mode == "full" {
+				switch mode {
+				case "full":
 					_, err = a.Annotate("r", texts[j], Options{IncludeWords: true})
-				} else {
+				case "topics-only":
 					_, err = a.AnnotateTokens("r", texts[j], toks[j], Options{})
+				default:
+					_, err = a.AnnotateTokens("r", texts[j], toks[j], Options{ConceptsOnly: true})
 				}
 				if err != nil {
 					b.Fatal(err)
