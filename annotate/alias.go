@@ -61,8 +61,8 @@ func newAlias(weights []float64, prob []float64, al []int32) alias {
 }
 
 // draw returns an index; the table must not be empty.
-func (t alias) draw(r *rand.Rand) int32 {
-	x := r.Float64() * float64(len(t.prob))
+func (t alias) draw(r *rand.PCG) int32 {
+	x := uniform(r) * float64(len(t.prob))
 	i := int(x)
 	if i >= len(t.prob) {
 		i = len(t.prob) - 1

@@ -143,6 +143,10 @@ func (a *Annotator) addRelated(cand []int32, score func(int32) float64, rel *map
 	return cand
 }
 
+// seedSalt, when not 0, is hashed into every record's seed: tests set it
+// to run other chains on the same texts (TestSweepsQuality's spread).
+var seedSalt uint64
+
 // ErrTooLarge is returned for a text longer than Options.MaxBytes.
 var ErrTooLarge = errors.New("text too large")
 
@@ -610,12 +614,20 @@ type state struct {
 	dsm       []float64   // slot → Σ over sampling sweeps of c_k·φ⁰_k / D
 	nz        [][]nzEntry // word type → slots with s_kw > 0, and s_kw
 	wacc      [][]float64 // word type → per nz entry, Σ p(z = k)
+	nzf       []nzEntry   // grouped: the array nz's lists are carved from
+	waccf     []float64   // grouped: the array wacc's lists are carved from
 	dacc      []float64   // word type → Σ D/Z
 	d         float64     // D = Σ_k c_k·φ⁰_k over the active slots
 	touched   []int32
 	ranked    []scored
 	cand      []int32
 	sup       []Support // support's scratch
+	// calibrated's scratch: pv[k] is concept k's calibrated score when
+	// pvMark[k] == pvGen; zs the candidates' log-odds.
+	pv     []float64
+	pvMark []uint32
+	pvGen  uint32
+	zs     []scored
 
 	uw    []int32   // word type u → word id
 	ucnt  []int32   // occurrences of u
@@ -673,9 +685,10 @@ func (a *Annotator) put(st *state) {
 	}
 	st.uw, st.ucnt, st.cacc, st.tu, st.z = st.uw[:0], st.ucnt[:0], st.cacc[:0], st.tu[:0], st.z[:0]
 	st.awu = st.awu[:0]
-	if cap(st.toks) > 1<<16 || cap(st.bent) > 1<<20 || len(st.nz) > 1<<14 {
+	if cap(st.toks) > 1<<16 || cap(st.bent) > 1<<20 || len(st.nz) > 1<<14 || cap(st.nzf) > 1<<20 {
 		// do not keep a huge record's buffers
 		st.toks, st.bent, st.nz, st.wacc, st.tu, st.z = nil, nil, nil, nil, nil, nil
+		st.nzf, st.waccf = nil, nil
 	}
 	a.pool.Put(st)
 }
@@ -884,10 +897,24 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 	if st.rows {
 		for u := range st.uw {
 			st.usort = append(st.usort, int32(u))
+			// Lists of their own: the previous record's may be carved
+			// out of nzf.
+			st.nz[u], st.wacc[u] = nil, nil
 		}
 		slices.SortFunc(st.usort, func(x, y int32) int { return int(st.uw[x] - st.uw[y]) })
 	} else {
 		a.group(st, T)
+		// A word type's slots are at most the topics of its list: carve
+		// every type's nz and wacc out of one array, so that no append
+		// moves them and they sit together.
+		st.nzf = slices.Grow(st.nzf[:0], T)[:T]
+		st.waccf = slices.Grow(st.waccf[:0], T)[:T]
+		o := 0
+		for u, w := range st.uw {
+			n := int(a.off[w+1] - a.off[w])
+			st.nz[u], st.wacc[u] = st.nzf[o:o:o+n], st.waccf[o:o:o+n]
+			o += n
+		}
 	}
 
 	// Known subjects.
@@ -940,9 +967,13 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 		binary.LittleEndian.PutUint32(nb[:], uint32(k))
 		h.Write(nb[:4])
 	}
+	if seedSalt != 0 {
+		binary.LittleEndian.PutUint64(nb[:], seedSalt)
+		h.Write(nb[:])
+	}
 	var seed [32]byte
 	h.Sum(seed[:0])
-	rng := rand.New(rand.NewPCG(binary.LittleEndian.Uint64(seed[:8]), binary.LittleEndian.Uint64(seed[8:16])))
+	rng := rand.NewPCG(binary.LittleEndian.Uint64(seed[:8]), binary.LittleEndian.Uint64(seed[8:16]))
 
 	burn, samples := opt.BurnIn, opt.Samples
 	if burn <= 0 {
@@ -1066,17 +1097,18 @@ func (a *Annotator) setExt(st *state, k int32, e float64) {
 // into the word bucket Σ c_k·s_kw over the record's topics that hold w (the
 // list nz[u], usually a handful) and the smoothing bucket D = Σ c_k·φ⁰_k,
 // whose total is kept up to date (SparseLDA, Yao, Mimno & McCallum 2009).
-func (a *Annotator) draw(st *state, u int32, rng *rand.Rand, record bool) int32 {
+func (a *Annotator) draw(st *state, u int32, rng *rand.PCG, record bool) int32 {
 	w := st.uw[u]
 	nz := st.nz[u]
 	if cap(st.buf) < len(nz) {
 		st.buf = make([]float64, len(nz), 2*len(nz))
 	}
 	buf := st.buf[:len(nz)]
+	cs := st.cs
 	bt := 0.0
 	// Slots without tokens give 0: no branch to mispredict.
 	for j, e := range nz {
-		v := st.cs[e.s] * e.v
+		v := cs[e.s] * e.v
 		buf[j] = v
 		bt += v
 	}
@@ -1098,7 +1130,7 @@ func (a *Annotator) draw(st *state, u int32, rng *rand.Rand, record bool) int32 
 		st.dacc[u] += d * inv
 		st.cacc[u] += aw * inv
 	}
-	x := rng.Float64() * z
+	x := uniform(rng) * z
 	if x < bt {
 		for j, v := range buf {
 			if x < v {
@@ -1137,7 +1169,7 @@ func (a *Annotator) draw(st *state, u int32, rng *rand.Rand, record bool) int32 
 	// The word's alias table (Walker 1977, Vose 1991), in its list.
 	lo := a.off[w]
 	n := float64(a.off[w+1] - lo)
-	x = rng.Float64() * n
+	x = uniform(rng) * n
 	i := int(x)
 	if i >= int(n) {
 		i = int(n) - 1
@@ -1147,6 +1179,12 @@ func (a *Annotator) draw(st *state, u int32, rng *rand.Rand, record bool) int32 
 		return e.k
 	}
 	return e.alt
+}
+
+// uniform returns a float64 in [0, 1) as rand.Rand.Float64 does, without
+// going through the rand.Source interface.
+func uniform(r *rand.PCG) float64 {
+	return float64(r.Uint64()<<11>>11) / (1 << 53)
 }
 
 // post returns word type u's posterior of topic k (slot s, or -1).
@@ -1279,7 +1317,7 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 	}
 	calOn := !st.allow && !opt.Uncalibrated && a.m.Calibration != nil
 	if calOn {
-		cand, score = a.calibrated(cand, score, want, norm, rbF) // calibrate.go
+		cand, score = a.calibrated(st, cand, score, want, norm, rbF) // calibrate.go
 	}
 	ranked := st.ranked[:0]
 	for _, k := range cand {

@@ -3,6 +3,7 @@ package annotate
 import (
 	"crypto/sha256"
 	"fmt"
+	"math"
 	"math/rand/v2"
 	"os"
 	"path/filepath"
@@ -358,7 +359,11 @@ func exportIDs(b *testing.B, a *Annotator, path string, texts []string) {
 // TestSweepsQuality prints precision@5 against the records' human subjects
 // for several burn-in/sampling sweep counts, on TG_ANN_MODEL and the first
 // 1,500 records of TG_ANN_RECORDS (skipped when unset): the trade-off
-// behind DefaultBurnIn and DefaultSamples.
+// behind DefaultBurnIn and DefaultSamples. Each setting runs TG_ANN_CHAINS
+// chains per record (default 1; other seeds through seedSalt) and prints
+// their mean and standard deviation, so that a difference can be read
+// against the spread one chain gives. TG_ANN_SWEEPS picks the settings,
+// e.g. "3+6,2+6,1+6".
 //
 //	TG_ANN_MODEL=.cache/annbench/debtags.grove TG_ANN_RECORDS=.cache/debtags/test.jsonl \
 //	    go test -run SweepsQuality -v ./annotate
@@ -367,7 +372,13 @@ func TestSweepsQuality(t *testing.T) {
 	if mp == "" || rp == "" {
 		t.Skip("set TG_ANN_MODEL and TG_ANN_RECORDS")
 	}
-	m, err := model.Load(filepath.Join("..", mp))
+	if !filepath.IsAbs(mp) {
+		mp = filepath.Join("..", mp)
+	}
+	if !filepath.IsAbs(rp) {
+		rp = filepath.Join("..", rp)
+	}
+	m, err := model.Load(mp)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -376,32 +387,62 @@ func TestSweepsQuality(t *testing.T) {
 		t.Fatal(err)
 	}
 	var recs []records.Record
-	records.Read(filepath.Join("..", rp), records.Options{}, func(r records.Record) error {
+	records.Read(rp, records.Options{}, func(r records.Record) error {
 		if len(recs) < 1500 {
 			recs = append(recs, r)
 		}
 		return nil
 	})
-	for _, c := range [][2]int{{3, 5}, {DefaultBurnIn, DefaultSamples}, {3, 8}, {3, 10}, {3, 16}, {10, 20}, {20, 40}} {
-		hit, n := 0, 0
-		t0 := time.Now()
-		for _, r := range recs {
-			res, err := a.Annotate(r.ID, r.Join(nil), Options{Top: 5, BurnIn: c[0], Samples: c[1]})
-			if err != nil {
-				t.Fatal(err)
+	settings := [][2]int{{3, 5}, {DefaultBurnIn, DefaultSamples}, {3, 8}, {3, 10}, {3, 16}, {10, 20}, {20, 40}}
+	if v := os.Getenv("TG_ANN_SWEEPS"); v != "" {
+		settings = nil
+		for _, f := range strings.Split(v, ",") {
+			var c [2]int
+			if _, err := fmt.Sscanf(f, "%d+%d", &c[0], &c[1]); err != nil {
+				t.Fatalf("TG_ANN_SWEEPS %q: want burn-in+samples, e.g. 3+6", f)
 			}
-			gold := map[string]bool{}
-			for _, s := range r.Subjects {
-				gold[s] = true
-			}
-			for _, cc := range res.Concepts {
-				if gold[cc.IRI] {
-					hit++
-				}
-			}
-			n += 5
+			settings = append(settings, c)
 		}
-		t.Logf("burn-in %2d, samples %2d: P@5 %.4f over %d records, %v per record",
-			c[0], c[1], float64(hit)/float64(n), len(recs), time.Since(t0)/time.Duration(len(recs)))
+	}
+	chains := 1
+	if v := os.Getenv("TG_ANN_CHAINS"); v != "" {
+		if _, err := fmt.Sscan(v, &chains); err != nil || chains < 1 {
+			t.Fatalf("TG_ANN_CHAINS %q: want a positive count", v)
+		}
+	}
+	defer func() { seedSalt = 0 }()
+	for _, c := range settings {
+		var ps []float64
+		t0 := time.Now()
+		for chain := 0; chain < chains; chain++ {
+			seedSalt = uint64(chain) // chain 0: the default seed
+			hit, n := 0, 0
+			for _, r := range recs {
+				res, err := a.Annotate(r.ID, r.Join(nil), Options{Top: 5, BurnIn: c[0], Samples: c[1], ConceptsOnly: true})
+				if err != nil {
+					t.Fatal(err)
+				}
+				for _, cc := range res.Concepts {
+					if slices.Contains(r.Subjects, cc.IRI) {
+						hit++
+					}
+				}
+				n += 5
+			}
+			ps = append(ps, float64(hit)/float64(n))
+		}
+		mean, sd := 0.0, 0.0
+		for _, p := range ps {
+			mean += p
+		}
+		mean /= float64(len(ps))
+		for _, p := range ps {
+			sd += (p - mean) * (p - mean)
+		}
+		if len(ps) > 1 {
+			sd = math.Sqrt(sd / float64(len(ps)-1))
+		}
+		t.Logf("burn-in %2d, samples %2d: P@5 %.4f (chain 0) mean %.4f sd %.4f over %d chains of %d records, %v per record",
+			c[0], c[1], ps[0], mean, sd, chains, len(recs), time.Since(t0)/time.Duration(len(recs)*chains))
 	}
 }

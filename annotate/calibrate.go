@@ -302,24 +302,31 @@ var calPrune = true
 // and it is added only when that bound reaches the want-th best log-odds
 // of the candidates: the ranking is the same as over all concepts
 // (TestCalibratedPruneExact), with few logarithms.
-func (a *Annotator) calibrated(cand []int32, score func(int32) float64, want int, norm, rbF float64) ([]int32, func(int32) float64) {
+func (a *Annotator) calibrated(st *state, cand []int32, score func(int32) float64, want int, norm, rbF float64) ([]int32, func(int32) float64) {
 	cal := a.m.Calibration
-	// pv[k] is concept k's calibrated score once mapped (−1 before): each
-	// is asked for several times (ranking, pool, paths).
-	pv := make([]float64, a.C)
-	for k := range pv {
-		pv[k] = -1
+	// pv[k] is concept k's calibrated score once mapped (when pvMark[k]
+	// is this call's stamp): each is asked for several times (ranking,
+	// pool, paths).
+	if len(st.pv) != a.C {
+		st.pv, st.pvMark = make([]float64, a.C), make([]uint32, a.C)
 	}
-	zs := make([]scored, 0, len(cand))
+	st.pvGen++
+	if st.pvGen == 0 { // wrapped: old stamps could collide
+		clear(st.pvMark)
+		st.pvGen = 1
+	}
+	pv, mark, gen := st.pv, st.pvMark, st.pvGen
+	zs := st.zs[:0]
 	for _, k := range cand {
 		s := score(k)
 		if !(s > 0) {
 			s = math.SmallestNonzeroFloat64
 		}
 		z := cal.A[k]*math.Log(s) + cal.B[k]
-		pv[k] = 1 / (1 + math.Exp(-z)) // = cal.Apply(k, s)
+		pv[k], mark[k] = 1/(1+math.Exp(-z)), gen // = cal.Apply(k, s)
 		zs = append(zs, scored{k, z})
 	}
+	st.zs = zs
 	if len(cand) < a.C {
 		tau := math.Inf(-1)
 		if calPrune && len(zs) > want && want > 0 {
@@ -332,7 +339,7 @@ func (a *Annotator) calibrated(cand []int32, score func(int32) float64, want int
 		lnNorm := math.Log(norm)
 		u := math.Log1p(a.cal.phi0Max * max(rbF, 0))
 		for k := 0; k < a.C; k++ {
-			if pv[k] >= 0 {
+			if mark[k] == gen {
 				continue
 			}
 			ak := cal.A[k]
@@ -343,8 +350,8 @@ func (a *Annotator) calibrated(cand []int32, score func(int32) float64, want int
 		}
 	}
 	return cand, func(k int32) float64 {
-		if pv[k] < 0 {
-			pv[k] = cal.Apply(int(k), score(k))
+		if mark[k] != gen {
+			pv[k], mark[k] = cal.Apply(int(k), score(k)), gen
 		}
 		return pv[k]
 	}
