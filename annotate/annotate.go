@@ -249,17 +249,16 @@ type Annotator struct {
 	sumAlpha, freeAlpha float64   // Σ_k α_k, Σ_{k ≥ C} α_k
 	labels              []string  // concept prefLabels in the main language
 
-	// Per word w, entries off[w]..off[w+1] list the topics with s_kw > 0,
-	// sorted by topic, e.g. topic [3 17] s [0.01 0.2] for a word that
-	// concept 3 names in a label and topic 17 used, and hold the word's alias
-	// table over α_k·s_kw (kept apart: a record's regrouping reads topic
-	// and s, a draw reads one alias entry).
-	off   []int32
-	topic []int32
-	s     []float64
-	wal   []aEntry
-	aw    []float64 // A_w = q + Σ_k α_k·s_kw
-	awF   []float64 // Σ_{k ≥ C} α_k·φ_kw
+	// Per word w, entries ent[off[w]:off[w+1]] list the topics with
+	// s_kw > 0, sorted by topic, e.g. k 3 and 17, s 0.01 and 0.2 for a word
+	// that concept 3 names in a label and topic 17 used, and hold the
+	// word's alias table over α_k·s_kw, all in one array: a record's
+	// regrouping reads the word's entries, and its alias draws then find
+	// them in the cache.
+	off []int32
+	ent []wEntry
+	aw  []float64 // A_w = q + Σ_k α_k·s_kw
+	awF []float64 // Σ_{k ≥ C} α_k·φ_kw
 	best  []int32   // argmax over concepts k of α_k·φ_kw (-1: no concepts)
 	bestV []float64
 	den   []float64 // n_k + B_k
@@ -364,9 +363,7 @@ func New(m *model.Model) (*Annotator, error) {
 		}
 		a.off[w] = int32(total)
 	}
-	a.topic = make([]int32, total)
-	a.s = make([]float64, total)
-	a.wal = make([]aEntry, total)
+	a.ent = make([]wEntry, total)
 	fill := slices.Clone(a.off[:W])
 	for k := 0; k < K; k++ {
 		var pr []model.WordWeight
@@ -377,8 +374,8 @@ func New(m *model.Model) (*Annotator, error) {
 		put := func(w int32, num float64) {
 			i := fill[w]
 			fill[w]++
-			a.topic[i] = int32(k)
-			a.s[i] = num / den[k]
+			a.ent[i].k = int32(k)
+			a.ent[i].s = num / den[k]
 		}
 		i, j := 0, 0
 		for i < len(cr) || j < len(pr) {
@@ -411,8 +408,8 @@ func New(m *model.Model) (*Annotator, error) {
 		sumW, free := 0.0, a.qFree
 		bk, bv := int32(-1), -1.0
 		for i := lo; i < hi; i++ {
-			k := a.topic[i]
-			v := a.alpha[k] * a.s[i]
+			k := a.ent[i].k
+			v := a.alpha[k] * a.ent[i].s
 			buf = append(buf, v)
 			sumW += v
 			if k >= int32(C) {
@@ -439,7 +436,8 @@ func New(m *model.Model) (*Annotator, error) {
 		prob, al = slices.Grow(prob[:0], n)[:n], slices.Grow(al[:0], n)[:n]
 		t := newAlias(buf, prob, al)
 		for i := range t.prob {
-			a.wal[lo+int32(i)] = aEntry{t.prob[i], a.topic[lo+int32(i)], a.topic[lo+t.alias[i]]}
+			e := &a.ent[lo+int32(i)]
+			e.p, e.alt = t.prob[i], a.ent[lo+t.alias[i]].k
 		}
 		a.aw[w] = a.q + sumW
 		a.awF[w] = free
@@ -453,11 +451,12 @@ func New(m *model.Model) (*Annotator, error) {
 // about 1,800 (rows).
 const defaultMaxList = 128
 
-// aEntry is slot i of a word's alias table over α_k·s_kw: keep topic k
-// (the list's i-th) with probability p, else take topic alt.
-type aEntry struct {
-	p      float64
+// wEntry is entry i of a word w's list: topic k holds w with
+// s_kw = s > 0; as slot i of the word's alias table over α_k·s_kw it
+// keeps topic k with probability p, else takes topic alt.
+type wEntry struct {
 	k, alt int32
+	s, p   float64
 }
 
 // Model returns the annotator's model.
@@ -474,13 +473,13 @@ func (a *Annotator) find(w int, k int32) (int32, bool) {
 	lo, hi := a.off[w], a.off[w+1]
 	for lo < hi {
 		mid := int32(uint32(lo+hi) >> 1)
-		if a.topic[mid] < k {
+		if a.ent[mid].k < k {
 			lo = mid + 1
 		} else {
 			hi = mid
 		}
 	}
-	return lo, lo < a.off[w+1] && a.topic[lo] == k
+	return lo, lo < a.off[w+1] && a.ent[lo].k == k
 }
 
 // sv returns s_kw = (n_kw + λ·π_kw)/(n_k + B_k), searching whichever is
@@ -494,7 +493,7 @@ func (a *Annotator) sv(w int, k int32) float64 {
 	}
 	if int(a.off[w+1]-a.off[w]) <= len(row)+len(pr) {
 		if i, ok := a.find(w, k); ok {
-			return a.s[i]
+			return a.ent[i].s
 		}
 		return 0
 	}
@@ -843,14 +842,13 @@ func (a *Annotator) fillRow(st *state, k int32) {
 func (a *Annotator) group(st *state, T int) {
 	bent := slices.Grow(st.bent[:0], T)
 	for u, w := range st.uw {
-		lo, hi := a.off[w], a.off[w+1]
-		sw := a.s[lo:hi]
-		for i, k := range a.topic[lo:hi] {
+		for _, e := range a.ent[a.off[w]:a.off[w+1]] {
+			k := e.k
 			h := st.bh[k]
 			if h == 0 {
 				st.bT = append(st.bT, k)
 			}
-			bent = append(bent, bEntry{u: int32(u), k: k, next: h - 1, s: sw[i]})
+			bent = append(bent, bEntry{u: int32(u), k: k, next: h - 1, s: e.s})
 			st.bh[k] = int32(len(bent))
 		}
 	}
@@ -1174,7 +1172,7 @@ func (a *Annotator) draw(st *state, u int32, rng *rand.PCG, record bool) int32 {
 	if i >= int(n) {
 		i = int(n) - 1
 	}
-	e := &a.wal[lo+int32(i)]
+	e := &a.ent[lo+int32(i)]
 	if x-float64(i) < e.p {
 		return e.k
 	}

@@ -134,7 +134,7 @@ func (a *Annotator) conditional(st *state, u int32) []float64 {
 			p[k] += a.q * d
 		}
 		lo, hi := a.off[w], a.off[w+1]
-		for _, e := range a.wal[lo:hi] {
+		for _, e := range a.ent[lo:hi] {
 			n := float64(hi - lo)
 			p[e.k] += (aw - a.q) * e.p / n
 			p[e.alt] += (aw - a.q) * (1 - e.p) / n
