@@ -301,8 +301,45 @@ func testDrawFrequencies(t *testing.T, maxList int) {
 				t.Errorf("%+v: topic %d drawn %.5f, want %.5f (se %.5f)", opt, k, got[k]/n, p, se)
 			}
 		}
+		// A recorded draw adds the conditional itself to the accumulators:
+		// the word bucket per slot, the smoothing bucket's total (split
+		// over slots by c_k·φ⁰_k) and the α·φ part's (split by α_k·φ_kw/A_w).
+		acc0 := slotAcc(st, u)
+		d0, c0 := st.dacc[u], st.cacc[u]
+		a.draw(st, u, pcg, true)
+		acc1 := slotAcc(st, u)
+		dd, dc := st.dacc[u]-d0, st.cacc[u]-c0
+		bucket := 0.0
+		for _, s := range st.act {
+			bucket += st.cs[s] * st.phi0s[s]
+		}
+		w := int(st.uw[u])
+		for k := range want {
+			p := 0.0
+			if s := st.slot[k]; s >= 0 {
+				p += acc1[s] - acc0[s]
+				if st.pos[s] >= 0 {
+					p += dd * st.cs[s] * st.phi0s[s] / bucket
+				}
+			}
+			if !st.allow {
+				p += dc * a.alpha[k] * (a.phi0[k] + a.sv(w, int32(k))) / a.aw[w]
+			}
+			if math.Abs(p-want[k]) > 1e-12 {
+				t.Errorf("%+v: topic %d accumulated %v, conditional %v", opt, k, p, want[k])
+			}
+		}
 		a.put(st)
 	}
+}
+
+// slotAcc returns word type u's word-bucket accumulators by slot.
+func slotAcc(st *state, u int32) []float64 {
+	acc := make([]float64, len(st.slotTopic))
+	for j, e := range st.nz[u] {
+		acc[e.s] = st.wacc[u][j]
+	}
+	return acc
 }
 
 // TestDistributions (outside check b): concept scores plus the uncovered
