@@ -601,6 +601,7 @@ type state struct {
 	bent  []bEntry
 	rows  bool
 	usort []int32   // row mode: word types ordered by word id
+	sink  int32     // group's early loads land here
 	fu    []float64 // word type → cacc/A_w
 	sfree float64   // free topics' share of the α·s_kw part, over all sweeps
 	stack []int32
@@ -840,19 +841,34 @@ func (a *Annotator) fillRow(st *state, k int32) {
 // linked list per topic, in one pass), so that a new slot finds the
 // record's words its topic holds without reading the topic's whole row.
 func (a *Annotator) group(st *state, T int) {
-	bent := slices.Grow(st.bent[:0], T)
+	bent := slices.Grow(st.bent[:0], T)[:T]
+	// Load each list's first entry up front: these loads do not depend on
+	// each other, so the memory system serves them together, where the
+	// loop below would wait for each list in turn.
+	var sink int32
+	for _, w := range st.uw {
+		if lo := a.off[w]; lo < a.off[w+1] {
+			sink += a.ent[lo].k
+		}
+	}
+	st.sink = sink
+	// Locals: stores into bent cannot then make the loop reload the
+	// state's slice headers.
+	bh, bT := st.bh, st.bT
+	i := int32(0)
 	for u, w := range st.uw {
 		for _, e := range a.ent[a.off[w]:a.off[w+1]] {
 			k := e.k
-			h := st.bh[k]
+			h := bh[k]
 			if h == 0 {
-				st.bT = append(st.bT, k)
+				bT = append(bT, k)
 			}
-			bent = append(bent, bEntry{u: int32(u), k: k, next: h - 1, s: e.s})
-			st.bh[k] = int32(len(bent))
+			bent[i] = bEntry{u: int32(u), k: k, next: h - 1, s: e.s}
+			i++
+			bh[k] = i
 		}
 	}
-	st.bent = bent
+	st.bent, st.bT = bent, bT
 }
 
 // infer runs the sampler over toks and fills res.
