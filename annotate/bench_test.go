@@ -393,7 +393,7 @@ func TestSweepsQuality(t *testing.T) {
 		}
 		return nil
 	})
-	settings := [][2]int{{3, 5}, {DefaultBurnIn, DefaultSamples}, {3, 8}, {3, 10}, {3, 16}, {10, 20}, {20, 40}}
+	settings := [][2]int{{1, 6}, {DefaultBurnIn, DefaultSamples}, {3, 6}, {1, 7}, {3, 16}, {10, 20}, {20, 40}}
 	if v := os.Getenv("TG_ANN_SWEEPS"); v != "" {
 		settings = nil
 		for _, f := range strings.Split(v, ",") {
