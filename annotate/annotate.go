@@ -251,6 +251,7 @@ type Annotator struct {
 	corder              []int32   // concepts by α_k, largest first
 	sumAlpha, freeAlpha float64   // Σ_k α_k, Σ_{k ≥ C} α_k
 	labels              []string  // concept prefLabels in the main language
+	dep                 []bool    // C: deprecated concepts (read at New: the ranking asks often)
 
 	// Per word w, entries ent[off[w]:off[w+1]] list the topics with
 	// s_kw > 0, sorted by topic, e.g. k 3 and 17, s 0.01 and 0.2 for a word
@@ -339,8 +340,10 @@ func New(m *model.Model) (*Annotator, error) {
 		lang = strings.ToLower(m.Analyzer.Languages[0])
 	}
 	a.labels = make([]string, C)
+	a.dep = make([]bool, C)
 	for k := 0; k < C; k++ {
 		a.labels[k] = m.Scheme.Concepts[k].PrefLabel(lang)
+		a.dep[k] = m.Scheme.Concepts[k].Deprecated
 	}
 
 	// Invert the topic rows into per-word lists: count, then fill.
@@ -1336,9 +1339,21 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 	if calOn {
 		cand, score = a.calibrated(st, cand, score, want, norm, rbF) // calibrate.go
 	}
-	ranked := st.ranked[:0]
-	for _, k := range cand {
-		ranked = append(ranked, scored{k, score(k)})
+	ranked := slices.Grow(st.ranked[:0], len(cand))
+	if rel == nil && !calOn {
+		// score(k), without two closure calls per candidate.
+		th, alpha, phi0, ext := st.th, a.alpha, a.phi0, st.ext
+		for _, k := range cand {
+			ap := alpha[k] + ext[k]
+			if st.allow {
+				ap = ext[k]
+			}
+			ranked = append(ranked, scored{k, (th[k] + alpha[k]*phi0[k]*rbF + ap) * norm})
+		}
+	} else {
+		for _, k := range cand {
+			ranked = append(ranked, scored{k, score(k)})
+		}
 	}
 	st.ranked = ranked
 	if len(ranked) > want {
@@ -1477,19 +1492,23 @@ func (a *Annotator) theta(st *state, samples float64) float64 {
 		sfree += f * (a.awF[w] - a.qFree)
 	}
 	st.sfree = sfree * inv
+	// Locals: stores into th would otherwise make each pass reload the
+	// slice headers.
+	th, alpha, fu, slotTopic, C := st.th, a.alpha, st.fu, st.slotTopic, int32(a.C)
 	for i := range st.bent { // the entries of every topic in bT
 		e := &st.bent[i]
-		if int(e.k) < a.C {
-			st.th[e.k] += a.alpha[e.k] * (e.s * st.fu[e.u])
+		if e.k < C {
+			th[e.k] += alpha[e.k] * (e.s * fu[e.u])
 		}
 	}
-	for u := range st.uw {
-		for j, e := range st.nz[u] {
-			st.th[st.slotTopic[e.s]] += st.wacc[u][j]
+	for u, nz := range st.nz {
+		acc := st.wacc[u][:len(nz)]
+		for j, e := range nz {
+			th[slotTopic[e.s]] += acc[j]
 		}
 	}
-	for s, k := range st.slotTopic {
-		st.th[k] = (st.th[k] + dsum*st.dsm[s]*inv) * inv
+	for s, k := range slotTopic {
+		th[k] = (th[k] + dsum*st.dsm[s]*inv) * inv
 	}
 	for _, k := range st.bT {
 		if st.slot[k] < 0 {
@@ -1523,8 +1542,7 @@ func (x scored) better(y scored) bool { return x.v > y.v || (x.v == y.v && x.k <
 // isDeprecated reports whether concept k is deprecated: it keeps its topic
 // (its words still need a home) but is never suggested.
 func (a *Annotator) isDeprecated(k int32) bool {
-	s := a.m.Scheme
-	return s != nil && int(k) < len(s.Concepts) && s.Concepts[k].Deprecated
+	return 0 <= k && int(k) < len(a.dep) && a.dep[k]
 }
 
 // deprecated counts the deprecated concepts in r.
