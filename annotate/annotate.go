@@ -259,10 +259,10 @@ type Annotator struct {
 	// word's alias table over α_k·s_kw, all in one array: a record's
 	// regrouping reads the word's entries, and its alias draws then find
 	// them in the cache.
-	off []int32
-	ent []wEntry
-	aw  []float64 // A_w = q + Σ_k α_k·s_kw
-	awF []float64 // Σ_{k ≥ C} α_k·φ_kw
+	off   []int32
+	ent   []wEntry
+	aw    []float64 // A_w = q + Σ_k α_k·s_kw
+	awF   []float64 // Σ_{k ≥ C} α_k·φ_kw
 	best  []int32   // argmax over concepts k of α_k·φ_kw (-1: no concepts)
 	bestV []float64
 	den   []float64 // n_k + B_k
