@@ -643,7 +643,8 @@ type state struct {
 	z     []int32   // token → topic
 	uOf   []int32   // W: word id → word type, -1 when not in the record
 	buf   []float64
-	allow bool // restricted: no α·φ part
+	cum   []float64 // draw's running sums of buf
+	allow bool      // restricted: no α·φ part
 }
 
 func (a *Annotator) get() *state {
@@ -1123,14 +1124,20 @@ func (a *Annotator) draw(st *state, u int32, rng *rand.PCG, record bool) int32 {
 	if cap(st.buf) < len(nz) {
 		st.buf = make([]float64, len(nz), 2*len(nz))
 	}
-	buf := st.buf[:len(nz)]
+	if cap(st.cum) < len(nz) {
+		st.cum = make([]float64, len(nz), 2*len(nz))
+	}
+	buf, cum := st.buf[:len(nz)], st.cum[:len(nz)]
 	cs := st.cs
 	bt := 0.0
-	// Slots without tokens give 0: no branch to mispredict.
+	// Slots without tokens give 0: no branch to mispredict. cum keeps the
+	// running sums, so that the search below compares without a chain of
+	// subtractions.
 	for j, e := range nz {
 		v := cs[e.s] * e.v
 		buf[j] = v
 		bt += v
+		cum[j] = bt
 	}
 	d := st.d
 	if d < 0 {
@@ -1151,15 +1158,9 @@ func (a *Annotator) draw(st *state, u int32, rng *rand.PCG, record bool) int32 {
 		st.cacc[u] += aw * inv
 	}
 	x := uniform(rng) * z
-	if x < bt {
-		for j, v := range buf {
-			if x < v {
-				return st.slotTopic[nz[j].s]
-			}
-			x -= v
-		}
-		for j := len(buf) - 1; ; j-- { // rounding left x at the top end
-			if buf[j] > 0 {
+	if x < bt { // bt is cum's last entry, so the search stops
+		for j, c := range cum {
+			if x < c {
 				return st.slotTopic[nz[j].s]
 			}
 		}
