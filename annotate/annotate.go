@@ -645,6 +645,12 @@ type state struct {
 	buf   []float64
 	cum   []float64 // draw's running sums of buf
 	allow bool      // restricted: no α·φ part
+
+	// Word layer scratch (wordlayer.go): the record's vector and the
+	// concepts' decision values.
+	wIdx []int32
+	wVal []float32
+	wd   []float64
 }
 
 func (a *Annotator) get() *state {
@@ -1337,7 +1343,10 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 		cand = a.addRelated(cand, score, &rel)
 	}
 	calOn := !st.allow && !opt.Uncalibrated && a.m.Calibration != nil
-	if calOn {
+	switch {
+	case calOn && a.m.WordLayer != nil:
+		cand, score = a.wordScores(st, score) // wordlayer.go
+	case calOn:
 		cand, score = a.calibrated(st, cand, score, want, norm, rbF) // calibrate.go
 	}
 	ranked := slices.Grow(st.ranked[:0], len(cand))

@@ -114,6 +114,11 @@ type Model struct {
 	// the probability that a person indexing the record assigns the
 	// concept; learned from records people indexed (annotate.Calibrate).
 	Calibration *Calibration
+	// WordLayer, when set, is the discriminative word layer: per concept a
+	// linear SVM over the record's TF-IDF vector, which annotation
+	// combines with the calibrated topic score (annotate/wordlayer.go).
+	// It needs Calibration.
+	WordLayer *WordLayer
 
 	sum    [32]byte // payload SHA-256, set by Load
 	hasSum bool
@@ -144,6 +149,45 @@ func (c *Calibration) Apply(k int, s float64) float64 {
 	}
 	z := c.A[k]*math.Log(s) + c.B[k]
 	return 1 / (1 + math.Exp(-z))
+}
+
+// WordLayerVersion is the WordLayer layout this build writes and reads.
+const WordLayerVersion = 1
+
+// WordLayer is a per-concept linear model over a record's words (a
+// one-vs-rest linear SVM, linear.OneVsRest, trained on the records people
+// indexed) and how annotation combines it with the topic model. A record's
+// vector is x_w = (1 + ln tf_w)·IDF[w], scaled to unit length (words with
+// IDF 0 left out); concept k's decision value is
+//
+//	d_k = Bias[k] + Σ_w x_w·weight(w, k)
+//
+// with word w's weights Concept[Start[w]:Start[w+1]] / Weight[…] (word
+// major, so a record walks only its own words). With z_k the calibrated
+// topic log-odds (Calibration), annotation ranks by
+//
+//	v_k = d_k + TopicWeight·z_k − FreqWeight·LnFreq[k]
+//
+// and reports σ(ScaleA·v_k + ScaleB). FreqWeight lowers concepts people
+// assign often, which spreads the suggestions over more concepts (macro
+// F1); both weights and the scale are learned on records people indexed.
+type WordLayer struct {
+	Version int
+	IDF     []float32 // W: ln((1 + N)/(1 + df_w)) + 1, 0 for words in fewer than MinDF records
+	Start   []int32   // W + 1
+	Concept []int32   // weights' concepts, ascending within a word
+	Weight  []float32
+	Bias    []float32 // C
+	LnFreq  []float32 // C: ln(1 + records people indexed with k)
+
+	TopicWeight, FreqWeight float64
+	ScaleA, ScaleB          float64
+
+	SVMC    float64 // the SVM's loss weight C
+	MinDF   int
+	Prune   float64 // weights below this magnitude were dropped
+	Records int     // records the SVMs were trained on
+	Tuned   int     // records the combination was learned on
 }
 
 // ConceptWeight is a concept index with a weight.
@@ -363,6 +407,14 @@ func (m *Model) Validate() error {
 			}
 		}
 	}
+	if l := m.WordLayer; l != nil {
+		if err := l.validate(m.C, W); err != nil {
+			return fmt.Errorf("word layer: %w", err)
+		}
+		if m.Calibration == nil {
+			return errors.New("word layer without calibration")
+		}
+	}
 	for k, a := range m.Alpha {
 		if !(a > 0) || math.IsInf(a, 0) {
 			return fmt.Errorf("alpha[%d] = %v", k, a)
@@ -580,6 +632,8 @@ type meta struct {
 	// Calibration is Model.Calibration; older files decode to nil, which
 	// annotation reads as uncalibrated scores.
 	Calibration *Calibration
+	// WordLayer is Model.WordLayer; older files decode to nil (no layer).
+	WordLayer *WordLayer
 }
 
 // enc packs the flat arrays.
@@ -628,7 +682,7 @@ func (e *enc) ints(xs []int) {
 }
 
 func encode(w io.Writer, m *Model) error {
-	md := meta{Analyzer: m.Analyzer, Provenance: m.Provenance, Related: m.Related, Calibration: m.Calibration}
+	md := meta{Analyzer: m.Analyzer, Provenance: m.Provenance, Related: m.Related, Calibration: m.Calibration, WordLayer: m.WordLayer}
 	if m.Scheme != nil {
 		md.HasScheme = true
 		md.SchemeIRI, md.Title, md.Collections = m.Scheme.IRI, m.Scheme.Title, m.Scheme.Collections
@@ -818,7 +872,7 @@ func decode(b []byte) (*Model, error) {
 		return nil, fmt.Errorf("header: %v", err)
 	}
 	d.off += gn
-	m := &Model{Analyzer: md.Analyzer, Provenance: md.Provenance, Related: md.Related, Calibration: md.Calibration}
+	m := &Model{Analyzer: md.Analyzer, Provenance: md.Provenance, Related: md.Related, Calibration: md.Calibration, WordLayer: md.WordLayer}
 	m.C = d.count(1)
 	m.F = d.count(1)
 	if d.err == nil && m.C+m.F > len(b) {
@@ -939,3 +993,77 @@ func clampWord(w uint64) int32 {
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+
+// validate checks a word layer's shape against C concepts and W words.
+func (l *WordLayer) validate(C, W int) error {
+	switch {
+	case l.Version != WordLayerVersion:
+		return fmt.Errorf("%w: word layer version %d, this build reads %d", ErrVersion, l.Version, WordLayerVersion)
+	case len(l.IDF) != W || len(l.Start) != W+1:
+		return fmt.Errorf("%d IDF values and %d word starts for %d words", len(l.IDF), len(l.Start), W)
+	case len(l.Bias) != C || len(l.LnFreq) != C:
+		return fmt.Errorf("%d biases and %d frequencies for %d concepts", len(l.Bias), len(l.LnFreq), C)
+	case len(l.Concept) != len(l.Weight) || l.Start[0] != 0 || int(l.Start[W]) != len(l.Weight):
+		return fmt.Errorf("%d concepts, %d weights, starts %d..%d", len(l.Concept), len(l.Weight), l.Start[0], l.Start[W])
+	}
+	for _, v := range []float64{l.TopicWeight, l.FreqWeight, l.ScaleA, l.ScaleB} {
+		if !finite(v) {
+			return fmt.Errorf("combination weight %v", v)
+		}
+	}
+	for w := 0; w < W; w++ {
+		if l.Start[w+1] < l.Start[w] || !finite(float64(l.IDF[w])) || l.IDF[w] < 0 {
+			return fmt.Errorf("word %d: start %d..%d, IDF %v", w, l.Start[w], l.Start[w+1], l.IDF[w])
+		}
+		for i := l.Start[w]; i < l.Start[w+1]; i++ {
+			if c := l.Concept[i]; c < 0 || int(c) >= C || (i > l.Start[w] && c <= l.Concept[i-1]) || !finite(float64(l.Weight[i])) {
+				return fmt.Errorf("word %d: entry %d (concept %d, weight %v) out of range or order", w, i, c, l.Weight[i])
+			}
+		}
+	}
+	for k := 0; k < C; k++ {
+		if !finite(float64(l.Bias[k])) || !finite(float64(l.LnFreq[k])) {
+			return fmt.Errorf("concept %d: bias %v, ln frequency %v", k, l.Bias[k], l.LnFreq[k])
+		}
+	}
+	return nil
+}
+
+// WordVector writes a record's word-layer vector into idx and val (reused,
+// returned resliced): ids are the record's distinct word ids, counts their
+// occurrences; x_w = (1 + ln count)·idf[w], scaled to unit length, words
+// with idf 0 left out (scikit-learn's TfidfVectorizer with sublinear_tf).
+func WordVector(ids, counts []int32, idf []float32, idx []int32, val []float32) ([]int32, []float32) {
+	idx, val = idx[:0], val[:0]
+	var ss float64
+	for i, w := range ids {
+		if w < 0 || int(w) >= len(idf) || idf[w] == 0 || counts[i] <= 0 {
+			continue
+		}
+		v := (1 + math.Log(float64(counts[i]))) * float64(idf[w])
+		idx = append(idx, w)
+		val = append(val, float32(v))
+		ss += v * v
+	}
+	if ss > 0 {
+		n := 1 / math.Sqrt(ss)
+		for i := range val {
+			val[i] = float32(float64(val[i]) * n)
+		}
+	}
+	return idx, val
+}
+
+// Decision adds to dst (len C, reset to the biases first) every concept's
+// decision value d_k for the vector (idx, val) from WordVector.
+func (l *WordLayer) Decision(idx []int32, val []float32, dst []float64) {
+	for k, b := range l.Bias {
+		dst[k] = float64(b)
+	}
+	for i, w := range idx {
+		x := float64(val[i])
+		for j := l.Start[w]; j < l.Start[w+1]; j++ {
+			dst[l.Concept[j]] += x * float64(l.Weight[j])
+		}
+	}
+}

@@ -372,3 +372,75 @@ func TestCalibrationRoundTrip(t *testing.T) {
 		t.Error("NaN calibration saved")
 	}
 }
+
+// TestWordLayerRoundTrip: the word layer section survives Save and Load, a
+// model without one loads with none, and a layer of the wrong shape, of
+// another version, or without a calibration is refused. Common practice,
+// no source.
+func TestWordLayerRoundTrip(t *testing.T) {
+	m := small()
+	W := len(m.Words)
+	m.Calibration = &model.Calibration{A: make([]float64, m.C), B: make([]float64, m.C)}
+	l := &model.WordLayer{Version: model.WordLayerVersion, IDF: make([]float32, W), Start: make([]int32, W+1),
+		Bias: make([]float32, m.C), LnFreq: make([]float32, m.C), TopicWeight: 0.2, FreqWeight: 0.04, ScaleA: 1.5, ScaleB: -2,
+		SVMC: 0.3, MinDF: 2, Prune: 0.01, Records: 10, Tuned: 5}
+	for w := 0; w < W; w++ {
+		l.IDF[w] = float32(w%5) / 2
+		l.Start[w+1] = l.Start[w]
+		if w%3 == 0 {
+			l.Concept = append(l.Concept, int32(w%(m.C-1)), int32(w%(m.C-1))+1)
+			l.Weight = append(l.Weight, 0.5, -0.25)
+			l.Start[w+1] += 2
+		}
+	}
+	for k := range l.Bias {
+		l.Bias[k], l.LnFreq[k] = -1, float32(k)/10
+	}
+	m.WordLayer = l
+	p := filepath.Join(t.TempDir(), "m.grove")
+	if err := model.Save(p, m); err != nil {
+		t.Fatal(err)
+	}
+	got, err := model.Load(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(got.WordLayer, l) {
+		t.Error("word layer changed by Save and Load")
+	}
+	// Decision: bias plus the weights of the vector's words.
+	idx, val := model.WordVector([]int32{3, 4}, []int32{1, 2}, l.IDF, nil, nil)
+	d := make([]float64, m.C)
+	got.WordLayer.Decision(idx, val, d)
+	// x_3 = 1.5, x_4 = (1 + ln 2)·2, unit length; word 3 holds concepts 3, 4
+	// (w mod (C − 1) and the next).
+	x3 := 1.5 / math.Hypot(1.5, (1+math.Log(2))*2)
+	if math.Abs(d[3]-(-1+0.5*x3)) > 1e-6 || math.Abs(d[4]-(-1-0.25*x3)) > 1e-6 || d[5] != -1 {
+		t.Errorf("decision values %v %v %v", d[3], d[4], d[5])
+	}
+	m2 := small()
+	if err := model.Save(p, m2); err != nil {
+		t.Fatal(err)
+	}
+	if got, err := model.Load(p); err != nil || got.WordLayer != nil {
+		t.Errorf("model without a word layer: %v, %v", got.WordLayer, err)
+	}
+	for name, bad := range map[string]func(l *model.WordLayer){
+		"version":      func(l *model.WordLayer) { l.Version = 2 },
+		"short IDF":    func(l *model.WordLayer) { l.IDF = l.IDF[1:] },
+		"concept":      func(l *model.WordLayer) { l.Concept = append([]int32{int32(m.C)}, l.Concept[1:]...) },
+		"NaN weight":   func(l *model.WordLayer) { l.ScaleA = math.NaN() },
+		"short biases": func(l *model.WordLayer) { l.Bias = l.Bias[1:] },
+	} {
+		c := *l
+		bad(&c)
+		m.WordLayer = &c
+		if err := model.Save(p, m); err == nil {
+			t.Errorf("%s: bad word layer saved", name)
+		}
+	}
+	m.WordLayer, m.Calibration = l, nil
+	if err := model.Save(p, m); err == nil {
+		t.Error("word layer without calibration saved")
+	}
+}

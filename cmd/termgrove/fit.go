@@ -56,6 +56,7 @@ type fitFlags struct {
 	anchor            bool
 	sampler           string
 	calibrate         int
+	wordLayer         bool
 }
 
 func cmdFit(args []string) int {
@@ -80,6 +81,7 @@ func cmdFit(args []string) int {
 	fl.StringVar(&f.langs, "lang", "en", "languages, comma-separated; the first is the records' main language")
 	fl.StringVar(&f.fields, "fields", "title,text", "record fields to read, comma-separated")
 	fl.IntVar(&f.calibrate, "calibrate", defaultCalibrate, "learn the score calibration from up to `N` records people indexed: the held-out ones with --holdout, else a sample of the training records (0 = none)")
+	fl.BoolVar(&f.wordLayer, "word-layer", true, "with --calibrate, also train the discriminative word layer (a linear SVM per concept over the records' words) on the records people indexed, and learn how it combines with the topic scores")
 	fl.BoolVar(&f.skipBad, "skip-bad", false, "skip records that are not JSON (counted) instead of stopping")
 	fl.BoolVar(&f.quiet, "quiet", false, "only the summary")
 	fl.BoolVar(&f.noProgress, "no-progress", false, "plain log lines even on a terminal")
@@ -356,6 +358,11 @@ func runFit(f *fitFlags) int {
 				src = "held-out records"
 			}
 			logf("scores calibrated on %d %s people indexed (%.1f s)", cal.Records, src, time.Since(start).Seconds())
+			if f.wordLayer {
+				if err := trainWordLayer(m, corpus, calib.texts, f, logf, warnf); err != nil {
+					return fail(1, "word layer: %v", err)
+				}
+			}
 		}
 	}
 	if err := model.Save(f.out, m); err != nil {
@@ -514,4 +521,42 @@ func (c *calibSample) add(r records.Record, fields []string) {
 	if j := c.rng.IntN(c.seen); j < c.n {
 		c.texts[j] = t
 	}
+}
+
+// trainWordLayer trains m's discriminative word layer on the records
+// people indexed and tunes its combination with the topic scores on the
+// calibration texts, scored by a second layer trained without them
+// (unless they were held out of the fit, and so of both layers, already).
+func trainWordLayer(m *model.Model, corpus *fit.Corpus, texts []annotate.LabeledText, f *fitFlags, logf, warnf func(string, ...any)) error {
+	start := time.Now()
+	heldOut := func(i int) bool { return f.holdout > 0 && fit.HeldOut(corpus.Docs[i].ID, f.holdout) }
+	opt := fit.WordLayerOptions{Workers: f.workers, Words: len(m.Words), Seed: uint64(f.seed), Skip: heldOut}
+	full, err := fit.TrainWordLayer(corpus, m.C, opt)
+	if errors.Is(err, fit.ErrNoIndexed) {
+		warnf("%v: no word layer", err)
+		return nil
+	}
+	if err != nil {
+		return err
+	}
+	held := full
+	if f.holdout == 0 {
+		tuning := make(map[string]bool, len(texts))
+		for _, t := range texts {
+			tuning[t.ID] = true
+		}
+		opt.Skip = func(i int) bool { return tuning[corpus.Docs[i].ID] }
+		if held, err = fit.TrainWordLayer(corpus, m.C, opt); err != nil {
+			return err
+		}
+	}
+	m.WordLayer = full
+	if err := annotate.TuneWordLayer(m, held, texts, annotate.TuneOptions{CalibrateOptions: annotate.CalibrateOptions{
+		Workers: f.workers, BurnIn: scoreBurnIn, Samples: scoreSamples}}); err != nil {
+		m.WordLayer = nil
+		return err
+	}
+	logf("word layer: %d records, %d weights; topic weight %g, frequency weight %g, tuned on %d records (%.1f s)",
+		full.Records, len(full.Weight), full.TopicWeight, full.FreqWeight, full.Tuned, time.Since(start).Seconds())
+	return nil
 }

@@ -1,0 +1,206 @@
+package annotate
+
+import (
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+
+	"termgrove/fit"
+	"termgrove/model"
+	"termgrove/model/modeltest"
+)
+
+// TestWordScoresFormula: with a word layer a calibrated model's score of
+// every concept is σ(g·(d_k + a·z_k − τ·ln(1 + n_k)) + h), d_k from the
+// layer's weights over the text's TF-IDF vector and z_k the calibrated
+// log-odds of the raw score the same annotation gives uncalibrated. Common
+// practice, no source: the definition in model.WordLayer, recomputed here.
+func TestWordScoresFormula(t *testing.T) {
+	m := modeltest.Synthetic(modeltest.Options{Concepts: 40, Free: 3, Words: 600, WordsPerConcept: 20, Seed: 21})
+	r := rand.New(rand.NewPCG(1, 2))
+	W := len(m.Words)
+	cal := &model.Calibration{A: make([]float64, m.C), B: make([]float64, m.C)}
+	l := &model.WordLayer{Version: model.WordLayerVersion, IDF: make([]float32, W), Start: make([]int32, W+1),
+		Bias: make([]float32, m.C), LnFreq: make([]float32, m.C), TopicWeight: 0.3, FreqWeight: 0.05, ScaleA: 1.7, ScaleB: -0.4}
+	for k := range cal.A {
+		cal.A[k], cal.B[k] = 0.5+r.Float64(), 2*r.Float64()-1
+		l.Bias[k] = float32(r.Float64() - 1)
+		l.LnFreq[k] = float32(math.Log1p(float64(r.IntN(100))))
+	}
+	for w := 0; w < W; w++ {
+		if w%7 != 0 {
+			l.IDF[w] = float32(1 + 3*r.Float64())
+		}
+		l.Start[w+1] = l.Start[w]
+		for k := 0; k < m.C; k++ {
+			if r.IntN(10) == 0 {
+				l.Concept = append(l.Concept, int32(k))
+				l.Weight = append(l.Weight, float32(r.NormFloat64()))
+				l.Start[w+1]++
+			}
+		}
+	}
+	m.Calibration, m.WordLayer = cal, l
+	if err := m.Validate(); err != nil {
+		t.Fatal(err)
+	}
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for trial := 0; trial < 10; trial++ {
+		counts := map[int32]int32{}
+		var words []string
+		for i := 0; i < 5+trial*4; i++ {
+			w := int32(r.IntN(W))
+			counts[w]++
+			words = append(words, m.Words[w])
+		}
+		text := strings.Join(words, " ")
+		raw, err := a.Annotate("t", text, Options{Top: -1, Samples: 5, Uncalibrated: true})
+		if err != nil {
+			t.Fatal(err)
+		}
+		got, err := a.Annotate("t", text, Options{Top: -1, Samples: 5})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(got.Concepts) != m.C {
+			t.Fatalf("trial %d: %d concepts ranked, want all %d", trial, len(got.Concepts), m.C)
+		}
+		// x_w = (1 + ln tf)·idf, unit length.
+		var ss float64
+		x := map[int32]float64{}
+		for w, n := range counts {
+			if l.IDF[w] > 0 {
+				x[w] = (1 + math.Log(float64(n))) * float64(l.IDF[w])
+				ss += x[w] * x[w]
+			}
+		}
+		want := map[string]float64{}
+		for _, c := range raw.Concepts {
+			k, _ := m.ConceptIndex(c.IRI)
+			d := float64(l.Bias[k])
+			for w, v := range x {
+				for j := l.Start[w]; j < l.Start[w+1]; j++ {
+					if int(l.Concept[j]) == k {
+						d += v / math.Sqrt(ss) * float64(l.Weight[j])
+					}
+				}
+			}
+			z := cal.A[k]*math.Log(c.Score) + cal.B[k]
+			v := d + l.TopicWeight*z - l.FreqWeight*float64(l.LnFreq[k])
+			want[c.IRI] = 1 / (1 + math.Exp(-(l.ScaleA*v + l.ScaleB)))
+		}
+		for i, c := range got.Concepts {
+			if math.Abs(c.Score-want[c.IRI]) > 1e-6 {
+				t.Fatalf("trial %d: %s scores %v, formula %v", trial, c.IRI, c.Score, want[c.IRI])
+			}
+			if i > 0 && c.Score > got.Concepts[i-1].Score {
+				t.Fatalf("trial %d: not ranked at %d", trial, i)
+			}
+		}
+	}
+}
+
+// TestWordLayerLearnsMarker: people assign a structural concept to the
+// texts that contain one marker word, whatever their topic; the topic
+// model, which never saw the marker, cannot tell them apart, and the
+// calibration alone gives the concept the same probability everywhere. A
+// word layer trained on indexed texts (fit.TrainWordLayer) and tuned by
+// TuneWordLayer gives it a probability above one half exactly where the
+// marker is, and ranks it above every concept but the text's own. Source: the
+// purpose of a discriminative layer, on synthetic data.
+func TestWordLayerLearnsMarker(t *testing.T) {
+	m := modeltest.Synthetic(modeltest.Options{Concepts: 30, Free: 3, Words: 400, WordsPerConcept: 15, Seed: 3})
+	const structural = 29
+	marker := m.Words[len(m.Words)-1]
+	r := rand.New(rand.NewPCG(5, 6))
+	text := func(i int) LabeledText {
+		c := r.IntN(10)
+		var words []string
+		for _, ww := range m.TopWords(c, 8) {
+			for n := 0; n < 1+r.IntN(3); n++ {
+				words = append(words, m.Words[ww.Word])
+			}
+		}
+		subj := []string{m.Scheme.Concepts[c].IRI}
+		if i%2 == 0 {
+			words = append(words, marker, marker)
+			subj = append(subj, m.Scheme.Concepts[structural].IRI)
+		}
+		return LabeledText{ID: "t" + strings.Repeat("x", i%7) + string(rune('a'+i%26)) + string(rune('a'+i/26)), Text: strings.Join(words, " "), Subjects: subj}
+	}
+	var texts []LabeledText
+	for i := 0; i < 340; i++ {
+		texts = append(texts, text(i))
+	}
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	corpus := &fit.Corpus{W: len(m.Words)}
+	for _, tx := range texts[:300] {
+		d := fit.Doc{ID: tx.ID}
+		for _, tk := range a.analyze(tx.Text, "", nil) {
+			d.Words = append(d.Words, tk.ID)
+		}
+		for _, s := range tx.Subjects {
+			k, _ := m.ConceptIndex(s)
+			d.Subjects = append(d.Subjects, int32(k))
+		}
+		corpus.Docs = append(corpus.Docs, d)
+	}
+	tune := texts[:100]
+	cal, err := Calibrate(m, tune, CalibrateOptions{Samples: 30, Workers: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	m.Calibration = cal
+	full, err := fit.TrainWordLayer(corpus, m.C, fit.WordLayerOptions{Workers: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	held, err := fit.TrainWordLayer(corpus, m.C, fit.WordLayerOptions{Workers: 2, Skip: func(i int) bool { return i < 100 }})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if full.Records != 300 || held.Records != 200 {
+		t.Fatalf("layers trained on %d and %d records, want 300 and 200", full.Records, held.Records)
+	}
+	m.WordLayer = full
+	if err := TuneWordLayer(m, held, tune, TuneOptions{CalibrateOptions: CalibrateOptions{Samples: 30, Workers: 2}}); err != nil {
+		t.Fatal(err)
+	}
+	if full.Tuned != 100 || !(full.ScaleA > 0) {
+		t.Errorf("tuned on %d texts, scale %v", full.Tuned, full.ScaleA)
+	}
+	if err := m.Validate(); err != nil {
+		t.Fatal(err)
+	}
+	b, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, tx := range texts[300:] {
+		res, err := b.Annotate(tx.ID, tx.Text, Options{Top: -1, Samples: 30})
+		if err != nil {
+			t.Fatal(err)
+		}
+		has := i%2 == 0 // as text(300 + i) chose
+		rank, p := -1, 0.0
+		for i, c := range res.Concepts {
+			if c.IRI == m.Scheme.Concepts[structural].IRI {
+				rank, p = i, c.Score
+			}
+		}
+		if has != (p > 0.5) || has != (rank < 2) {
+			t.Errorf("%s: marker %v, structural concept ranks %d with %.3f", tx.ID, has, rank, p)
+		}
+	}
+	// Tuning needs both layers and a calibration.
+	if err := TuneWordLayer(m, nil, tune, TuneOptions{}); err == nil {
+		t.Error("no held-out layer: no error")
+	}
+}
