@@ -613,6 +613,7 @@ type state struct {
 	stack []int32
 
 	slotTopic []int32     // slot → topic
+	out       []bool      // slot → taken out of nz by prune
 	pos       []int32     // slot → position in act, -1 when inactive
 	act       []int32     // active slots: ndk > 0 or ext > 0
 	cs        []float64   // slot → c_k = n_dk + extra α
@@ -681,7 +682,7 @@ func (a *Annotator) put(st *state) {
 		st.agg[k] = 0
 	}
 	st.aggT = st.aggT[:0]
-	st.slotTopic, st.pos, st.act = st.slotTopic[:0], st.pos[:0], st.act[:0]
+	st.slotTopic, st.pos, st.act, st.out = st.slotTopic[:0], st.pos[:0], st.act[:0], st.out[:0]
 	st.cs, st.phi0s, st.dsm, st.dacc = st.cs[:0], st.phi0s[:0], st.dsm[:0], st.dacc[:0]
 	for u := range st.nz {
 		st.nz[u] = st.nz[u][:0]
@@ -716,17 +717,50 @@ func (a *Annotator) slotOf(st *state, k int32) int32 {
 	st.slot[k] = s
 	st.slotTopic = append(st.slotTopic, k)
 	st.pos = append(st.pos, -1)
-	for i := a.first(st, k); i >= 0; {
-		e := &st.bent[i]
-		e.j = int32(len(st.nz[e.u]))
-		st.nz[e.u] = append(st.nz[e.u], nzEntry{s, e.s})
-		st.wacc[e.u] = append(st.wacc[e.u], 0)
-		i = e.next
-	}
+	st.out = append(st.out, false)
+	a.link(st, s, k)
 	st.cs = append(st.cs, float64(st.ndk[k])+st.ext[k])
 	st.phi0s = append(st.phi0s, a.phi0[k])
 	st.dsm = append(st.dsm, 0)
 	return s
+}
+
+// link adds slot s (topic k) to the lists nz of the record's word types
+// that topic k holds.
+func (a *Annotator) link(st *state, s, k int32) {
+	for i := a.first(st, k); i >= 0; {
+		e := &st.bent[i]
+		st.nz[e.u] = append(st.nz[e.u], nzEntry{s, e.s})
+		st.wacc[e.u] = append(st.wacc[e.u], 0)
+		i = e.next
+	}
+}
+
+// prune takes the entries of slots without tokens out of the word types'
+// lists nz: a slot's topic seldom keeps tokens once the sampler has left
+// it (in debtags records about 4 of a word type's 11 entries hold tokens
+// during the sampling sweeps), and a draw reads every entry of its word's
+// list. add links a slot again when it gets a token back. It runs only
+// before the sampling sweeps, while the entries carry no accumulated
+// probability.
+func (st *state) prune() {
+	for s, c := range st.cs {
+		if c <= 0 {
+			st.out[s] = true
+		}
+	}
+	out := st.out
+	for u, nz := range st.nz {
+		n := 0
+		for _, e := range nz {
+			if !out[e.s] {
+				nz[n] = e
+				n++
+			}
+		}
+		// The accumulators are all 0 still: keep the first n.
+		st.nz[u], st.wacc[u] = nz[:n], st.wacc[u][:n]
+	}
 }
 
 // nzEntry is a slot whose topic holds a word type, with s_kw.
@@ -735,12 +769,11 @@ type nzEntry struct {
 	v float64
 }
 
-// bEntry is a word type u of the record that topic k holds, with s_kw;
-// once the topic has a slot, nz[u][j] is that slot's entry. next is the
-// topic's next entry (-1: none).
+// bEntry is a word type u of the record that topic k holds, with s_kw.
+// next is the topic's next entry (-1: none).
 type bEntry struct {
-	u, j, k, next int32
-	s             float64
+	u, k, next int32
+	s          float64
 }
 
 // nextGen starts a new hierarchy walk.
@@ -1019,6 +1052,9 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 	// their topics); the others remove and redraw each token.
 	for sweep := 0; sweep <= burn+samples; sweep++ {
 		record := sweep > burn
+		if sweep == 1 || sweep == burn+1 {
+			st.prune()
+		}
 		// Re-sum the smoothing bucket so that rounding cannot drift.
 		st.d = 0
 		for _, s := range st.act {
@@ -1073,6 +1109,10 @@ func (a *Annotator) add(st *state, k int32, delta int32) {
 	st.cs[s] = float64(st.ndk[k]) + st.ext[k] // recomputed: no drift
 	st.d += float64(delta) * st.phi0s[s]
 	if st.cs[s] > 0 {
+		if st.out[s] { // pruned: back into the word lists
+			st.out[s] = false
+			a.link(st, s, k)
+		}
 		st.activate(s)
 	} else {
 		st.deactivate(s)
@@ -1220,7 +1260,8 @@ func (a *Annotator) post(st *state, u int32, k int32, samples float64) float64 {
 		if j, ok := st.nzAt(u, s); ok {
 			return a.postAt(st, u, k, s, st.wacc[u][j], st.nz[u][j].v, samples)
 		}
-		return a.postAt(st, u, k, s, 0, 0, samples)
+		// Pruned, or its topic does not hold the word.
+		return a.postAt(st, u, k, s, 0, a.sv(int(st.uw[u]), k), samples)
 	}
 	return a.postAt(st, u, k, -1, 0, a.sv(int(st.uw[u]), k), samples)
 }
@@ -1635,7 +1676,9 @@ func (a *Annotator) support(st *state, k int32, samples float64) []Support {
 		e := &st.bent[i]
 		v := fu[e.u] * ak * e.s
 		if s >= 0 {
-			v += st.wacc[e.u][e.j]
+			if j, ok := st.nzAt(e.u, s); ok { // else pruned: nothing accumulated
+				v += st.wacc[e.u][j]
+			}
 		}
 		buf[e.u] += v
 	}
