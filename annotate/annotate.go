@@ -1167,24 +1167,11 @@ func (a *Annotator) setExt(st *state, k int32, e float64) {
 func (a *Annotator) draw(st *state, u int32, rng *rand.PCG, record bool) int32 {
 	w := st.uw[u]
 	nz := st.nz[u]
-	if cap(st.buf) < len(nz) {
-		st.buf = make([]float64, len(nz), 2*len(nz))
-	}
-	if cap(st.cum) < len(nz) {
-		st.cum = make([]float64, len(nz), 2*len(nz))
+	if cap(st.buf) < len(nz) || cap(st.cum) < len(nz) {
+		st.grow(len(nz))
 	}
 	buf, cum := st.buf[:len(nz)], st.cum[:len(nz)]
-	cs := st.cs
-	bt := 0.0
-	// Slots without tokens give 0: no branch to mispredict. cum keeps the
-	// running sums, so that the search below compares without a chain of
-	// subtractions.
-	for j, e := range nz {
-		v := cs[e.s] * e.v
-		buf[j] = v
-		bt += v
-		cum[j] = bt
-	}
+	bt := wordBucket(nz, st.cs, buf, cum)
 	d := st.d
 	if d < 0 {
 		d = 0
@@ -1196,20 +1183,13 @@ func (a *Annotator) draw(st *state, u int32, rng *rand.PCG, record bool) int32 {
 	z := bt + d + aw
 	if record {
 		inv := 1 / z
-		acc := st.wacc[u][:len(buf)]
-		for j, v := range buf {
-			acc[j] += v * inv
-		}
+		accumulate(st.wacc[u][:len(buf)], buf, inv)
 		st.dacc[u] += d * inv
 		st.cacc[u] += aw * inv
 	}
 	x := uniform(rng) * z
 	if x < bt { // bt is cum's last entry, so the search stops
-		for j, c := range cum {
-			if x < c {
-				return st.slotTopic[nz[j].s]
-			}
-		}
+		return st.slotTopic[nz[search(cum, x)].s]
 	}
 	x -= bt
 	if x < d || aw == 0 {
@@ -1246,6 +1226,49 @@ func (a *Annotator) draw(st *state, u int32, rng *rand.PCG, record bool) int32 {
 		return e.k
 	}
 	return e.alt
+}
+
+// wordBucket sets buf[j] to slot j's word-bucket weight c_k·s_kw and
+// cum[j] to the running sum, and returns the total. Slots without tokens
+// give 0: no branch to mispredict. With the running sums the search
+// compares without a chain of subtractions. A function of its own, so
+// that the loop keeps its variables in registers.
+//
+//go:noinline
+func wordBucket(nz []nzEntry, cs, buf, cum []float64) float64 {
+	buf, cum = buf[:len(nz)], cum[:len(nz)]
+	bt := 0.0
+	for j, e := range nz {
+		v := cs[e.s] * e.v
+		buf[j] = v
+		bt += v
+		cum[j] = bt
+	}
+	return bt
+}
+
+// accumulate adds buf·inv to acc.
+func accumulate(acc, buf []float64, inv float64) {
+	acc = acc[:len(buf)]
+	for j, v := range buf {
+		acc[j] += v * inv
+	}
+}
+
+// search returns the first j with x < cum[j]; x must be below the last.
+func search(cum []float64, x float64) int {
+	for j, c := range cum {
+		if x < c {
+			return j
+		}
+	}
+	return len(cum) - 1
+}
+
+// grow makes room for n entries in draw's buffers.
+func (st *state) grow(n int) {
+	st.buf = make([]float64, n, 2*n)
+	st.cum = make([]float64, n, 2*n)
 }
 
 // uniform returns a float64 in [0, 1) as rand.Rand.Float64 does, without
