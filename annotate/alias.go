@@ -1,7 +1,5 @@
 package annotate
 
-import "math/rand/v2"
-
 // alias draws index i of a fixed weight vector with probability w_i/Σw in
 // O(1): Walker's alias method (Walker 1977, ACM TOMS 3(3)) built with Vose's
 // stable construction (Vose 1991, IEEE TSE 17(9)). Slot i keeps itself with
@@ -61,7 +59,7 @@ func newAlias(weights []float64, prob []float64, al []int32) alias {
 }
 
 // draw returns an index; the table must not be empty.
-func (t alias) draw(r *rand.PCG) int32 {
+func (t alias) draw(r *splitMix) int32 {
 	x := uniform(r) * float64(len(t.prob))
 	i := int(x)
 	if i >= len(t.prob) {

@@ -274,7 +274,7 @@ func testDrawFrequencies(t *testing.T, maxList int) {
 	}
 	a.maxList = maxList
 	r := rand.New(rand.NewPCG(5, 6))
-	pcg := rand.NewPCG(6, 5)
+	pcg := &splitMix{65}
 	for _, opt := range []Options{{}, {Subjects: []string{m.Scheme.Concepts[3].IRI}, SubjectMode: Restrict},
 		{Subjects: []string{m.Scheme.Concepts[3].IRI}, SubjectMode: Boost}} {
 		ids := make([]int32, 30)
