@@ -1582,10 +1582,24 @@ func (a *Annotator) theta(st *state, samples float64) float64 {
 	// Locals: stores into th would otherwise make each pass reload the
 	// slice headers.
 	th, alpha, fu, slotTopic, C := st.th, a.alpha, st.fu, st.slotTopic, int32(a.C)
-	for i := range st.bent { // the entries of every topic in bT
-		e := &st.bent[i]
-		if e.k < C {
-			th[e.k] += alpha[e.k] * (e.s * fu[e.u])
+	if st.rows { // the entries of every topic in bT
+		for i := range st.bent {
+			e := &st.bent[i]
+			if e.k < C {
+				th[e.k] += alpha[e.k] * (e.s * fu[e.u])
+			}
+		}
+	} else { // the same entries, grouped: each word type's in one run
+		bent := st.bent
+		for u, w := range st.uw {
+			n := int(a.off[w+1] - a.off[w])
+			f := fu[u]
+			for _, e := range bent[:n] {
+				if e.k < C {
+					th[e.k] += alpha[e.k] * (e.s * f)
+				}
+			}
+			bent = bent[n:]
 		}
 	}
 	for u, nz := range st.nz {
