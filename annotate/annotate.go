@@ -26,7 +26,7 @@
 // so a draw costs about O(record topics holding w), whatever K is
 // (TestConditionalEqualsDense and TestDrawFrequencies check it against the
 // dense formula). Several burn-in sweeps are followed by sampling sweeps
-// (defaults 2 and 6). Scores are the record's topic proportions averaged
+// (defaults 3 and 6). Scores are the record's topic proportions averaged
 // over those sweeps,
 //
 //	θ_k = (mean_s Σ_i p(z_i = k | z_¬i) + α_k) / (N + Σ_k α_k),
@@ -85,15 +85,15 @@ const (
 	DefaultTop      = 10
 	DefaultMaxBytes = 1 << 20 // 1 MiB
 	// DefaultBurnIn and DefaultSamples: after the start from each word's
-	// own posterior, 2 burn-in and 6 sampling sweeps (9 passes over the
-	// tokens) rank as well as 3 + 6 (10 passes) on three sets of 1,500
-	// debtags test records: P@5, mean of 20 chains, 0.3080, 0.2532,
-	// 0.2427 against 0.3074, 0.2534, 0.2431 (sd of one chain about 0.002,
-	// of a mean of 20 about 0.0005; bench/annotate.md, TestSweepsQuality).
-	// 0 + 8 ranked better still (0.3116, 0.2551, 0.2431) but its first
-	// sampling sweep pulls word attributions towards each word's own
-	// posterior (TestWordsAndSupport: p 0.89 for a word two bars share).
-	DefaultBurnIn  = 2
+	// own posterior, 3 burn-in and 6 sampling sweeps. On three sets of
+	// 1,500 debtags test records (bench/annotate.md, TestSweepsQuality,
+	// 20–40 chains per record) every cheaper setting tried ranks worse on
+	// at least one set by more than the chains' noise: 2 + 6 by 0.0008 of
+	// P@5 on the third set (about 2 standard errors), 1 + 6 and 0 + 7 by
+	// 0.002; 0 + 8 ranks better but pulls word attributions towards each
+	// word's own posterior (TestWordsAndSupport: p 0.89 for a word two
+	// bars share).
+	DefaultBurnIn  = 3
 	DefaultSamples = 6
 	DefaultBoost   = 20.0
 	// pathPool: aggregated path scores count the descendants among this many
@@ -170,7 +170,7 @@ type Options struct {
 	// MaxBytes refuses longer texts with ErrTooLarge (default 1 MiB;
 	// negative: no limit). Memory grows with distinct words times topics met.
 	MaxBytes int
-	// BurnIn and Samples are the sweeps discarded and averaged (defaults 2, 6).
+	// BurnIn and Samples are the sweeps discarded and averaged (defaults 3, 6).
 	BurnIn, Samples int
 	// BoostFactor multiplies known subjects' α in Boost mode (default 20;
 	// values below 1 count as 1).

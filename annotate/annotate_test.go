@@ -463,7 +463,7 @@ func testDistributions(t *testing.T, maxList int) {
 //
 // bars: every word is shared by two topics, so even the exact posterior
 // mean stays about 0.26 from θ (measured: 0.256 with 100 + 2,000 sweeps);
-// the default 2 + 6 sweeps give 0.23 (the short chain from each word's own
+// the default 3 + 6 sweeps give 0.22 (the short chain from each word's own
 // posterior stays a little nearer the words' independent posteriors, which
 // suits bars); tolerance 0.32. blocks (disjoint topics):
 // the tokens' own topic shares are about 0.13 from θ; tolerance 0.18.

@@ -363,7 +363,7 @@ func exportIDs(b *testing.B, a *Annotator, path string, texts []string) {
 // chains per record (default 1; other seeds through seedSalt) and prints
 // their mean and standard deviation, so that a difference can be read
 // against the spread one chain gives. TG_ANN_SWEEPS picks the settings,
-// e.g. "3+6,2+6,1+6".
+// e.g. "3+6,2+6,1+6"; TG_ANN_CHAIN0 starts the seed salts elsewhere.
 //
 //	TG_ANN_MODEL=.cache/annbench/debtags.grove TG_ANN_RECORDS=.cache/debtags/test.jsonl \
 //	    go test -run SweepsQuality -v ./annotate
@@ -393,7 +393,7 @@ func TestSweepsQuality(t *testing.T) {
 		}
 		return nil
 	})
-	settings := [][2]int{{1, 6}, {DefaultBurnIn, DefaultSamples}, {3, 6}, {1, 7}, {3, 16}, {10, 20}, {20, 40}}
+	settings := [][2]int{{2, 6}, {DefaultBurnIn, DefaultSamples}, {1, 7}, {3, 8}, {3, 16}, {10, 20}, {20, 40}}
 	if v := os.Getenv("TG_ANN_SWEEPS"); v != "" {
 		settings = nil
 		for _, f := range strings.Split(v, ",") {
@@ -410,12 +410,18 @@ func TestSweepsQuality(t *testing.T) {
 			t.Fatalf("TG_ANN_CHAINS %q: want a positive count", v)
 		}
 	}
+	first := 0 // TG_ANN_CHAIN0: the first chain's seed salt, for more chains
+	if v := os.Getenv("TG_ANN_CHAIN0"); v != "" {
+		if _, err := fmt.Sscan(v, &first); err != nil || first < 0 {
+			t.Fatalf("TG_ANN_CHAIN0 %q: want a count", v)
+		}
+	}
 	defer func() { seedSalt = 0 }()
 	for _, c := range settings {
 		var ps []float64
 		t0 := time.Now()
 		for chain := 0; chain < chains; chain++ {
-			seedSalt = uint64(chain) // chain 0: the default seed
+			seedSalt = uint64(first + chain) // chain 0: the default seed
 			hit, n := 0, 0
 			for _, r := range recs {
 				res, err := a.Annotate(r.ID, r.Join(nil), Options{Top: 5, BurnIn: c[0], Samples: c[1], ConceptsOnly: true})
