@@ -132,9 +132,23 @@ func TestBars(t *testing.T) {
 // TestConceptAlignment generates records from known concept word
 // distributions whose labels name only 2 of their 10 words (plus two
 // background themes no concept covers) and checks that each fitted concept
-// topic lies closest to its own true distribution.
+// topic lies closest to its own true distribution, for every seed 1–10 with
+// one worker and 1–3 with two. (Before the label-seeded start of initAssign,
+// seeds 1, 6, 8 and 9 failed: a free topic took a concept's unlabelled
+// words, or another concept's topic took them.)
 // Common practice, no source: the identifiability the concept prior is for.
 func TestConceptAlignment(t *testing.T) {
+	for _, c := range []struct{ seed, workers int }{
+		{1, 1}, {2, 1}, {3, 1}, {4, 1}, {5, 1}, {6, 1}, {7, 1}, {8, 1}, {9, 1}, {10, 1},
+		{1, 2}, {2, 2}, {3, 2},
+	} {
+		t.Run(fmt.Sprintf("seed%d/workers%d", c.seed, c.workers), func(t *testing.T) {
+			conceptAlignment(t, int64(c.seed), c.workers)
+		})
+	}
+}
+
+func conceptAlignment(t *testing.T, seed int64, workers int) {
 	const C, per, W = 8, 10, 100
 	r := rand.New(rand.NewPCG(8, 8))
 	truth := make([][]float64, C+2)
@@ -154,7 +168,7 @@ func TestConceptAlignment(t *testing.T) {
 		}
 	}
 	c := generate(r, truth, 1500, 60, 0.2)
-	res, err := RunContext(t.Context(), p, c, Options{FreeTopics: 2, Sweeps: 100, Seed: 3, Workers: 1})
+	res, err := RunContext(t.Context(), p, c, Options{FreeTopics: 2, Sweeps: 100, Seed: seed, Workers: workers})
 	if err != nil {
 		t.Fatal(err)
 	}

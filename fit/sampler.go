@@ -49,7 +49,9 @@ type worker struct {
 	changes [][]change // per merge partition (word mod workers)
 
 	mh *mhState // tables of the MH sampler (mh.go); nil until used
-	_  [64]byte
+
+	labScratch []int32 // initDoc: topics of a record's labelled tokens
+	_          [64]byte
 }
 
 func newWorker(st *state, r *rng, local bool) *worker {
@@ -125,6 +127,9 @@ func (wk *worker) begin(d *sdoc, assigned bool) {
 	if assigned {
 		for i := d.start; i < d.end; i++ {
 			k := st.z[i]
+			if k < 0 { // not assigned yet (initAssign)
+				continue
+			}
 			if wk.ndk[k] == 0 {
 				wk.dpos[k] = int32(len(wk.dtopics))
 				wk.dtopics = append(wk.dtopics, k)

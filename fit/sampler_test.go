@@ -4,6 +4,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"reflect"
+	"slices"
 	"strconv"
 	"testing"
 
@@ -466,5 +467,79 @@ func TestWordListOrder(t *testing.T) {
 				t.Fatalf("trial %d: counts %v, want %v", trial, got, want)
 			}
 		}
+	}
+}
+
+// TestLabelSeededStart: after initAssign every token of a record without
+// subjects whose word is a prior term sits in one of that word's concepts,
+// the share of each concept among a shared label word's tokens follows the
+// prior's mean of φ_kw, (β0+λπ_kw)/B_k, restricted records keep their
+// subjects, and the counts match z. Common practice, no source.
+func TestLabelSeededStart(t *testing.T) {
+	p, c := randomSetup(21, 8, 15, 200, 25)
+	// Word 0 is a term of concepts 0 (weight 0.8 of its row) and 1 (0.2)
+	// at least.
+	p.Rows[0] = []prior.Entry{{Word: 0, Weight: 0.8}, {Word: 5, Weight: 0.2}}
+	p.Rows[1] = []prior.Entry{{Word: 0, Weight: 0.2}, {Word: 6, Weight: 0.8}}
+	for i := range c.Docs {
+		if i%3 != 1 {
+			c.Docs[i].Words = append(c.Docs[i].Words, 0, 0, 0)
+		}
+	}
+	st, err := newState(p, c, Options{FreeTopics: 3, Seed: 2, Workers: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	st.initAssign()
+	n0, n01 := 0, 0
+	for di := range st.docs {
+		d := &st.docs[di]
+		for i := d.start; i < d.end; i++ {
+			w, k := st.words[i], st.z[i]
+			if d.subjects != nil {
+				if int(k) < st.C && !slices.Contains(d.subjects, k) {
+					t.Fatalf("record %d: token in concept %d, not one of its subjects %v", di, k, d.subjects)
+				}
+				continue
+			}
+			labels := st.pTopic[st.pStart[w]:st.pStart[w+1]]
+			if len(labels) > 0 && !slices.Contains(labels, k) {
+				t.Fatalf("record %d: token of word %d in topic %d, not in its labelled concepts %v", di, w, k, labels)
+			}
+			if w == 0 && d.subjects == nil {
+				n01++
+				if k == 0 {
+					n0++
+				}
+			}
+		}
+	}
+	// Other random rows may name word 0 too: the share is over all of them.
+	var m0, mAll float64
+	for j := st.pStart[0]; j < st.pStart[1]; j++ {
+		m := (st.beta0 + st.pMass[j]) / st.B[st.pTopic[j]]
+		mAll += m
+		if st.pTopic[j] == 0 {
+			m0 = m
+		}
+	}
+	if st.pStart[1]-st.pStart[0] < 2 || m0 == 0 {
+		t.Fatal("setup: word 0 should be a term of concept 0 and of another")
+	}
+	want := m0 / mAll
+	got := float64(n0) / float64(n01)
+	if sd := math.Sqrt(want * (1 - want) / float64(n01)); math.Abs(got-want) > 4*sd {
+		t.Fatalf("word 0 in concept 0: %.3f of %d tokens, want %.3f ± %.3f", got, n01, want, sd)
+	}
+	nk := slices.Clone(st.nk)
+	wt := make([][]tc, len(st.wt))
+	for w := range st.wt {
+		wt[w] = slices.Clone(st.wt[w])
+	}
+	if err := st.rebuildCounts(); err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(nk, st.nk) || !reflect.DeepEqual(wt, st.wt) {
+		t.Fatal("counts after initAssign differ from counts recomputed from z")
 	}
 }
