@@ -82,3 +82,11 @@ func (b *Bench) ListStats() (wordList, recordTopics float64) {
 	}
 	return wordList, recordTopics
 }
+
+// Phases returns the phase timers of multi-worker sweeps since the last
+// call and resets them.
+func (b *Bench) Phases() Phases {
+	p := b.st.phase
+	b.st.phase = Phases{Sample: make([]float64, len(p.Sample))}
+	return p
+}

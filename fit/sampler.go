@@ -3,6 +3,7 @@ package fit
 import (
 	"slices"
 	"sync"
+	"time"
 	"unsafe"
 )
 
@@ -17,7 +18,7 @@ type worker struct {
 	_     [64]byte // the hot fields below share no cache line with other data
 	st    *state
 	r     *rng
-	local bool // counts are a private copy; log changes
+	local bool // counts are a private copy; mark (or log) changes
 
 	nk []int32
 	wt [][]tc
@@ -46,7 +47,8 @@ type worker struct {
 	oldPos int // index in wt[w] of the unassigned token's topic (see wordBucket)
 	newPos int // index in wt[w] of the drawn topic, or −1
 
-	changes [][]change // per merge partition (word mod workers)
+	changes [][]change // mh sampler: moves, per merge partition (word mod workers)
+	dirty   []bool     // W, sparse sampler: the word's list changed since the merge
 
 	mh *mhState // tables of the MH sampler (mh.go); nil until used
 
@@ -211,8 +213,12 @@ func (wk *worker) doc(d *sdoc, first bool) {
 		wk.reassign(w, old, k)
 		st.z[i] = k
 		if wk.local && k != old {
-			p := int(w) % len(wk.changes)
-			wk.changes[p] = append(wk.changes[p], change{w, old, k})
+			if wk.dirty != nil {
+				wk.dirty[w] = true // for the merge
+			} else { // the mh sampler's merge replays the moves
+				p := int(w) % len(wk.changes)
+				wk.changes[p] = append(wk.changes[p], change{w, old, k})
+			}
 		}
 	}
 	wk.end()
@@ -478,9 +484,48 @@ func (st *state) sweepOnce() {
 		return
 	}
 	if st.opt.useMH(st.K) {
-		st.zSnap = append(st.zSnap[:0], st.z...) // the topics of the workers' shared view
-		st.mhIndex()
+		st.sweepReplay()
+		return
 	}
+	st.sweepMerge()
+}
+
+// sweepMerge is an AD-LDA sweep of the sparse sampler (Newman et al. 2009):
+// every worker samples its shard on its own copy of the counts, marking the
+// words whose list it changed; once all are done (a barrier), each merges a
+// range of topics of n_k and a range of words into the shared counts and
+// hands the merged lists to every worker (mergePart). All on the same
+// goroutines, so the merge runs on every core.
+func (st *state) sweepMerge() {
+	P := len(st.workers)
+	st.mergeSetup()
+	var sampled, done sync.WaitGroup
+	sampled.Add(P)
+	done.Add(P)
+	t0 := time.Now()
+	ends := st.phaseEnds[:2*P]
+	for wi, wk := range st.workers {
+		go func(wi int, wk *worker, sh [2]int) {
+			defer done.Done()
+			wk.refresh()
+			wk.shard(sh[0], sh[1])
+			ends[wi] = time.Since(t0)
+			sampled.Done()
+			sampled.Wait()
+			st.mergePart(wi, &st.mscratch[wi])
+			ends[P+wi] = time.Since(t0)
+		}(wi, wk, st.shards[wi])
+	}
+	done.Wait()
+	st.phase.add(ends, time.Since(t0))
+}
+
+// sweepReplay is an AD-LDA sweep of the mh sampler, whose workers keep their
+// word counts in their own tables and log every move: the merge replays the
+// logs on the shared lists, then copies them to every worker.
+func (st *state) sweepReplay() {
+	st.zSnap = append(st.zSnap[:0], st.z...) // the topics of the workers' shared view
+	st.mhIndex()
 	var wg sync.WaitGroup
 	for wi, wk := range st.workers {
 		wg.Add(1)
@@ -494,56 +539,8 @@ func (st *state) sweepOnce() {
 		}(wk, st.shards[wi])
 	}
 	wg.Wait()
-	st.merge()
-}
-
-// shard samples records [lo, hi) with the sampler Options.Sampler selects.
-func (wk *worker) shard(lo, hi int) {
-	st := wk.st
-	if st.opt.useMH(st.K) {
-		wk.mhShard(lo, hi)
-		return
-	}
-	for i := lo; i < hi; i++ {
-		wk.doc(&st.docs[i], false)
-	}
-}
-
-// merge applies every worker's changes to the shared counts, each worker
-// taking the words w ≡ its index (mod workers), then hands every worker a
-// fresh copy (AD-LDA).
-func (st *state) merge() {
+	st.mergeNK()
 	P := len(st.workers)
-	// n_k: shared += Σ (local − shared).
-	delta := make([]int32, st.K)
-	for _, wk := range st.workers {
-		for k := range delta {
-			delta[k] += wk.nk[k] - st.nk[k]
-		}
-	}
-	for k := range delta {
-		st.nk[k] += delta[k]
-	}
-	var wg sync.WaitGroup
-	if !st.opt.useMH(st.K) {
-		// Every worker's lists are its own counts (the mh sampler keeps
-		// them in its tables instead): merge word by word.
-		if len(st.mscratch) != P {
-			st.mscratch = make([]mergeScratch, P)
-		}
-		for _, wk := range st.workers {
-			copy(wk.nk, st.nk)
-		}
-		for p := 0; p < P; p++ {
-			wg.Add(1)
-			go func(p int) {
-				defer wg.Done()
-				st.mergeWords(p, &st.mscratch[p])
-			}(p)
-		}
-		wg.Wait()
-		return
-	}
 	for p := 0; p < P; p++ {
 		wg.Add(1)
 		go func(p int) {
@@ -577,87 +574,222 @@ func (st *state) merge() {
 	wg.Wait()
 }
 
-// mergeScratch is the reusable state of one merge partition.
-type mergeScratch struct {
-	seen  []bool  // W: word already queued
-	inK   []bool  // K: topic already in ks
-	cnt   []int32 // K: merged count
-	words []int32
-	ks    []int32
-	buf   []tc
+// mergeNK sets n_k to shared + Σ_workers (worker − shared) and copies it to
+// every worker.
+func (st *state) mergeNK() {
+	for k := range st.nk {
+		s := st.nk[k]
+		n := s
+		for _, wk := range st.workers {
+			n += wk.nk[k] - s
+		}
+		st.nk[k] = n
+	}
+	for _, wk := range st.workers {
+		copy(wk.nk, st.nk)
+	}
 }
 
-// mergeWords merges the words of partition p (w ≡ p mod workers) that some
-// worker changed in the sweep (its log names them): the shared list
-// becomes shared + Σ_workers (worker − shared) and is copied back to every
-// worker. The merged list is sorted into the order of before, so the result
-// is the one replaying the changes one by one would give. A word no worker
-// changed is the same everywhere already.
-func (st *state) mergeWords(p int, ms *mergeScratch) {
-	if ms.seen == nil {
-		ms.seen = make([]bool, st.W)
-		ms.inK = make([]bool, st.K)
-		ms.cnt = make([]int32, st.K)
+// Phases holds the wall time of the multi-worker sweeps' phases (sparse
+// sampler), summed over sweeps: each worker's sampling, the time workers
+// waited at the barrier for the last one (summed over workers), and the
+// merge (from the barrier to the last worker's end).
+type Phases struct {
+	Sweeps int
+	Sample []float64 // per worker
+	Wait   float64
+	Merge  float64
+}
+
+// add records one sweep: ends holds each worker's end of sampling, then
+// each worker's end of merging, as times since the sweep's start.
+func (ph *Phases) add(ends []time.Duration, total time.Duration) {
+	P := len(ends) / 2
+	last := time.Duration(0)
+	for _, e := range ends[:P] {
+		last = max(last, e)
 	}
-	words := ms.words[:0]
-	for _, wk := range st.workers {
-		for _, c := range wk.changes[p] {
-			if !ms.seen[c.w] {
-				ms.seen[c.w] = true
-				words = append(words, c.w)
-			}
+	if len(ph.Sample) != P {
+		ph.Sample = make([]float64, P)
+	}
+	for wi, e := range ends[:P] {
+		ph.Sample[wi] += e.Seconds()
+		ph.Wait += (last - e).Seconds()
+	}
+	ph.Merge += (total - last).Seconds()
+	ph.Sweeps++
+}
+
+// shard samples records [lo, hi) with the sampler Options.Sampler selects.
+func (wk *worker) shard(lo, hi int) {
+	st := wk.st
+	if st.opt.useMH(st.K) {
+		wk.mhShard(lo, hi)
+		return
+	}
+	for i := lo; i < hi; i++ {
+		wk.doc(&st.docs[i], false)
+	}
+}
+
+// mergeScratch is the reusable state of one merge partition.
+type mergeScratch struct {
+	inK []bool  // K: topic already in ks
+	cnt []int32 // K: merged count
+	ks  []int32
+	buf []tc
+}
+
+// mergeSetup sizes the merge's scratch and splits the words into one range
+// per worker holding about equal numbers of tokens (the merge's work per
+// word grows with its list; ranges, unlike interleaved words, keep the
+// workers' writes to the list headers on separate cache lines).
+func (st *state) mergeSetup() {
+	P := len(st.workers)
+	if len(st.mscratch) == P {
+		return
+	}
+	st.mscratch = make([]mergeScratch, P)
+	for p := range st.mscratch {
+		st.mscratch[p] = mergeScratch{inK: make([]bool, st.K), cnt: make([]int32, st.K)}
+	}
+	st.phaseEnds = make([]time.Duration, 2*P)
+	perWord := make([]int64, st.W)
+	for _, w := range st.words {
+		perWord[w]++
+	}
+	st.wparts = make([]int, P+1)
+	total, acc, p := int64(len(st.words)), int64(0), 1
+	for w := 0; w < st.W && p < P; w++ {
+		acc += perWord[w]
+		for p < P && acc >= total*int64(p)/int64(P) {
+			st.wparts[p] = w + 1
+			p++
 		}
 	}
-	ms.words = words
-	P := int32(len(st.workers))
-	for i, w := range words {
-		if i+2 < len(words) {
+	for ; p <= P; p++ {
+		st.wparts[p] = st.W
+	}
+}
+
+// mergePart merges part p of every worker's counts into the shared ones
+// (AD-LDA): n_k of topics [pK/P, (p+1)K/P), and the lists of words
+// [wparts[p], wparts[p+1]) that some worker changed in the sweep. Each
+// becomes shared + Σ_workers (worker − shared) and is copied to every
+// worker. A word no worker changed is the same everywhere already; a word
+// only one worker changed takes that worker's list.
+func (st *state) mergePart(p int, ms *mergeScratch) {
+	P := len(st.workers)
+	for k := p * st.K / P; k < (p+1)*st.K/P; k++ {
+		s := st.nk[k]
+		n := s
+		for _, wk := range st.workers {
+			n += wk.nk[k] - s
+		}
+		st.nk[k] = n
+		for _, wk := range st.workers {
+			wk.nk[k] = n
+		}
+	}
+	lo, hi := st.wparts[p], st.wparts[p+1]
+	for w := lo; w < hi; w++ {
+		if w+2 < hi {
 			for _, wk := range st.workers {
-				if l := wk.wt[words[i+2]]; len(l) > 0 {
-					prefetch(unsafe.Pointer(unsafe.SliceData(l)))
+				if wk.dirty[w+2] {
+					if l := wk.wt[w+2]; len(l) > 0 {
+						prefetch(unsafe.Pointer(unsafe.SliceData(l)))
+					}
 				}
 			}
 		}
-		ms.seen[w] = false
-		ks := ms.ks[:0]
-		for _, e := range st.wt[w] {
-			ms.cnt[e.k] -= (P - 1) * e.n
+		changed, by := 0, -1
+		for i, wk := range st.workers {
+			if wk.dirty[w] {
+				wk.dirty[w] = false
+				changed++
+				by = i
+			}
+		}
+		switch changed {
+		case 0:
+			continue
+		case 1:
+			l := st.workers[by].wt[w]
+			st.wt[w] = append(st.wt[w][:0], l...)
+			for i, wk := range st.workers {
+				if i != by {
+					wk.wt[w] = append(wk.wt[w][:0], l...)
+				}
+			}
+		default:
+			st.mergeWord(int32(w), ms)
+		}
+	}
+}
+
+// mergeWord sets word w's shared list to shared + Σ_workers (worker −
+// shared), sorted into the order of before (so the result is the one
+// replaying the changes one by one would give), and copies it to every
+// worker.
+func (st *state) mergeWord(w int32, ms *mergeScratch) {
+	P := int32(len(st.workers))
+	ks := ms.ks[:0]
+	for _, e := range st.wt[w] {
+		ms.cnt[e.k] -= (P - 1) * e.n
+		if !ms.inK[e.k] {
+			ms.inK[e.k] = true
+			ks = append(ks, e.k)
+		}
+	}
+	for _, wk := range st.workers {
+		for _, e := range wk.wt[w] {
+			ms.cnt[e.k] += e.n
 			if !ms.inK[e.k] {
 				ms.inK[e.k] = true
 				ks = append(ks, e.k)
 			}
 		}
-		for _, wk := range st.workers {
-			for _, e := range wk.wt[w] {
-				ms.cnt[e.k] += e.n
-				if !ms.inK[e.k] {
-					ms.inK[e.k] = true
-					ks = append(ks, e.k)
-				}
-			}
+	}
+	buf := ms.buf[:0]
+	for _, k := range ks {
+		n := ms.cnt[k]
+		if n < 0 {
+			panic("fit: internal error: negative word-topic count after merge")
 		}
-		buf := ms.buf[:0]
-		for _, k := range ks {
-			n := ms.cnt[k]
-			if n < 0 {
-				panic("fit: internal error: negative word-topic count after merge")
-			}
-			if n > 0 {
-				buf = append(buf, tc{k, n})
-			}
-			ms.cnt[k] = 0
-			ms.inK[k] = false
+		if n > 0 {
+			buf = append(buf, tc{k, n})
 		}
-		slices.SortFunc(buf, func(a, b tc) int {
+		ms.cnt[k] = 0
+		ms.inK[k] = false
+	}
+	sortList(buf)
+	ms.ks, ms.buf = ks, buf
+	st.wt[w] = append(st.wt[w][:0], buf...)
+	for _, wk := range st.workers {
+		wk.wt[w] = append(wk.wt[w][:0], buf...)
+	}
+}
+
+// sortList sorts a word list into the order of before. A merged list starts
+// out nearly in order (the shared list's order, a few counts moved, new
+// topics at the end): insertion sort, unless it is long.
+func sortList(l []tc) {
+	if len(l) > 48 {
+		slices.SortFunc(l, func(a, b tc) int {
 			if before(a, b) {
 				return -1
 			}
 			return 1
 		})
-		ms.ks, ms.buf = ks, buf
-		st.wt[w] = append(st.wt[w][:0], buf...)
-		for _, wk := range st.workers {
-			wk.wt[w] = append(wk.wt[w][:0], buf...)
+		return
+	}
+	for i := 1; i < len(l); i++ {
+		e := l[i]
+		j := i
+		for j > 0 && before(e, l[j-1]) {
+			l[j] = l[j-1]
+			j--
 		}
+		l[j] = e
 	}
 }

@@ -272,71 +272,90 @@ func TestDrawMatchesConditional(t *testing.T) {
 }
 
 // TestMergeKeepsCounts checks that after AD-LDA sweeps with several workers
-// the shared counts equal the counts recomputed from the assignments.
-// Common practice, no source.
+// the shared counts equal the counts recomputed from the assignments, every
+// list is in the order of before, and every worker holds the shared counts.
+// With W = 400 many words are changed by one worker only in a sweep (the
+// merge's shortcut), with W = 12 by all. Common practice, no source.
 func TestMergeKeepsCounts(t *testing.T) {
-	p, c := randomSetup(5, 10, 12, 60, 20)
-	st, err := newState(p, c, Options{FreeTopics: 2, Seed: 1, Workers: 3})
-	if err != nil {
-		t.Fatal(err)
-	}
-	if len(st.workers) != 3 {
-		t.Fatalf("workers = %d", len(st.workers))
-	}
-	st.initAssign()
-	for i := 0; i < 5; i++ {
-		st.sweepOnce()
-	}
-	nk := append([]int32(nil), st.nk...)
-	wt := make(map[[2]int32]int32)
-	for w, l := range st.wt {
-		for _, e := range l {
-			wt[[2]int32{int32(w), e.k}] = e.n
+	for _, W := range []int{12, 400} {
+		p, c := randomSetup(5, 10, W, 60, 20)
+		st, err := newState(p, c, Options{FreeTopics: 2, Seed: 1, Workers: 3})
+		if err != nil {
+			t.Fatal(err)
 		}
-	}
-	if err := st.rebuildCounts(); err != nil {
-		t.Fatal(err)
-	}
-	if !reflect.DeepEqual(nk, st.nk) {
-		t.Fatalf("n_k after merge %v, from z %v", nk, st.nk)
-	}
-	wt2 := make(map[[2]int32]int32)
-	for w, l := range st.wt {
-		for _, e := range l {
-			wt2[[2]int32{int32(w), e.k}] = e.n
+		if len(st.workers) != 3 {
+			t.Fatalf("workers = %d", len(st.workers))
 		}
-	}
-	if !reflect.DeepEqual(wt, wt2) {
-		t.Fatal("n_kw after merge differ from counts recomputed from z")
-	}
-	for _, wk := range st.workers {
-		if !reflect.DeepEqual(wk.nk, st.nk) {
-			t.Fatal("a worker's copy of n_k differs from the shared counts")
+		st.initAssign()
+		for i := 0; i < 5; i++ {
+			st.sweepOnce()
+		}
+		for w, l := range st.wt {
+			for i := 1; i < len(l); i++ {
+				if !before(l[i-1], l[i]) {
+					t.Fatalf("W=%d: word %d: merged list %v out of order", W, w, l)
+				}
+			}
+			for _, wk := range st.workers {
+				if !slices.Equal(wk.wt[w], l) {
+					t.Fatalf("W=%d: word %d: a worker's list %v, shared %v", W, w, wk.wt[w], l)
+				}
+			}
+		}
+		nk := append([]int32(nil), st.nk...)
+		wt := make(map[[2]int32]int32)
+		for w, l := range st.wt {
+			for _, e := range l {
+				wt[[2]int32{int32(w), e.k}] = e.n
+			}
+		}
+		if err := st.rebuildCounts(); err != nil {
+			t.Fatal(err)
+		}
+		if !reflect.DeepEqual(nk, st.nk) {
+			t.Fatalf("W=%d: n_k after merge %v, from z %v", W, nk, st.nk)
+		}
+		wt2 := make(map[[2]int32]int32)
+		for w, l := range st.wt {
+			for _, e := range l {
+				wt2[[2]int32{int32(w), e.k}] = e.n
+			}
+		}
+		if !reflect.DeepEqual(wt, wt2) {
+			t.Fatalf("W=%d: n_kw after merge differ from counts recomputed from z", W)
+		}
+		for _, wk := range st.workers {
+			if !reflect.DeepEqual(wk.nk, st.nk) {
+				t.Fatalf("W=%d: a worker's copy of n_k differs from the shared counts", W)
+			}
 		}
 	}
 }
 
-// TestReproducible: one worker and a seed give the same model bit for bit;
-// another seed gives another model.
+// TestReproducible: one worker and a seed give the same model bit for bit,
+// and so do two or three workers (AD-LDA with fixed shards); another seed
+// gives another model.
 func TestReproducible(t *testing.T) {
 	p, c := randomSetup(9, 12, 30, 80, 30)
-	fitOnce := func(seed int64) *Result {
-		res, err := RunContext(t.Context(), p, c, Options{FreeTopics: 3, Sweeps: 30, BurnIn: 5, OptimizeEvery: 5, Seed: seed, Workers: 1, HoldoutFraction: 0.1, HoldoutParticles: 3})
-		if err != nil {
-			t.Fatal(err)
+	for _, workers := range []int{1, 2, 3} {
+		fitOnce := func(seed int64) *Result {
+			res, err := RunContext(t.Context(), p, c, Options{FreeTopics: 3, Sweeps: 30, BurnIn: 5, OptimizeEvery: 5, Seed: seed, Workers: workers, HoldoutFraction: 0.1, HoldoutParticles: 3})
+			if err != nil {
+				t.Fatal(err)
+			}
+			return res
 		}
-		return res
-	}
-	a, b, other := fitOnce(11), fitOnce(11), fitOnce(12)
-	if !reflect.DeepEqual(a.Model.Counts, b.Model.Counts) || !reflect.DeepEqual(a.Model.Alpha, b.Model.Alpha) || a.HeldOutLLPerWord != b.HeldOutLLPerWord {
-		t.Fatal("same seed, one worker: models differ")
-	}
-	if reflect.DeepEqual(a.Model.Counts, other.Model.Counts) {
-		t.Fatal("different seeds gave identical models")
-	}
-	for k, a := range a.Model.Alpha {
-		if !(a > 0) {
-			t.Fatalf("α_%d = %v", k, a)
+		a, b, other := fitOnce(11), fitOnce(11), fitOnce(12)
+		if !reflect.DeepEqual(a.Model.Counts, b.Model.Counts) || !reflect.DeepEqual(a.Model.Alpha, b.Model.Alpha) || a.HeldOutLLPerWord != b.HeldOutLLPerWord {
+			t.Fatalf("same seed, %d workers: models differ", workers)
+		}
+		if reflect.DeepEqual(a.Model.Counts, other.Model.Counts) {
+			t.Fatalf("%d workers: different seeds gave identical models", workers)
+		}
+		for k, a := range a.Model.Alpha {
+			if !(a > 0) {
+				t.Fatalf("α_%d = %v", k, a)
+			}
 		}
 	}
 }

@@ -7,6 +7,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+	"time"
 
 	"termgrove/prior"
 )
@@ -58,11 +59,14 @@ type state struct {
 	llHist   []LogLikPoint
 
 	// MH sampler (mh.go): word occurrence index, and z at the last merge.
-	occStart []int64
-	occ      []int64
-	zSnap    []int32
-	mscratch []mergeScratch // per merge partition (sampler.go)
-	secs     float64        // sampling seconds of earlier runs (from a checkpoint)
+	occStart  []int64
+	occ       []int64
+	zSnap     []int32
+	mscratch  []mergeScratch  // per merge partition (sampler.go)
+	wparts    []int           // word range of each merge partition
+	phaseEnds []time.Duration // scratch of the phase timers
+	secs      float64         // sampling seconds of earlier runs (from a checkpoint)
+	phase     Phases          // multi-worker phase timers (sampler.go)
 }
 
 // rng is a PCG generator (math/rand/v2) with a cheap Float64. Each worker
@@ -319,6 +323,7 @@ func (st *state) makeWorkers() {
 		start = end
 	}
 	st.workers = make([]*worker, nw)
+	st.phase = Phases{Sample: make([]float64, nw)}
 	st.rngs = make([]*rng, nw)
 	for w := range st.workers {
 		st.rngs[w] = newRNG(st.opt.Seed, uint64(w))
@@ -326,6 +331,9 @@ func (st *state) makeWorkers() {
 		// Spare capacity keeps the slice headers, written for every
 		// changed token, off the cache lines of other workers' data.
 		st.workers[w].changes = make([][]change, nw, nw+8)
+		if nw > 1 && !st.opt.useMH(st.K) {
+			st.workers[w].dirty = make([]bool, st.W)
+		}
 	}
 }
 

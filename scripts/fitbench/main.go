@@ -49,7 +49,7 @@ func main() {
 	compare := flag.String("compare", "", "with PREFIX of -export and fitbench_gensim.py: score gensim's model and time termgrove to the same held-out figure")
 	compl := flag.String("completion", "", "with -records: document-completion perplexity of this MODEL.grove vs a unigram model")
 	compRecs := flag.String("records", "", "test records (JSON Lines) for -completion")
-	stats := flag.Bool("stats", false, "after each fit, print the mean word-list length and record topic count per token")
+	stats := flag.Bool("stats", false, "after each fit, print the mean word-list length and record topic count per token, and with several workers the wall time per sweep of each worker's sampling, of the wait at the barrier and of the merge")
 	samplers := flag.String("sampler", "", "samplers to fit with, comma-separated (sparse, mh, auto); when set, each row also gives the sampler and the training log-likelihood per token after the warm-up and timed sweeps")
 	flag.Parse()
 	if *compl != "" {
@@ -131,6 +131,7 @@ func run(c *fit.Corpus, K, workers, warm, sweeps int, concepts bool, sampler str
 	for i := 0; i < warm; i++ {
 		b.Sweep()
 	}
+	b.Phases()
 	start := time.Now()
 	cpu0 := cpuSeconds()
 	for i := 0; i < sweeps; i++ {
@@ -144,6 +145,15 @@ func run(c *fit.Corpus, K, workers, warm, sweeps int, concepts bool, sampler str
 	} else {
 		ll := b.LogLik() / float64(c.Tokens())
 		fmt.Printf("%-8d %-8s %-8d %-8.1f %-14.0f %-14.0f %-12.1f %-10s %-12.4f\n", K, sampler, workers, initS, n/sec, n/cpu, 1e9*cpu/n, peakRSS(), ll)
+	}
+	if stats && workers > 1 {
+		ph := b.Phases()
+		fmt.Printf("  K=%d workers=%d per sweep: sample", K, workers)
+		for _, s := range ph.Sample {
+			fmt.Printf(" %.1f", 1e3*s/float64(ph.Sweeps))
+		}
+		fmt.Printf(" ms, barrier wait %.1f ms (all workers), merge %.1f ms\n",
+			1e3*ph.Wait/float64(ph.Sweeps), 1e3*ph.Merge/float64(ph.Sweeps))
 	}
 	if stats {
 		l, d := b.ListStats()
