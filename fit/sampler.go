@@ -51,9 +51,7 @@ type worker struct {
 	dirty   []bool     // W, sparse sampler: the word's list changed since the merge
 
 	mh *mhState // tables of the MH sampler (mh.go); nil until used
-
-	labScratch []int32 // initDoc: topics of a record's labelled tokens
-	_          [64]byte
+	_  [64]byte
 }
 
 func newWorker(st *state, r *rng, local bool) *worker {
@@ -98,7 +96,7 @@ func (wk *worker) syncFromGlobal(part, parts int) {
 		copy(wk.nk, st.nk)
 	}
 	for w := part; w < st.W; w += parts {
-		wk.wt[w] = append(wk.wt[w][:0], st.wt[w]...)
+		setList(&wk.wt[w], st.wt[w])
 	}
 }
 
@@ -715,10 +713,10 @@ func (st *state) mergePart(p int, ms *mergeScratch) {
 			continue
 		case 1:
 			l := st.workers[by].wt[w]
-			st.wt[w] = append(st.wt[w][:0], l...)
+			setList(&st.wt[w], l)
 			for i, wk := range st.workers {
 				if i != by {
-					wk.wt[w] = append(wk.wt[w][:0], l...)
+					setList(&wk.wt[w], l)
 				}
 			}
 		default:
@@ -764,9 +762,9 @@ func (st *state) mergeWord(w int32, ms *mergeScratch) {
 	}
 	sortList(buf)
 	ms.ks, ms.buf = ks, buf
-	st.wt[w] = append(st.wt[w][:0], buf...)
+	setList(&st.wt[w], buf)
 	for _, wk := range st.workers {
-		wk.wt[w] = append(wk.wt[w][:0], buf...)
+		setList(&wk.wt[w], buf)
 	}
 }
 
@@ -792,4 +790,18 @@ func sortList(l []tc) {
 		}
 		l[j] = e
 	}
+}
+
+// setList copies a word list into *l. A new backing array holds a multiple
+// of eight entries: 64-byte multiples, which the allocator lays on cache
+// lines of their own, so that the copies of one word's list the merge
+// allocates side by side for every worker share no line (each worker
+// writes its own for every changed token).
+func setList(l *[]tc, src []tc) {
+	if cap(*l) < len(src) {
+		*l = make([]tc, len(src), (len(src)+8)&^7)
+	} else {
+		*l = (*l)[:len(src)]
+	}
+	copy(*l, src)
 }
