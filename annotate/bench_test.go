@@ -228,6 +228,90 @@ func BenchmarkAnnotateFile(b *testing.B) {
 	}
 }
 
+// TestAnnotateLoop annotates BenchmarkAnnotateFile's 500 texts of 150
+// tokens TG_ANN_LOOP times (0: set up only) in mode TG_ANN_MODE
+// (concepts, topics or full; see BenchmarkAnnotateFile) and logs the
+// thread CPU time per record. Skipped unless TG_ANN_LOOP is set. Its use
+// is counting instructions, which the machine's load does not move: under
+// cachegrind the difference between TG_ANN_LOOP=1 and 0, over 500, is the
+// instructions per record.
+//
+//	for n in 0 1; do GOGC=off TG_ANN_LOOP=$n TG_ANN_MODE=concepts \
+//	    TG_ANN_MODEL=.cache/annbench/debtags.grove TG_ANN_RECORDS=.cache/debtags/test.jsonl \
+//	    valgrind --tool=cachegrind --cache-sim=no ./annotate.test -test.run AnnotateLoop; done
+func TestAnnotateLoop(t *testing.T) {
+	v := os.Getenv("TG_ANN_LOOP")
+	if v == "" {
+		t.Skip("set TG_ANN_LOOP, TG_ANN_MODEL and TG_ANN_RECORDS")
+	}
+	passes := 0
+	if _, err := fmt.Sscan(v, &passes); err != nil || passes < 0 {
+		t.Fatalf("TG_ANN_LOOP %q: want a count", v)
+	}
+	mp, rp := os.Getenv("TG_ANN_MODEL"), os.Getenv("TG_ANN_RECORDS")
+	if !filepath.IsAbs(mp) {
+		mp = filepath.Join("..", mp)
+	}
+	if !filepath.IsAbs(rp) {
+		rp = filepath.Join("..", rp)
+	}
+	m, err := model.Load(mp)
+	if err != nil {
+		t.Fatal(err)
+	}
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var texts []string
+	var cur strings.Builder
+	records.Read(rp, records.Options{}, func(r records.Record) error {
+		if len(texts) >= 500 {
+			return nil
+		}
+		cur.WriteString(r.Join(nil))
+		cur.WriteString("\n\n")
+		toks, _ := a.an.Analyze(cur.String(), nil, false)
+		if len(toks) >= 150 {
+			texts = append(texts, cur.String()[:toks[149].End])
+			cur.Reset()
+		}
+		return nil
+	})
+	if len(texts) == 0 {
+		t.Fatal("no texts")
+	}
+	toks := make([][]terms.Token, len(texts))
+	for i, x := range texts {
+		toks[i], _ = a.an.Analyze(x, nil, false)
+	}
+	mode := os.Getenv("TG_ANN_MODE")
+	if mode == "" {
+		mode = "concepts"
+	}
+	runtime.LockOSThread()
+	defer runtime.UnlockOSThread()
+	t0 := threadCPU()
+	for p := 0; p < passes; p++ {
+		for i := range texts {
+			switch mode {
+			case "full":
+				_, err = a.Annotate("r", texts[i], Options{IncludeWords: true})
+			case "topics":
+				_, err = a.AnnotateTokens("r", texts[i], toks[i], Options{})
+			default:
+				_, err = a.AnnotateTokens("r", texts[i], toks[i], Options{ConceptsOnly: true})
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+		}
+	}
+	if passes > 0 {
+		t.Logf("%s: %v thread CPU per record", mode, (threadCPU()-t0)/time.Duration(passes*len(texts)))
+	}
+}
+
 // BenchmarkAnnotateVocab measures a model over a real vocabulary with
 // synthetic counts (modeltest.FromPrior): TG_ANN_VOCAB names the SKOS file
 // (e.g. the 117k-concept WordNet one); the model is built once and kept
