@@ -648,7 +648,9 @@ type state struct {
 
 	// Word layer scratch (wordlayer.go): the record's vector and the
 	// concepts' decision values.
+	wSeq []int32 // the record's known words in text order
 	wIdx []int32
+	wCnt []int32
 	wVal []float32
 	wd   []float64
 }

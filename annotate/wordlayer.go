@@ -37,7 +37,12 @@ import (
 // the raw score (share plus related boost).
 func (a *Annotator) wordScores(st *state, score func(int32) float64) ([]int32, func(int32) float64) {
 	l, cal := a.m.WordLayer, a.m.Calibration
-	st.wIdx, st.wVal = model.WordVector(st.uw, st.ucnt, l.IDF, st.wIdx, st.wVal)
+	st.wSeq = st.wSeq[:0]
+	for _, u := range st.tu {
+		st.wSeq = append(st.wSeq, st.uw[u])
+	}
+	st.wIdx, st.wCnt = model.Features(st.wSeq, len(a.m.Words), l.Bigrams, st.wIdx, st.wCnt)
+	st.wIdx, st.wVal = model.WordVector(st.wIdx, st.wCnt, l.IDF, st.wIdx, st.wVal)
 	if len(st.wd) < a.C {
 		st.wd = make([]float64, a.C)
 	}
@@ -126,9 +131,8 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 		go func() {
 			defer wg.Done()
 			var toks []terms.Token
-			var ids, cnt, idx []int32
+			var seq, ids, cnt []int32
 			var val []float32
-			seen := map[int32]int{}
 			for i := range next {
 				t := &texts[i]
 				errs[i] = a.rawScores(t, opt.CalibrateOptions, x[i*C:(i+1)*C], y[i*C:(i+1)*C], &use[i])
@@ -136,22 +140,15 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 					continue
 				}
 				toks = a.analyze(t.Text, t.Language, toks[:0])
-				ids, cnt = ids[:0], cnt[:0]
-				clear(seen)
-				for _, tk := range toks {
-					if tk.ID < 0 || int(tk.ID) >= len(m.Words) {
-						continue
+				seq = seq[:0]
+				for _, tk := range toks { // as infer: unknown words left out
+					if tk.ID >= 0 && int(tk.ID) < len(m.Words) {
+						seq = append(seq, tk.ID)
 					}
-					if j, ok := seen[tk.ID]; ok {
-						cnt[j]++
-						continue
-					}
-					seen[tk.ID] = len(ids)
-					ids = append(ids, tk.ID)
-					cnt = append(cnt, 1)
 				}
-				idx, val = model.WordVector(ids, cnt, held.IDF, idx, val)
-				held.Decision(idx, val, d[i*C:(i+1)*C])
+				ids, cnt = model.Features(seq, len(m.Words), held.Bigrams, ids, cnt)
+				ids, val = model.WordVector(ids, cnt, held.IDF, ids, val)
+				held.Decision(ids, val, d[i*C:(i+1)*C])
 			}
 		}()
 	}

@@ -25,6 +25,9 @@ type WordLayerOptions struct {
 	// combination is tuned on.
 	Skip func(i int) bool
 	Seed uint64
+	// Bigrams is the number of buckets pairs of consecutive words are
+	// hashed into (0: words only; bench/quality.md measured 2^18).
+	Bigrams int
 	// Words is the model's word count when it has more words than the
 	// corpus (label terms no record uses); they get no weights.
 	Words int
@@ -61,6 +64,9 @@ func TrainWordLayer(c *Corpus, C int, opt WordLayerOptions) (*model.WordLayer, e
 	if opt.Prune < 0 {
 		opt.Prune = 0
 	}
+	if opt.Bigrams < 0 {
+		opt.Bigrams = 0
+	}
 	var docs []int
 	for i := range c.Docs {
 		if len(c.Docs[i].Subjects) > 0 && len(c.Docs[i].Words) > 0 && (opt.Skip == nil || !opt.Skip(i)) {
@@ -70,29 +76,22 @@ func TrainWordLayer(c *Corpus, C int, opt WordLayerOptions) (*model.WordLayer, e
 	if len(docs) == 0 {
 		return nil, ErrNoIndexed
 	}
-	// Distinct words and counts per record.
+	// Distinct features and counts per record.
 	ids := make([][]int32, len(docs))
 	cnts := make([][]int32, len(docs))
-	W := max(c.W, opt.Words)
+	words := max(c.W, opt.Words)
+	W := words + opt.Bigrams
 	df := make([]int, W)
-	var buf []int32
 	for n, i := range docs {
-		buf = append(buf[:0], c.Docs[i].Words...)
-		slices.Sort(buf)
-		for j := 0; j < len(buf); {
-			e := j
-			for e < len(buf) && buf[e] == buf[j] {
-				e++
-			}
-			ids[n] = append(ids[n], buf[j])
-			cnts[n] = append(cnts[n], int32(e-j))
-			df[buf[j]]++
-			j = e
+		ids[n], cnts[n] = model.Features(c.Docs[i].Words, words, opt.Bigrams, nil, nil)
+		for _, f := range ids[n] {
+			df[f]++
 		}
 	}
 	N := float64(len(docs))
 	l := &model.WordLayer{
 		Version: model.WordLayerVersion,
+		Bigrams: opt.Bigrams,
 		IDF:     make([]float32, W),
 		Bias:    make([]float32, C),
 		LnFreq:  make([]float32, C),

@@ -22,7 +22,10 @@
 //	offset 24 [32]byte      SHA-256 of the payload
 //
 // The payload is a gob blob (analyzer options, provenance, the scheme's
-// title and collections) followed by hand-packed flat arrays (uvarints,
+// title and collections, and the optional sections: related concepts, the
+// score calibration, the discriminative word layer with its own
+// WordLayerVersion; a file without a section, as every file written before
+// it was added, loads with none) followed by hand-packed flat arrays (uvarints,
 // delta-coded sorted word ids, little-endian float64): words, concepts, α,
 // β0, λ, prior rows, count rows, totals, record counts. Save writes to a
 // temporary file in the same folder, syncs it and renames it over the target,
@@ -157,8 +160,10 @@ const WordLayerVersion = 1
 // WordLayer is a per-concept linear model over a record's words (a
 // one-vs-rest linear SVM, linear.OneVsRest, trained on the records people
 // indexed) and how annotation combines it with the topic model. A record's
-// vector is x_w = (1 + ln tf_w)·IDF[w], scaled to unit length (words with
-// IDF 0 left out); concept k's decision value is
+// features (Features) are its word ids and, with Bigrams > 0, its pairs of
+// consecutive words hashed into Bigrams buckets numbered from W; its
+// vector is x_w = (1 + ln tf_w)·IDF[w] over the features, scaled to unit
+// length (features with IDF 0 left out); concept k's decision value is
 //
 //	d_k = Bias[k] + Σ_w x_w·weight(w, k)
 //
@@ -173,8 +178,9 @@ const WordLayerVersion = 1
 // F1); both weights and the scale are learned on records people indexed.
 type WordLayer struct {
 	Version int
-	IDF     []float32 // W: ln((1 + N)/(1 + df_w)) + 1, 0 for words in fewer than MinDF records
-	Start   []int32   // W + 1
+	Bigrams int       // bigram buckets (0: words only)
+	IDF     []float32 // W + Bigrams: ln((1 + N)/(1 + df_w)) + 1, 0 for features in fewer than MinDF records
+	Start   []int32   // W + Bigrams + 1
 	Concept []int32   // weights' concepts, ascending within a word
 	Weight  []float32
 	Bias    []float32 // C
@@ -996,11 +1002,15 @@ func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 
 // validate checks a word layer's shape against C concepts and W words.
 func (l *WordLayer) validate(C, W int) error {
+	if l.Bigrams < 0 || l.Bigrams > 1<<26 {
+		return fmt.Errorf("%d bigram buckets", l.Bigrams)
+	}
+	W += l.Bigrams
 	switch {
 	case l.Version != WordLayerVersion:
 		return fmt.Errorf("%w: word layer version %d, this build reads %d", ErrVersion, l.Version, WordLayerVersion)
 	case len(l.IDF) != W || len(l.Start) != W+1:
-		return fmt.Errorf("%d IDF values and %d word starts for %d words", len(l.IDF), len(l.Start), W)
+		return fmt.Errorf("%d IDF values and %d feature starts for %d features", len(l.IDF), len(l.Start), W)
 	case len(l.Bias) != C || len(l.LnFreq) != C:
 		return fmt.Errorf("%d biases and %d frequencies for %d concepts", len(l.Bias), len(l.LnFreq), C)
 	case len(l.Concept) != len(l.Weight) || l.Start[0] != 0 || int(l.Start[W]) != len(l.Weight):
@@ -1066,4 +1076,32 @@ func (l *WordLayer) Decision(idx []int32, val []float32, dst []float64) {
 			dst[l.Concept[j]] += x * float64(l.Weight[j])
 		}
 	}
+}
+
+// Features writes the distinct features of a record's word sequence seq
+// (word ids below W, in text order) and their counts into ids and cnt
+// (reused, returned resliced, ids ascending): the word ids and, with
+// bigrams > 0 buckets, each pair of consecutive words as W plus its bucket.
+func Features(seq []int32, W, bigrams int, ids, cnt []int32) ([]int32, []int32) {
+	ids, cnt = ids[:0], cnt[:0]
+	ids = append(ids, seq...)
+	if bigrams > 0 {
+		for i := 1; i < len(seq); i++ {
+			h := (uint64(uint32(seq[i-1]))<<32 | uint64(uint32(seq[i]))) * 0x9E3779B97F4A7C15
+			ids = append(ids, int32(W+int((h>>32)%uint64(bigrams))))
+		}
+	}
+	slices.Sort(ids)
+	n := 0
+	for i := 0; i < len(ids); {
+		j := i
+		for j < len(ids) && ids[j] == ids[i] {
+			j++
+		}
+		ids[n] = ids[i]
+		cnt = append(cnt, int32(j-i))
+		n++
+		i = j
+	}
+	return ids[:n], cnt
 }

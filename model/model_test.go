@@ -444,3 +444,23 @@ func TestWordLayerRoundTrip(t *testing.T) {
 		t.Error("word layer without calibration saved")
 	}
 }
+
+// TestFeatures: a record's features are its words and its hashed pairs of
+// consecutive words, each once with its count. Common practice, no source.
+func TestFeatures(t *testing.T) {
+	ids, cnt := model.Features([]int32{5, 6, 5, 6}, 10, 0, nil, nil)
+	if !reflect.DeepEqual(ids, []int32{5, 6}) || !reflect.DeepEqual(cnt, []int32{2, 2}) {
+		t.Errorf("words only: %v %v", ids, cnt)
+	}
+	ids, cnt = model.Features([]int32{5, 6, 5, 6}, 10, 1000, ids, cnt)
+	// Pairs (5,6) twice and (6,5) once, in buckets 10..1009.
+	if len(ids) != 4 || ids[0] != 5 || ids[1] != 6 || ids[2] < 10 || ids[3] >= 1010 || ids[2] == ids[3] {
+		t.Fatalf("with pairs: %v %v", ids, cnt)
+	}
+	if !(cnt[0] == 2 && cnt[1] == 2 && cnt[2]+cnt[3] == 3 && cnt[2]*cnt[3] == 2) {
+		t.Errorf("counts %v, want 2, 2 and the pairs 2 and 1", cnt)
+	}
+	if ids, cnt := model.Features(nil, 10, 1000, nil, nil); len(ids) != 0 || len(cnt) != 0 {
+		t.Errorf("empty record: %v %v", ids, cnt)
+	}
+}

@@ -525,12 +525,13 @@ func (c *calibSample) add(r records.Record, fields []string) {
 
 // trainWordLayer trains m's discriminative word layer on the records
 // people indexed and tunes its combination with the topic scores on the
-// calibration texts, scored by a second layer trained without them
-// (unless they were held out of the fit, and so of both layers, already).
+// calibration texts, scored by a second layer trained without them (a layer
+// scores its own training records too well). With --holdout the texts are
+// held-out records, which the topic model never saw; the layer itself
+// learns from every indexed record.
 func trainWordLayer(m *model.Model, corpus *fit.Corpus, texts []annotate.LabeledText, f *fitFlags, logf, warnf func(string, ...any)) error {
 	start := time.Now()
-	heldOut := func(i int) bool { return f.holdout > 0 && fit.HeldOut(corpus.Docs[i].ID, f.holdout) }
-	opt := fit.WordLayerOptions{Workers: f.workers, Words: len(m.Words), Seed: uint64(f.seed), Skip: heldOut}
+	opt := fit.WordLayerOptions{Workers: f.workers, Words: len(m.Words), Seed: uint64(f.seed)}
 	full, err := fit.TrainWordLayer(corpus, m.C, opt)
 	if errors.Is(err, fit.ErrNoIndexed) {
 		warnf("%v: no word layer", err)
@@ -539,16 +540,14 @@ func trainWordLayer(m *model.Model, corpus *fit.Corpus, texts []annotate.Labeled
 	if err != nil {
 		return err
 	}
-	held := full
-	if f.holdout == 0 {
-		tuning := make(map[string]bool, len(texts))
-		for _, t := range texts {
-			tuning[t.ID] = true
-		}
-		opt.Skip = func(i int) bool { return tuning[corpus.Docs[i].ID] }
-		if held, err = fit.TrainWordLayer(corpus, m.C, opt); err != nil {
-			return err
-		}
+	tuning := make(map[string]bool, len(texts))
+	for _, t := range texts {
+		tuning[t.ID] = true
+	}
+	opt.Skip = func(i int) bool { return tuning[corpus.Docs[i].ID] }
+	held, err := fit.TrainWordLayer(corpus, m.C, opt)
+	if err != nil {
+		return err
 	}
 	m.WordLayer = full
 	if err := annotate.TuneWordLayer(m, held, texts, annotate.TuneOptions{CalibrateOptions: annotate.CalibrateOptions{
