@@ -63,6 +63,7 @@ import (
 	"math"
 	"slices"
 	"sort"
+	"strconv"
 	"strings"
 	"sync"
 
@@ -635,16 +636,17 @@ type state struct {
 	pvGen  uint32
 	zs     []scored
 
-	uw    []int32   // word type u → word id
-	ucnt  []int32   // occurrences of u
-	cacc  []float64 // u → Σ A_w/Z
-	awu   []float64 // u → A_w
-	tu    []int32   // token → u
-	z     []int32   // token → topic
-	uOf   []int32   // W: word id → word type, -1 when not in the record
-	buf   []float64
-	cum   []float64 // draw's running sums of buf
-	allow bool      // restricted: no α·φ part
+	uw      []int32   // word type u → word id
+	ucnt    []int32   // occurrences of u
+	cacc    []float64 // u → Σ A_w/Z
+	awu     []float64 // u → A_w
+	tu      []int32   // token → u
+	z       []int32   // token → topic
+	uOf     []int32   // W: word id → word type, -1 when not in the record
+	buf     []float64
+	cum     []float64 // draw's running sums of buf
+	seedBuf []byte    // the bytes the record's seed hashes
+	allow   bool      // restricted: no α·φ part
 
 	// Word layer scratch (wordlayer.go): the record's vector and the
 	// concepts' decision values.
@@ -1016,24 +1018,30 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 		return res, nil
 	}
 
-	// Seed: model checksum, text, and the options that change sampling.
-	h := sha256.New()
-	h.Write(a.seed[:])
-	var nb [8]byte
-	binary.LittleEndian.PutUint64(nb[:], uint64(len(text)))
-	h.Write(nb[:])
-	h.Write([]byte(text))
-	fmt.Fprintf(h, "\x00%d\x00%v\x00%d\x00%d", opt.SubjectMode, opt.BoostFactor, opt.BurnIn, opt.Samples)
+	// Seed: model checksum, text, and the options that change sampling,
+	// gathered in a buffer the state keeps (the bytes fmt.Fprintf of
+	// "\x00%d\x00%v\x00%d\x00%d" wrote before, without its allocations).
+	b := append(st.seedBuf[:0], a.seed[:]...)
+	b = binary.LittleEndian.AppendUint64(b, uint64(len(text)))
+	b = append(b, text...)
+	b = append(b, 0)
+	b = strconv.AppendInt(b, int64(opt.SubjectMode), 10)
+	b = append(b, 0)
+	b = strconv.AppendFloat(b, opt.BoostFactor, 'g', -1, 64)
+	b = append(b, 0)
+	b = strconv.AppendInt(b, int64(opt.BurnIn), 10)
+	b = append(b, 0)
+	b = strconv.AppendInt(b, int64(opt.Samples), 10)
 	for _, k := range subj {
-		binary.LittleEndian.PutUint32(nb[:], uint32(k))
-		h.Write(nb[:4])
+		b = binary.LittleEndian.AppendUint32(b, uint32(k))
 	}
 	if seedSalt != 0 {
-		binary.LittleEndian.PutUint64(nb[:], seedSalt)
-		h.Write(nb[:])
+		b = binary.LittleEndian.AppendUint64(b, seedSalt)
 	}
-	var seed [32]byte
-	h.Sum(seed[:0])
+	seed := sha256.Sum256(b)
+	if cap(b) <= 1<<16 {
+		st.seedBuf = b
+	}
 	rng := &splitMix{binary.LittleEndian.Uint64(seed[:8])}
 
 	burn, samples := opt.BurnIn, opt.Samples
@@ -1487,6 +1495,9 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 		}
 	}
 
+	if len(shown) > 0 {
+		res.Concepts = make([]Concept, 0, len(shown))
+	}
 	if opt.ConceptsOnly {
 		for _, k := range shown {
 			res.Concepts = append(res.Concepts, Concept{IRI: a.m.Scheme.Concepts[k].IRI, Label: a.labels[k], Score: score(k)})
