@@ -41,7 +41,9 @@
 //
 // Several workers share documents and merge word–topic count deltas after
 // each sweep (AD-LDA, Newman, Asuncion, Smyth & Welling 2009). With one
-// worker and a seed, a fit is reproducible bit for bit.
+// worker and a seed, a fit is reproducible bit for bit, and so it is with a
+// fixed number of workers (the shards and the merge do not depend on
+// timing).
 //
 //	c := &fit.Corpus{W: 4, Docs: []fit.Doc{{ID: "r1", Words: []int32{0, 1, 1, 3}}}}
 //	m, err := fit.Run(p, c, fit.Options{FreeTopics: 20, Sweeps: 200, Seed: 1})

@@ -72,7 +72,7 @@ func cmdFit(args []string) int {
 	fl.IntVar(&f.sweeps, "sweeps", 200, "Gibbs sweeps over all records")
 	fl.StringVar(&f.sampler, "sampler", "sparse", "`sparse` (exact Gibbs), mh (alias/Metropolis–Hastings for unrestricted records; slower here, see bench/fit-mh.md) or auto (sparse at every K measured)")
 	fl.IntVar(&f.burnIn, "burn-in", 0, "sweeps before α is learned (0 = a quarter of --sweeps)")
-	fl.Int64Var(&f.seed, "seed", 1, "random seed (one worker + the same seed = the same model)")
+	fl.Int64Var(&f.seed, "seed", 1, "random seed (the same seed and number of workers = the same model)")
 	fl.IntVar(&f.workers, "workers", runtime.NumCPU(), "sampling threads")
 	fl.Float64Var(&f.lambda, "lambda", 0, "prior strength λ in pseudo-counts per concept (0 = half the mean tokens per concept, at least 50)")
 	fl.Float64Var(&f.holdout, "holdout", 0, "share of records kept out and scored (left-to-right estimator)")
