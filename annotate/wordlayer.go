@@ -53,22 +53,22 @@ func (a *Annotator) wordScores(st *state, score func(int32) float64) ([]int32, f
 		cand = append(cand, int32(k))
 	}
 	st.cand = cand
-	pv := make([]float64, a.C)
+	// Every concept is ranked, so each is mapped once, up front, into
+	// calibrated's scratch (its stamps are not needed here).
+	if len(st.pv) != a.C {
+		st.pv, st.pvMark = make([]float64, a.C), make([]uint32, a.C)
+	}
+	pv := st.pv
 	for k := range pv {
-		pv[k] = -1
-	}
-	return cand, func(k int32) float64 {
-		if pv[k] < 0 {
-			s := score(k)
-			if !(s > 0) {
-				s = math.SmallestNonzeroFloat64
-			}
-			z := cal.A[k]*math.Log(s) + cal.B[k]
-			v := d[k] + l.TopicWeight*z - l.FreqWeight*float64(l.LnFreq[k])
-			pv[k] = 1 / (1 + math.Exp(-(l.ScaleA*v + l.ScaleB)))
+		s := score(int32(k))
+		if !(s > 0) {
+			s = math.SmallestNonzeroFloat64
 		}
-		return pv[k]
+		z := cal.A[k]*math.Log(s) + cal.B[k]
+		v := d[k] + l.TopicWeight*z - l.FreqWeight*float64(l.LnFreq[k])
+		pv[k] = 1 / (1 + math.Exp(-(l.ScaleA*v + l.ScaleB)))
 	}
+	return cand, func(k int32) float64 { return pv[k] }
 }
 
 // TuneOptions tune TuneWordLayer; zero values mean the defaults.
