@@ -51,7 +51,17 @@ type worker struct {
 	dirty   []bool     // W, sparse sampler: the word's list changed since the merge
 
 	mh *mhState // tables of the MH sampler (mh.go); nil until used
-	_  [64]byte
+
+	// Flat path (flat.go), chosen per sweep by flatPrepare.
+	flat      bool       // word bucket split: record topics exact, the rest by rejection
+	smoothRej bool       // smoothing bucket by rejection; Fenwick trees not kept
+	cmax      float64    // max_k α_k/B_k: the word envelope's rate
+	dbits     []uint64   // K bits: the record's topics (kept with flat only)
+	match     []int32    // list indices of the word's entries the record holds
+	mbuf      []float64  // their terms n_dk·n_kw/(n_k+B_k)
+	aliasC    aliasTable // smoothing proposals over the concepts
+	aliasF    aliasTable // and over the free topics
+	_         [64]byte
 }
 
 func newWorker(st *state, r *rng, local bool) *worker {
@@ -115,6 +125,10 @@ func (wk *worker) refresh() {
 			wk.sCon += t
 		}
 	}
+	wk.flatPrepare()
+	if wk.smoothRej {
+		return
+	}
 	smooth := func(k int) float64 { return st.alpha[k] * st.beta0 * wk.invD[k] }
 	wk.fenC.build(smooth)
 	wk.fenF.build(func(i int) float64 { return smooth(st.C + i) })
@@ -133,6 +147,9 @@ func (wk *worker) begin(d *sdoc, assigned bool) {
 			if wk.ndk[k] == 0 {
 				wk.dpos[k] = int32(len(wk.dtopics))
 				wk.dtopics = append(wk.dtopics, k)
+				if wk.flat {
+					wk.dbitSet(k)
+				}
 			}
 			wk.ndk[k]++
 		}
@@ -158,6 +175,9 @@ func (wk *worker) end() {
 	for _, k := range wk.dtopics {
 		wk.ndk[k] = 0
 		wk.coef[k] = st.alpha[k] * wk.invD[k]
+		if wk.flat {
+			wk.dbitClear(k)
+		}
 	}
 	wk.dtopics = wk.dtopics[:0]
 	if wk.restricted {
@@ -195,6 +215,9 @@ func (wk *worker) doc(d *sdoc, first bool) {
 			if prior {
 				prefetch(unsafe.Pointer(&st.pStart[w2]))
 			}
+			if wk.flat {
+				prefetch(unsafe.Pointer(&st.occStart[w2]))
+			}
 		}
 		if first {
 			k := wk.draw(w, -1)
@@ -207,7 +230,12 @@ func (wk *worker) doc(d *sdoc, first bool) {
 		// list is searched once, and not changed at all when the token keeps
 		// its topic.
 		wk.unassign(w, old)
-		k := wk.draw(w, old)
+		var k int32
+		if wk.flat && wk.flatUse(w) {
+			k = wk.drawFlat(w, old, i)
+		} else {
+			k = wk.draw(w, old)
+		}
 		wk.reassign(w, old, k)
 		st.z[i] = k
 		if wk.local && k != old {
@@ -232,10 +260,14 @@ func (wk *worker) update(k int32, ndBefore int32) {
 	ds := a * st.beta0 * (inv - invOld)
 	if int(k) >= st.C {
 		wk.sFree += ds
-		wk.fenF.add(int(k)-st.C, ds)
+		if !wk.smoothRej {
+			wk.fenF.add(int(k)-st.C, ds)
+		}
 	} else {
 		wk.sCon += ds
-		wk.fenC.add(int(k), ds)
+		if !wk.smoothRej {
+			wk.fenC.add(int(k), ds)
+		}
 		if wk.restricted {
 			wk.sSubj += ds
 		}
@@ -263,6 +295,9 @@ func (wk *worker) unassign(w, k int32) {
 		wk.dtopics[p] = last
 		wk.dpos[last] = p
 		wk.dtopics = wk.dtopics[:len(wk.dtopics)-1]
+		if wk.flat {
+			wk.dbitClear(k)
+		}
 	}
 	wk.update(k, nd)
 }
@@ -296,6 +331,9 @@ func (wk *worker) assign(k int32) {
 	if nd == 0 {
 		wk.dpos[k] = int32(len(wk.dtopics))
 		wk.dtopics = append(wk.dtopics, k)
+		if wk.flat {
+			wk.dbitSet(k)
+		}
 	}
 	wk.ndk[k] = nd + 1
 	wk.nk[k]++
@@ -453,6 +491,9 @@ func (wk *worker) pickOther(w int32, u, qp, r float64) int32 {
 // drawSmoothing draws from α_k β0/(n_k+B_k) over the allowed topics: the
 // few subjects of a restricted record by a walk, the rest with the trees.
 func (wk *worker) drawSmoothing(u float64) int32 {
+	if wk.smoothRej {
+		return wk.drawSmoothingRej(u)
+	}
 	st := wk.st
 	b0 := st.beta0
 	if wk.restricted {

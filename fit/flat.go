@@ -1,0 +1,337 @@
+package fit
+
+// The flat per-token path: a draw whose cost does not grow with the length
+// of the word's topic list, for large K (issue 4).
+//
+// The sparse sampler's word bucket Σ_{k∈list(w)} (α_k+n_dk)·n_kw/(n_k+B_k)
+// walks w's whole list, and lists grow with K (on the fitbench corpus 4.9
+// entries per token at K = 100, 54 at K = 100,000) while a record keeps 8–17
+// topics. The flat path splits the conditional
+//
+//	p(k) ∝ (α_k+n_dk)(n_kw+β0+λπ_kw)/(n_k+B_k)
+//
+// into
+//
+//	doc     n_dk·(n_kw+β0)/(n_k+B_k)      over the record's topics: n_kw from
+//	                                      a per-word hash, O(K_d) look-ups
+//	prior   (α_k+n_dk)·λπ_kw/(n_k+B_k)    over w's prior concepts, as before
+//	smooth  α_k·β0/(n_k+B_k)              over all allowed topics, as before
+//	word    α_k·n_kw/(n_k+B_k)            over w's list: not walked, drawn by
+//	                                      rejection
+//
+// The word part is bounded by the envelope E_w = c·n_w with c = max_k α_k/B_k
+// (fixed within a sweep, α_k/(n_k+B_k) ≤ α_k/B_k ≤ c) and n_w the number of
+// w's training tokens: a proposal picks one of w's tokens uniformly (its
+// current topic k has chance n_kw/n_w, the token being resampled counts as
+// a rejection) and is accepted with α_k/((n_k+B_k)·c) (a topic the record
+// may not use is rejected). A draw picks a part in proportion to
+// doc + prior + smooth + E_w; a rejected proposal starts the whole draw
+// again, which is plain rejection sampling from the full mixture and so
+// exact. The acceptance is about B_k/(n_k+B_k): high at large K (topics hold
+// few tokens), low at small K, where the walk stays (see flatUse).
+//
+// The smoothing part at large K is drawn by rejection too (drawSmoothingRej):
+// propose k ∝ α_k·β0/B_k from an alias table built once per sweep, accept
+// with B_k/(n_k+B_k); the Fenwick trees are then neither kept nor read.
+//
+// The word proposal reads the current topic of another token of w (st.z),
+// and the hash holds the worker's n_kw: with several AD-LDA workers the
+// other shards' topics are not the worker's view, so the flat path is used
+// with one worker only (the per-core target of issue 4). Rejection smoothing
+// reads only the worker's own n_k and works with any number of workers.
+//
+// What a token draws depends only on the state (counts, z, α) and the
+// generator, never on whether a word's hash exists or on its layout, so a
+// fit resumed from a checkpoint draws what the uninterrupted fit draws.
+
+import "unsafe"
+
+// Auto choice of the flat path (refresh).
+const (
+	// flatMinK is the smallest K at which a sweep may use the flat path and
+	// rejection smoothing.
+	flatMinK = 2048
+	// flatMinAccept is the least mean acceptance (over the tokens) of the
+	// word proposal, and of the smoothing proposal, for its rejection path.
+	flatMinAccept = 0.3
+	// flatMinList: a token takes the flat path when its word's list is
+	// longer than this.
+	flatMinList = 8
+)
+
+// testFlat makes every sweep take the flat path (one worker) and rejection
+// smoothing, for every token: tests only.
+var testFlat bool
+
+// flatPrepare decides, at the start of a sweep, whether the sweep uses the
+// flat path and rejection smoothing, and builds what they need. The choice
+// depends on the state only.
+func (wk *worker) flatPrepare() {
+	st := wk.st
+	wk.flat, wk.smoothRej = false, false
+	force := testFlat
+	if st.opt.useMH(st.K) || (!force && st.K < flatMinK) {
+		return
+	}
+	// Smoothing: acceptance s / Σ_k α_k β0/B_k.
+	var env, cmax, accW, n float64
+	for k := 0; k < st.K; k++ {
+		g := st.alpha[k] / st.B[k]
+		env += g
+		cmax = max(cmax, g)
+	}
+	smooth := (wk.sCon + wk.sFree) / (env * st.beta0)
+	for k := 0; k < st.K; k++ {
+		nk := float64(wk.nk[k])
+		accW += nk * st.alpha[k] * wk.invD[k]
+		n += nk
+	}
+	if n > 0 {
+		accW /= n * cmax
+	}
+	wk.smoothRej = force || smooth >= flatMinAccept
+	wk.flat = (force || accW >= flatMinAccept) && len(st.workers) == 1 && !wk.local
+	if wk.smoothRej {
+		wk.buildSmoothAlias()
+	}
+	if !wk.flat {
+		return
+	}
+	wk.cmax = cmax
+	st.mhIndex()
+	if wk.dbits == nil {
+		wk.dbits = make([]uint64, (st.K+63)/64)
+		wk.mbuf = make([]float64, st.K)
+		wk.match = make([]int32, 0, st.K)
+	}
+}
+
+// dbitSet and dbitClear keep the record's topic bitset (flat path only).
+func (wk *worker) dbitSet(k int32) { wk.dbits[uint32(k)>>6] |= 1 << (uint32(k) & 63) }
+
+func (wk *worker) dbitClear(k int32) { wk.dbits[uint32(k)>>6] &^= 1 << (uint32(k) & 63) }
+
+// flatUse reports whether the token of word w takes the flat path.
+func (wk *worker) flatUse(w int32) bool {
+	return testFlat || len(wk.wt[w]) > flatMinList
+}
+
+// flatBuckets fills mbuf with the terms n_dk·n_kw/(n_k+B_k) of the entries
+// of w's list whose topic the record holds (their list indices in match),
+// pbuf with the prior terms, and returns the totals of the doc, prior and
+// smoothing parts and the word envelope. Topic old (−1: none) is the
+// token's own, unassigned from the counts but still in w's list; its index
+// is kept in oldPos. The walk over the list reads nothing but the list and
+// the record's topic bitset; the document's β0 part n_dk·β0/(n_k+B_k) is
+// the cached rsum.
+func (wk *worker) flatBuckets(w, old int32) (d, qp, s, env float64) {
+	st := wk.st
+	list := wk.wt[w]
+	m := wk.match[:len(list)]
+	c, op := scanList(list, wk.dbits, m, old)
+	if op >= 0 {
+		wk.oldPos = op
+	}
+	m = m[:c]
+	wk.match = m
+	mb := wk.mbuf[:len(m)]
+	for j, i := range m {
+		e := list[i]
+		n := e.n
+		if e.k == old {
+			n--
+		}
+		v := float64(wk.ndk[e.k]) * float64(n) * wk.invD[e.k]
+		mb[j] = v
+		d += v
+	}
+	if len(st.pTopic) > 0 {
+		qp = wk.priorBucket(w)
+	}
+	s = wk.smoothTotal()
+	env = wk.cmax * float64(st.occStart[w+1]-st.occStart[w])
+	return d, qp, s, env
+}
+
+// scanList stores in m the indices of the entries of list whose topic is
+// set in the bitset bs and returns their number, and the index of topic old
+// (−1: absent). m must be as long as list, bs must cover every topic.
+func scanList(list []tc, bs []uint64, m []int32, old int32) (c, op int) {
+	op = -1
+	_ = m[:len(list)]
+	mp := unsafe.Pointer(unsafe.SliceData(m))
+	bp := unsafe.Pointer(unsafe.SliceData(bs))
+	for i, e := range list {
+		if e.k == old {
+			op = i
+		}
+		*(*int32)(unsafe.Add(mp, 4*c)) = int32(i) // c ≤ i < len(m)
+		k := uint32(e.k)
+		c += int(*(*uint64)(unsafe.Add(bp, 8*(k>>6))) >> (k & 63) & 1)
+	}
+	return c, op
+}
+
+// drawFlat draws a topic for token i (word w, former topic old, unassigned
+// from the counts but still in w's list, −1: none) from the conditional.
+// Like draw it leaves the list index of old in oldPos and that of the drawn
+// topic, when known, in newPos.
+func (wk *worker) drawFlat(w, old int32, i int64) int32 {
+	st := wk.st
+	wk.newPos = -1
+	d, qp, s, env := wk.flatBuckets(w, old)
+	r := wk.rsum
+	tot := d + qp + r + s + env
+	lo := st.occStart[w]
+	nw := int(st.occStart[w+1] - lo)
+	g := wk.r
+	for {
+		u := g.Float64() * tot
+		if u < d {
+			last := -1
+			for j, v := range wk.mbuf[:len(wk.match)] {
+				if v > 0 {
+					last = j
+					u -= v
+					if u < 0 {
+						break
+					}
+				}
+			}
+			if last >= 0 {
+				wk.newPos = int(wk.match[last])
+				return wk.wt[w][wk.newPos].k
+			}
+			continue // no mass after all (rounding): draw again
+		}
+		u -= d
+		if u < qp+r+s {
+			return wk.pickOther(w, u, qp, r)
+		}
+		// Word part: a uniform token of w, its topic accepted with
+		// α_k/((n_k+B_k)·cmax).
+		pos := st.occ[lo+int64(g.IntN(nw))]
+		if pos == i {
+			continue
+		}
+		k := st.z[pos]
+		if wk.restricted && !wk.allowed[k] {
+			continue
+		}
+		if g.Float64()*wk.cmax < st.alpha[k]*wk.invD[k] {
+			return k
+		}
+	}
+}
+
+// aliasTable is a Walker/Vose alias table over n indices.
+type aliasTable struct {
+	tab          []aent
+	small, large []int32
+	scaled       []float64
+}
+
+// build fills the table for the weights w(0..n-1), whose total is sum > 0.
+func (a *aliasTable) build(n int, sum float64, w func(i int) float64) {
+	if cap(a.tab) < n {
+		a.tab = make([]aent, n)
+		a.scaled = make([]float64, n)
+	}
+	a.tab, a.scaled = a.tab[:n], a.scaled[:n]
+	small, large := a.small[:0], a.large[:0]
+	for i := 0; i < n; i++ {
+		v := w(i) * float64(n) / sum
+		a.scaled[i] = v
+		if v < 1 {
+			small = append(small, int32(i))
+		} else {
+			large = append(large, int32(i))
+		}
+	}
+	for len(small) > 0 && len(large) > 0 {
+		s := small[len(small)-1]
+		small = small[:len(small)-1]
+		l := large[len(large)-1]
+		a.tab[s] = aent{prob: a.scaled[s], k: s, alt: l}
+		a.scaled[l] -= 1 - a.scaled[s]
+		if a.scaled[l] < 1 {
+			large = large[:len(large)-1]
+			small = append(small, l)
+		}
+	}
+	for _, l := range large {
+		a.tab[l] = aent{prob: 1, k: l, alt: l}
+	}
+	for _, s := range small { // rounding leftovers
+		a.tab[s] = aent{prob: 1, k: s, alt: s}
+	}
+	a.small, a.large = small, large
+}
+
+// draw returns an index with chance proportional to its weight.
+func (a *aliasTable) draw(r *rng) int32 {
+	x := r.Float64() * float64(len(a.tab))
+	i := int(x)
+	if i >= len(a.tab) {
+		i = len(a.tab) - 1
+	}
+	e := &a.tab[i]
+	if x-float64(i) < e.prob {
+		return e.k
+	}
+	return e.alt
+}
+
+// buildSmoothAlias builds the smoothing proposals α_k·β0/B_k, over the
+// concepts and over the free topics.
+func (wk *worker) buildSmoothAlias() {
+	st := wk.st
+	g := func(k int) float64 { return st.alpha[k] * st.beta0 / st.B[k] }
+	if st.C > 0 {
+		sum := 0.0
+		for k := 0; k < st.C; k++ {
+			sum += g(k)
+		}
+		wk.aliasC.build(st.C, sum, g)
+	}
+	if st.F > 0 {
+		sum := 0.0
+		for k := st.C; k < st.K; k++ {
+			sum += g(k)
+		}
+		wk.aliasF.build(st.F, sum, func(i int) float64 { return g(st.C + i) })
+	}
+}
+
+// drawSmoothingRej is drawSmoothing by rejection: the part (subjects,
+// concepts or free topics) is chosen by u as there; within the concepts or
+// the free topics a topic is proposed ∝ α_k·β0/B_k and accepted with
+// B_k/(n_k+B_k).
+func (wk *worker) drawSmoothingRej(u float64) int32 {
+	st := wk.st
+	b0 := st.beta0
+	if wk.restricted {
+		for _, k := range wk.subj {
+			u -= st.alpha[k] * b0 * wk.invD[k]
+			if u < 0 {
+				return k
+			}
+		}
+		if st.F == 0 {
+			return wk.subj[len(wk.subj)-1]
+		}
+	} else if u < wk.sCon || st.F == 0 {
+		for {
+			k := wk.aliasC.draw(wk.r)
+			if wk.r.Float64() < st.B[k]*wk.invD[k] {
+				return k
+			}
+		}
+	}
+	for {
+		k := int32(st.C) + wk.aliasF.draw(wk.r)
+		if wk.r.Float64() < st.B[k]*wk.invD[k] {
+			return k
+		}
+	}
+}
