@@ -83,7 +83,7 @@ func (wk *worker) flatPrepare() {
 	smooth := (wk.sCon + wk.sFree) / (env * st.beta0)
 	for k := 0; k < st.K; k++ {
 		nk := float64(wk.nk[k])
-		accW += nk * st.alpha[k] * wk.invD[k]
+		accW += nk * st.alpha[k] * wk.tp[k].inv
 		n += nk
 	}
 	if n > 0 {
@@ -141,7 +141,7 @@ func (wk *worker) flatBuckets(w, old int32) (d, qp, s, env float64) {
 		if e.k == old {
 			n--
 		}
-		v := float64(wk.ndk[e.k]) * float64(n) * wk.invD[e.k]
+		v := float64(wk.tp[e.k].ndk) * float64(n) * wk.tp[e.k].inv
 		mb[j] = v
 		d += v
 	}
@@ -215,10 +215,10 @@ func (wk *worker) drawFlat(w, old int32, i int64) int32 {
 			continue
 		}
 		k := st.z[pos]
-		if wk.restricted && !wk.allowed[k] {
+		if wk.restricted && !wk.tp[k].allowed {
 			continue
 		}
-		if g.Float64()*wk.cmax < st.alpha[k]*wk.invD[k] {
+		if t := &wk.tp[k]; g.Float64()*wk.cmax < t.alpha*t.inv {
 			return k
 		}
 	}
@@ -312,7 +312,8 @@ func (wk *worker) drawSmoothingRej(u float64) int32 {
 	b0 := st.beta0
 	if wk.restricted {
 		for _, k := range wk.subj {
-			u -= st.alpha[k] * b0 * wk.invD[k]
+			t := &wk.tp[k]
+			u -= t.alpha * b0 * t.inv
 			if u < 0 {
 				return k
 			}
@@ -323,14 +324,14 @@ func (wk *worker) drawSmoothingRej(u float64) int32 {
 	} else if u < wk.sCon || st.F == 0 {
 		for {
 			k := wk.aliasC.draw(wk.r)
-			if wk.r.Float64() < st.B[k]*wk.invD[k] {
+			if t := &wk.tp[k]; wk.r.Float64() < t.B*t.inv {
 				return k
 			}
 		}
 	}
 	for {
 		k := int32(st.C) + wk.aliasF.draw(wk.r)
-		if wk.r.Float64() < st.B[k]*wk.invD[k] {
+		if t := &wk.tp[k]; wk.r.Float64() < t.B*t.inv {
 			return k
 		}
 	}

@@ -5,6 +5,7 @@ import (
 	"math/rand/v2"
 	"reflect"
 	"testing"
+	"unsafe"
 )
 
 // withFlat makes every state built during a test take the flat path and
@@ -42,18 +43,18 @@ func flatConditional(t *testing.T, wk *worker, w, old int32) []float64 {
 		if e.k == old && wk.oldPos != i {
 			t.Fatalf("old topic %d at index %d, oldPos %d", old, i, wk.oldPos)
 		}
-		if matched[e.k] != (wk.ndk[e.k] > 0) {
-			t.Fatalf("topic %d: matched %v, n_dk %d", e.k, matched[e.k], wk.ndk[e.k])
+		if matched[e.k] != (wk.tp[e.k].ndk > 0) {
+			t.Fatalf("topic %d: matched %v, n_dk %d", e.k, matched[e.k], wk.tp[e.k].ndk)
 		}
 		n := float64(e.n)
 		if e.k == old {
 			n--
 		}
 		nw += n
-		if wk.restricted && !wk.allowed[e.k] {
+		if wk.restricted && !wk.tp[e.k].allowed {
 			continue
 		}
-		v := st.alpha[e.k] * n * wk.invD[e.k]
+		v := st.alpha[e.k] * n * wk.tp[e.k].inv
 		if v > wk.cmax*n*(1+1e-12) {
 			t.Fatalf("topic %d: word term %v above its envelope %v", e.k, v, wk.cmax*n)
 		}
@@ -67,15 +68,15 @@ func flatConditional(t *testing.T, wk *worker, w, old int32) []float64 {
 	}
 	var sr, ss float64
 	for _, k := range wk.dtopics {
-		v := float64(wk.ndk[k]) * st.beta0 * wk.invD[k]
+		v := float64(wk.tp[k].ndk) * st.beta0 * wk.tp[k].inv
 		p[k] += v
 		sr += v
 	}
 	for k := 0; k < st.K; k++ {
-		if wk.restricted && !wk.allowed[k] {
+		if wk.restricted && !wk.tp[k].allowed {
 			continue
 		}
-		v := st.alpha[k] * st.beta0 * wk.invD[k]
+		v := st.alpha[k] * st.beta0 * wk.tp[k].inv
 		p[k] += v
 		ss += v
 	}
@@ -239,34 +240,34 @@ func TestFlatDrawMatchesConditional(t *testing.T) {
 		}
 		var sProp, sTrue [3]float64
 		for k := 0; k < st.K; k++ {
-			if !restricted || wk.allowed[k] {
+			if !restricted || wk.tp[k].allowed {
 				sProp[group(k)] += st.alpha[k] * st.beta0 / st.B[k]
-				sTrue[group(k)] += st.alpha[k] * st.beta0 * wk.invD[k]
+				sTrue[group(k)] += st.alpha[k] * st.beta0 * wk.tp[k].inv
 			}
 		}
 		var tot float64
 		for k := 0; k < st.K; k++ {
-			if restricted && !wk.allowed[k] {
+			if restricted && !wk.tp[k].allowed {
 				naive[k] = 0
 				continue
 			}
 			pm := st.priorMass(int32(k), w)
-			naive[k] += (float64(wk.ndk[k]) + st.alpha[k]) * pm * wk.invD[k]
+			naive[k] += (float64(wk.tp[k].ndk) + st.alpha[k]) * pm * wk.tp[k].inv
 			if g := group(k); g == 2 {
-				naive[k] += st.alpha[k] * st.beta0 * wk.invD[k]
+				naive[k] += st.alpha[k] * st.beta0 * wk.tp[k].inv
 			} else {
 				naive[k] += st.alpha[k] * st.beta0 / st.B[k] * sTrue[g] / sProp[g]
 			}
 			for _, e := range wk.wt[w] {
-				if int(e.k) == k && wk.ndk[k] > 0 {
+				if int(e.k) == k && wk.tp[k].ndk > 0 {
 					n := e.n
 					if e.k == old {
 						n--
 					}
-					naive[k] += float64(wk.ndk[k]) * float64(n) * wk.invD[k]
+					naive[k] += float64(wk.tp[k].ndk) * float64(n) * wk.tp[k].inv
 				}
 			}
-			naive[k] += float64(wk.ndk[k]) * st.beta0 * wk.invD[k]
+			naive[k] += float64(wk.tp[k].ndk) * st.beta0 * wk.tp[k].inv
 			tot += naive[k]
 		}
 		for k := range naive {
@@ -347,4 +348,11 @@ func TestFlatOneWorkerOnly(t *testing.T) {
 		}
 	}
 	TestMergeKeepsCounts(t)
+}
+
+// TestTopicLine: a worker's per-topic data fills one cache line exactly.
+func TestTopicLine(t *testing.T) {
+	if s := unsafe.Sizeof(topic{}); s != 64 {
+		t.Fatalf("topic is %d bytes, want 64", s)
+	}
 }

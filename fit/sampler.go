@@ -11,6 +11,21 @@ import (
 // replayed on the shared counts by the AD-LDA merge.
 type change struct{ w, old, new int32 }
 
+// topic is a worker's per-topic data, one cache line per topic, so that a
+// token touching a topic at large K misses the cache once, not once per
+// array. The record fields (ndk, dpos, allowed) are reset after each
+// record; alpha and B are copies of the state's for the sweep.
+type topic struct {
+	inv     float64 // 1/(n_k + B_k)
+	coef    float64 // (α_k + n_dk)/(n_k + B_k)
+	alpha   float64 // α_k
+	B       float64 // B_k
+	ndk     int32   // n_dk of the current record
+	dpos    int32   // position of k in dtopics, valid when ndk > 0
+	allowed bool    // allowed in the current record (free topics always)
+	_       [23]byte
+}
+
 // worker samples a shard of records. With several workers it owns copies of
 // n_k and n_kw taken after the last merge; alone it samples on the shared
 // counts directly.
@@ -23,13 +38,8 @@ type worker struct {
 	nk []int32
 	wt [][]tc
 
-	// Per-record scratch, all of length K, reset after each record.
-	ndk     []int32   // n_dk of the current record
-	dpos    []int32   // position of k in dtopics, valid when ndk[k] > 0
-	dtopics []int32   // topics with n_dk > 0
-	invD    []float64 // 1/(n_k + B_k)
-	coef    []float64 // (α_k + n_dk)/(n_k + B_k)
-	allowed []bool    // allowed topics of a restricted record (free topics always true)
+	tp      []topic // K: what a token reads and writes of each topic
+	dtopics []int32 // topics with n_dk > 0 in the current record
 
 	sCon  float64  // Σ_k α_k β0/(n_k+B_k) over concept topics
 	sFree float64  // the same over free topics
@@ -74,17 +84,13 @@ func newWorker(st *state, r *rng, local bool) *worker {
 		st:      st,
 		r:       r,
 		local:   local,
-		ndk:     make([]int32, K),
-		dpos:    make([]int32, K),
+		tp:      make([]topic, K),
 		dtopics: make([]int32, 0, K), // never reallocated, never shared
-		invD:    make([]float64, K),
-		coef:    make([]float64, K),
-		allowed: make([]bool, K),
 		qbuf:    make([]float64, K),
 		pbuf:    make([]float64, maxP),
 	}
 	for k := st.C; k < K; k++ {
-		wk.allowed[k] = true
+		wk.tp[k].allowed = true
 	}
 	wk.fenC = newFenwick(st.C)
 	wk.fenF = newFenwick(st.F)
@@ -115,10 +121,12 @@ func (wk *worker) refresh() {
 	st := wk.st
 	wk.sCon, wk.sFree = 0, 0
 	for k := 0; k < st.K; k++ {
-		inv := 1 / (float64(wk.nk[k]) + st.B[k])
-		wk.invD[k] = inv
-		wk.coef[k] = st.alpha[k] * inv
-		t := st.alpha[k] * st.beta0 * inv
+		tk := &wk.tp[k]
+		tk.alpha, tk.B = st.alpha[k], st.B[k]
+		inv := 1 / (float64(wk.nk[k]) + tk.B)
+		tk.inv = inv
+		tk.coef = tk.alpha * inv
+		t := tk.alpha * st.beta0 * inv
 		if k >= st.C {
 			wk.sFree += t
 		} else {
@@ -129,7 +137,7 @@ func (wk *worker) refresh() {
 	if wk.smoothRej {
 		return
 	}
-	smooth := func(k int) float64 { return st.alpha[k] * st.beta0 * wk.invD[k] }
+	smooth := func(k int) float64 { return st.alpha[k] * st.beta0 * wk.tp[k].inv }
 	wk.fenC.build(smooth)
 	wk.fenF.build(func(i int) float64 { return smooth(st.C + i) })
 }
@@ -144,18 +152,20 @@ func (wk *worker) begin(d *sdoc, assigned bool) {
 			if k < 0 { // not assigned yet (initAssign)
 				continue
 			}
-			if wk.ndk[k] == 0 {
-				wk.dpos[k] = int32(len(wk.dtopics))
+			t := &wk.tp[k]
+			if t.ndk == 0 {
+				t.dpos = int32(len(wk.dtopics))
 				wk.dtopics = append(wk.dtopics, k)
 				if wk.flat {
 					wk.dbitSet(k)
 				}
 			}
-			wk.ndk[k]++
+			t.ndk++
 		}
 		for _, k := range wk.dtopics {
-			wk.coef[k] = (st.alpha[k] + float64(wk.ndk[k])) * wk.invD[k]
-			wk.rsum += float64(wk.ndk[k]) * st.beta0 * wk.invD[k]
+			t := &wk.tp[k]
+			t.coef = (t.alpha + float64(t.ndk)) * t.inv
+			wk.rsum += float64(t.ndk) * st.beta0 * t.inv
 		}
 	}
 	wk.restricted = d.subjects != nil
@@ -163,18 +173,19 @@ func (wk *worker) begin(d *sdoc, assigned bool) {
 	wk.sSubj = 0
 	if wk.restricted {
 		for _, k := range d.subjects {
-			wk.allowed[k] = true
-			wk.sSubj += st.alpha[k] * st.beta0 * wk.invD[k]
+			t := &wk.tp[k]
+			t.allowed = true
+			wk.sSubj += t.alpha * st.beta0 * t.inv
 		}
 	}
 }
 
 // end clears the record scratch.
 func (wk *worker) end() {
-	st := wk.st
 	for _, k := range wk.dtopics {
-		wk.ndk[k] = 0
-		wk.coef[k] = st.alpha[k] * wk.invD[k]
+		t := &wk.tp[k]
+		t.ndk = 0
+		t.coef = t.alpha * t.inv
 		if wk.flat {
 			wk.dbitClear(k)
 		}
@@ -182,7 +193,7 @@ func (wk *worker) end() {
 	wk.dtopics = wk.dtopics[:0]
 	if wk.restricted {
 		for _, k := range wk.subj {
-			wk.allowed[k] = false
+			wk.tp[k].allowed = false
 		}
 	}
 	wk.restricted, wk.subj = false, nil
@@ -253,10 +264,11 @@ func (wk *worker) doc(d *sdoc, first bool) {
 // update moves topic k's cached terms from before to after a count change.
 func (wk *worker) update(k int32, ndBefore int32) {
 	st := wk.st
-	invOld := wk.invD[k]
-	inv := 1 / (float64(wk.nk[k]) + st.B[k])
-	wk.invD[k] = inv
-	a := st.alpha[k]
+	t := &wk.tp[k]
+	invOld := t.inv
+	inv := 1 / (float64(wk.nk[k]) + t.B)
+	t.inv = inv
+	a := t.alpha
 	ds := a * st.beta0 * (inv - invOld)
 	if int(k) >= st.C {
 		wk.sFree += ds
@@ -272,9 +284,9 @@ func (wk *worker) update(k int32, ndBefore int32) {
 			wk.sSubj += ds
 		}
 	}
-	nd := wk.ndk[k]
+	nd := t.ndk
 	wk.rsum += st.beta0 * (float64(nd)*inv - float64(ndBefore)*invOld)
-	wk.coef[k] = (a + float64(nd)) * inv
+	t.coef = (a + float64(nd)) * inv
 }
 
 // remove takes a token of word w off topic k.
@@ -286,14 +298,15 @@ func (wk *worker) remove(w, k int32) {
 // unassign takes a token of word w off topic k in every count but the word
 // list (n_k, n_dk and the cached sums).
 func (wk *worker) unassign(w, k int32) {
-	nd := wk.ndk[k]
-	wk.ndk[k] = nd - 1
+	t := &wk.tp[k]
+	nd := t.ndk
+	t.ndk = nd - 1
 	wk.nk[k]--
 	if nd == 1 { // drop k from the record's topic list
-		p := wk.dpos[k]
+		p := t.dpos
 		last := wk.dtopics[len(wk.dtopics)-1]
 		wk.dtopics[p] = last
-		wk.dpos[last] = p
+		wk.tp[last].dpos = p
 		wk.dtopics = wk.dtopics[:len(wk.dtopics)-1]
 		if wk.flat {
 			wk.dbitClear(k)
@@ -327,15 +340,16 @@ func (wk *worker) add(w, k int32) {
 
 // assign puts a token on topic k in n_k, n_dk and the cached sums.
 func (wk *worker) assign(k int32) {
-	nd := wk.ndk[k]
+	t := &wk.tp[k]
+	nd := t.ndk
 	if nd == 0 {
-		wk.dpos[k] = int32(len(wk.dtopics))
+		t.dpos = int32(len(wk.dtopics))
 		wk.dtopics = append(wk.dtopics, k)
 		if wk.flat {
 			wk.dbitSet(k)
 		}
 	}
-	wk.ndk[k] = nd + 1
+	t.ndk = nd + 1
 	wk.nk[k]++
 	wk.update(k, nd)
 }
@@ -348,7 +362,7 @@ func (wk *worker) assign(k int32) {
 func (wk *worker) wordBucket(w, old int32) float64 {
 	list := wk.wt[w]
 	qb := wk.qbuf[:len(list)]
-	coef := wk.coef
+	tp := wk.tp
 	q := 0.0
 	if !wk.restricted {
 		for i, e := range list {
@@ -357,13 +371,12 @@ func (wk *worker) wordBucket(w, old int32) float64 {
 				n--
 				wk.oldPos = i
 			}
-			v := coef[e.k] * float64(n)
+			v := tp[e.k].coef * float64(n)
 			qb[i] = v
 			q += v
 		}
 		return q
 	}
-	al := wk.allowed
 	for i, e := range list {
 		n := e.n
 		if e.k == old {
@@ -371,8 +384,8 @@ func (wk *worker) wordBucket(w, old int32) float64 {
 			wk.oldPos = i
 		}
 		v := 0.0
-		if al[e.k] {
-			v = coef[e.k] * float64(n)
+		if t := &tp[e.k]; t.allowed {
+			v = t.coef * float64(n)
 		}
 		qb[i] = v
 		q += v
@@ -390,21 +403,20 @@ func (wk *worker) priorBucket(w int32) float64 {
 	pt := st.pTopic[lo:hi]
 	pm := st.pMass[lo:hi]
 	pb := wk.pbuf[:len(pt)]
-	coef := wk.coef
+	tp := wk.tp
 	q := 0.0
 	if !wk.restricted {
 		for j, k := range pt {
-			v := coef[k] * pm[j]
+			v := tp[k].coef * pm[j]
 			pb[j] = v
 			q += v
 		}
 		return q
 	}
-	al := wk.allowed
 	for j, k := range pt {
 		v := 0.0
-		if al[k] {
-			v = coef[k] * pm[j]
+		if t := &tp[k]; t.allowed {
+			v = t.coef * pm[j]
 		}
 		pb[j] = v
 		q += v
@@ -477,7 +489,7 @@ func (wk *worker) pickOther(w int32, u, qp, r float64) int32 {
 	if u < r && len(wk.dtopics) > 0 {
 		b0 := st.beta0
 		for _, k := range wk.dtopics {
-			u -= float64(wk.ndk[k]) * b0 * wk.invD[k]
+			u -= float64(wk.tp[k].ndk) * b0 * wk.tp[k].inv
 			if u < 0 {
 				return k
 			}
@@ -498,7 +510,7 @@ func (wk *worker) drawSmoothing(u float64) int32 {
 	b0 := st.beta0
 	if wk.restricted {
 		for _, k := range wk.subj {
-			u -= st.alpha[k] * b0 * wk.invD[k]
+			u -= st.alpha[k] * b0 * wk.tp[k].inv
 			if u < 0 {
 				return k
 			}

@@ -137,15 +137,15 @@ func bucketConditional(t *testing.T, wk *worker, w, old int32) []float64 {
 		sp += v
 	}
 	for _, k := range wk.dtopics {
-		v := float64(wk.ndk[k]) * st.beta0 * wk.invD[k]
+		v := float64(wk.tp[k].ndk) * st.beta0 * wk.tp[k].inv
 		p[k] += v
 		sr += v
 	}
 	for k := 0; k < st.K; k++ {
-		if wk.restricted && !wk.allowed[k] {
+		if wk.restricted && !wk.tp[k].allowed {
 			continue
 		}
-		v := st.alpha[k] * st.beta0 * wk.invD[k]
+		v := st.alpha[k] * st.beta0 * wk.tp[k].inv
 		p[k] += v
 		ss += v
 	}
