@@ -229,6 +229,7 @@ type aliasTable struct {
 	tab          []aent
 	small, large []int32
 	scaled       []float64
+	uniform      bool // all weights equal: draw reads no table
 }
 
 // build fills the table for the weights w(0..n-1), whose total is sum > 0.
@@ -239,8 +240,12 @@ func (a *aliasTable) build(n int, sum float64, w func(i int) float64) {
 	}
 	a.tab, a.scaled = a.tab[:n], a.scaled[:n]
 	small, large := a.small[:0], a.large[:0]
+	a.uniform = true
+	w0 := w(0)
 	for i := 0; i < n; i++ {
-		v := w(i) * float64(n) / sum
+		wi := w(i)
+		a.uniform = a.uniform && wi == w0
+		v := wi * float64(n) / sum
 		a.scaled[i] = v
 		if v < 1 {
 			small = append(small, int32(i))
@@ -270,6 +275,9 @@ func (a *aliasTable) build(n int, sum float64, w func(i int) float64) {
 
 // draw returns an index with chance proportional to its weight.
 func (a *aliasTable) draw(r *rng) int32 {
+	if a.uniform {
+		return int32(r.IntN(len(a.tab)))
+	}
 	x := r.Float64() * float64(len(a.tab))
 	i := int(x)
 	if i >= len(a.tab) {

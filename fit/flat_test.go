@@ -356,3 +356,32 @@ func TestTopicLine(t *testing.T) {
 		t.Fatalf("topic is %d bytes, want 64", s)
 	}
 }
+
+// TestAliasTable: draws from an alias table match its weights (each within
+// 5 standard errors), for uneven weights and for equal ones (which take
+// the table-free path). Common practice, no source.
+func TestAliasTable(t *testing.T) {
+	r := newRNG(1, 1)
+	for _, ws := range [][]float64{{0.1, 3, 0.5, 0.5, 2, 0.01, 7}, {2, 2, 2, 2, 2}, {1}} {
+		var a aliasTable
+		var sum float64
+		for _, v := range ws {
+			sum += v
+		}
+		a.build(len(ws), sum, func(i int) float64 { return ws[i] })
+		if a.uniform != (len(ws) < 7) {
+			t.Fatalf("weights %v: uniform %v", ws, a.uniform)
+		}
+		const n = 200000
+		counts := make([]float64, len(ws))
+		for j := 0; j < n; j++ {
+			counts[a.draw(r)]++
+		}
+		for i, v := range ws {
+			p := v / sum
+			if se := math.Sqrt(n * p * (1 - p)); math.Abs(counts[i]-n*p) > 5*se+1e-9 {
+				t.Errorf("weights %v: index %d drawn %v times, expected %.0f ± %.0f", ws, i, counts[i], n*p, se)
+			}
+		}
+	}
+}
