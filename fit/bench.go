@@ -90,3 +90,19 @@ func (b *Bench) Phases() Phases {
 	b.st.phase = Phases{Sample: make([]float64, len(p.Sample))}
 	return p
 }
+
+// FlatStats returns the counts of the flat path's draws (flat.go) since the
+// last call and resets them.
+func (b *Bench) FlatStats() FlatStats {
+	var f FlatStats
+	for _, wk := range b.st.workers {
+		s := wk.fst
+		f.Tokens += s.Tokens
+		f.WordProposals += s.WordProposals
+		f.WordAccepted += s.WordAccepted
+		f.SmoothProposals += s.SmoothProposals
+		f.SmoothAccepted += s.SmoothAccepted
+		wk.fst = FlatStats{}
+	}
+	return f
+}

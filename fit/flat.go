@@ -180,6 +180,7 @@ func (wk *worker) drawFlat(w, old int32, i int64) int32 {
 	st := wk.st
 	wk.newPos = -1
 	d, qp, s, env := wk.flatBuckets(w, old)
+	wk.fst.Tokens++
 	r := wk.rsum
 	tot := d + qp + r + s + env
 	lo := st.occStart[w]
@@ -210,6 +211,7 @@ func (wk *worker) drawFlat(w, old int32, i int64) int32 {
 		}
 		// Word part: a uniform token of w, its topic accepted with
 		// α_k/((n_k+B_k)·cmax).
+		wk.fst.WordProposals++
 		pos := st.occ[lo+int64(g.IntN(nw))]
 		if pos == i {
 			continue
@@ -219,6 +221,7 @@ func (wk *worker) drawFlat(w, old int32, i int64) int32 {
 			continue
 		}
 		if t := &wk.tp[k]; g.Float64()*wk.cmax < t.alpha*t.inv {
+			wk.fst.WordAccepted++
 			return k
 		}
 	}
@@ -331,16 +334,29 @@ func (wk *worker) drawSmoothingRej(u float64) int32 {
 		}
 	} else if u < wk.sCon || st.F == 0 {
 		for {
+			wk.fst.SmoothProposals++
 			k := wk.aliasC.draw(wk.r)
 			if t := &wk.tp[k]; wk.r.Float64() < t.B*t.inv {
+				wk.fst.SmoothAccepted++
 				return k
 			}
 		}
 	}
 	for {
+		wk.fst.SmoothProposals++
 		k := int32(st.C) + wk.aliasF.draw(wk.r)
 		if t := &wk.tp[k]; wk.r.Float64() < t.B*t.inv {
+			wk.fst.SmoothAccepted++
 			return k
 		}
 	}
+}
+
+// FlatStats counts the draws of the flat path and of rejection smoothing.
+type FlatStats struct {
+	Tokens          int64 // tokens drawn by the flat path
+	WordProposals   int64 // word-part proposals (the token itself included)
+	WordAccepted    int64
+	SmoothProposals int64 // smoothing proposals
+	SmoothAccepted  int64
 }

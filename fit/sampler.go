@@ -71,6 +71,7 @@ type worker struct {
 	mbuf      []float64  // their terms n_dk·n_kw/(n_k+B_k)
 	aliasC    aliasTable // smoothing proposals over the concepts
 	aliasF    aliasTable // and over the free topics
+	fst       FlatStats  // counts of the flat path's draws
 	_         [64]byte
 }
 
