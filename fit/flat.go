@@ -155,7 +155,10 @@ func (wk *worker) flatBuckets(w, old int32) (d, qp, s, env float64) {
 
 // scanList stores in m the indices of the entries of list whose topic is
 // set in the bitset bs and returns their number, and the index of topic old
-// (−1: absent). m must be as long as list, bs must cover every topic.
+// (−1: absent). m must be as long as list, bs must cover every topic. Not
+// inlined: on its own the loop keeps every value in a register.
+//
+//go:noinline
 func scanList(list []tc, bs []uint64, m []int32, old int32) (c, op int) {
 	op = -1
 	_ = m[:len(list)]
