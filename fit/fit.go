@@ -35,6 +35,13 @@
 // The smoothing bucket is drawn through two Fenwick trees (concept and free
 // topics), so even its rare draws cost O(log K).
 //
+// At large K (flat.go) the word bucket's walk over w's list, which grows
+// with K, gives way to an exact part over the record's topics and the part
+// α_k·n_kw/(n_k+B_k) drawn by rejection from a proposal that picks a random
+// token of w (one worker only), and the smoothing bucket is drawn by
+// rejection from an alias table instead of the trees; TestFlatEqualsDense,
+// TestFlatDrawMatchesConditional and TestFlatGeweke prove it.
+//
 // The model's α_k of a concept is the learned value times the share of
 // training records allowed to use k (see marginalAlpha): the weight a
 // record of unknown subjects should give it.
