@@ -688,8 +688,11 @@ func (a *Annotator) put(st *state) {
 	st.slotTopic, st.pos, st.act, st.out = st.slotTopic[:0], st.pos[:0], st.act[:0], st.out[:0]
 	st.cs, st.phi0s, st.dsm, st.dacc = st.cs[:0], st.phi0s[:0], st.dsm[:0], st.dacc[:0]
 	for u := range st.nz {
-		st.nz[u] = st.nz[u][:0]
-		st.wacc[u] = st.wacc[u][:0]
+		if st.rows { // lists of their own: keep them for the next record
+			st.nz[u], st.wacc[u] = st.nz[u][:0], st.wacc[u][:0]
+		} else { // carved out of nzf: a record in row mode must not append to them
+			st.nz[u], st.wacc[u] = nil, nil
+		}
 	}
 	st.nz, st.wacc = st.nz[:0], st.wacc[:0]
 	for _, k := range st.bT {
@@ -960,9 +963,6 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 	if st.rows {
 		for u := range st.uw {
 			st.usort = append(st.usort, int32(u))
-			// Lists of their own: the previous record's may be carved
-			// out of nzf.
-			st.nz[u], st.wacc[u] = nil, nil
 		}
 		slices.SortFunc(st.usort, func(x, y int32) int { return int(st.uw[x] - st.uw[y]) })
 	} else {
