@@ -71,15 +71,7 @@ func Calibrate(m *model.Model, texts []LabeledText, opt CalibrateOptions) (*mode
 	if !(opt.Shrink > 0) || math.IsInf(opt.Shrink, 0) {
 		return nil, fmt.Errorf("annotate: calibration shrink %v: want a positive number", opt.Shrink)
 	}
-	if opt.Samples <= 0 {
-		opt.Samples = 200
-	}
-	if opt.BurnIn <= 0 {
-		opt.BurnIn = DefaultBurnIn
-	}
-	if opt.Workers <= 0 {
-		opt.Workers = runtime.GOMAXPROCS(0)
-	}
+	opt.setDefaults()
 	raw := *m
 	raw.Calibration = nil
 	a, err := New(&raw)
@@ -93,22 +85,11 @@ func Calibrate(m *model.Model, texts []LabeledText, opt CalibrateOptions) (*mode
 	y := make([]bool, len(texts)*C)
 	use := make([]bool, len(texts))
 	errs := make([]error, len(texts))
-	var wg sync.WaitGroup
-	next := make(chan int)
-	for w := 0; w < opt.Workers; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for i := range next {
-				errs[i] = a.rawScores(&texts[i], opt, x[i*C:(i+1)*C], y[i*C:(i+1)*C], &use[i])
-			}
-		}()
-	}
-	for i := range texts {
-		next <- i
-	}
-	close(next)
-	wg.Wait()
+	each(len(texts), opt.Workers, func() func(int) {
+		return func(i int) {
+			errs[i] = a.rawScores(&texts[i], opt, x[i*C:(i+1)*C], y[i*C:(i+1)*C], &use[i])
+		}
+	})
 	n := 0
 	for i, err := range errs {
 		if err != nil {
@@ -147,6 +128,42 @@ func Calibrate(m *model.Model, texts []LabeledText, opt CalibrateOptions) (*mode
 		cal.A[k], cal.B[k] = p.fit(opt.Shrink, ga, gb)
 	}
 	return cal, nil
+}
+
+// setDefaults fills the zero fields of o but Shrink, which only Calibrate
+// uses.
+func (o *CalibrateOptions) setDefaults() {
+	if o.Samples <= 0 {
+		o.Samples = 200
+	}
+	if o.BurnIn <= 0 {
+		o.BurnIn = DefaultBurnIn
+	}
+	if o.Workers <= 0 {
+		o.Workers = runtime.GOMAXPROCS(0)
+	}
+}
+
+// each calls do(i) for every i in [0, n) on workers goroutines. newDo runs
+// once per goroutine, so each can keep scratch of its own.
+func each(n, workers int, newDo func() func(i int)) {
+	var wg sync.WaitGroup
+	next := make(chan int)
+	for w := 0; w < workers; w++ {
+		do := newDo()
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range next {
+				do(i)
+			}
+		}()
+	}
+	for i := 0; i < n; i++ {
+		next <- i
+	}
+	close(next)
+	wg.Wait()
 }
 
 // rawScores annotates one text with every concept ranked and writes ln s_k

@@ -4,8 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"runtime"
-	"sync"
 
 	"termgrove/model"
 	"termgrove/terms"
@@ -100,15 +98,7 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 	if opt.At <= 0 {
 		opt.At = 5
 	}
-	if opt.Samples <= 0 {
-		opt.Samples = 200
-	}
-	if opt.BurnIn <= 0 {
-		opt.BurnIn = DefaultBurnIn
-	}
-	if opt.Workers <= 0 {
-		opt.Workers = runtime.GOMAXPROCS(0)
-	}
+	opt.setDefaults()
 	raw := *m
 	raw.Calibration, raw.WordLayer = nil, nil
 	a, err := New(&raw)
@@ -124,39 +114,28 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 	y := make([]bool, len(texts)*C)
 	use := make([]bool, len(texts))
 	errs := make([]error, len(texts))
-	var wg sync.WaitGroup
-	next := make(chan int)
-	for w := 0; w < opt.Workers; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			var toks []terms.Token
-			var seq, ids, cnt []int32
-			var val []float32
-			for i := range next {
-				t := &texts[i]
-				errs[i] = a.rawScores(t, opt.CalibrateOptions, x[i*C:(i+1)*C], y[i*C:(i+1)*C], &use[i])
-				if errs[i] != nil || !use[i] {
-					continue
-				}
-				toks = a.analyze(t.Text, t.Language, toks[:0])
-				seq = seq[:0]
-				for _, tk := range toks { // as infer: unknown words left out
-					if tk.ID >= 0 && int(tk.ID) < len(m.Words) {
-						seq = append(seq, tk.ID)
-					}
-				}
-				ids, cnt = model.Features(seq, len(m.Words), held.Bigrams, ids, cnt)
-				ids, val = model.WordVector(ids, cnt, held.IDF, ids, val)
-				held.Decision(ids, val, d[i*C:(i+1)*C])
+	each(len(texts), opt.Workers, func() func(int) {
+		var toks []terms.Token
+		var seq, ids, cnt []int32
+		var val []float32
+		return func(i int) {
+			t := &texts[i]
+			errs[i] = a.rawScores(t, opt.CalibrateOptions, x[i*C:(i+1)*C], y[i*C:(i+1)*C], &use[i])
+			if errs[i] != nil || !use[i] {
+				return
 			}
-		}()
-	}
-	for i := range texts {
-		next <- i
-	}
-	close(next)
-	wg.Wait()
+			toks = a.analyze(t.Text, t.Language, toks[:0])
+			seq = seq[:0]
+			for _, tk := range toks { // as infer: unknown words left out
+				if tk.ID >= 0 && int(tk.ID) < len(m.Words) {
+					seq = append(seq, tk.ID)
+				}
+			}
+			ids, cnt = model.Features(seq, len(m.Words), held.Bigrams, ids, cnt)
+			ids, val = model.WordVector(ids, cnt, held.IDF, ids, val)
+			held.Decision(ids, val, d[i*C:(i+1)*C])
+		}
+	})
 	var rows []int
 	for i, err := range errs {
 		if err != nil {
