@@ -234,49 +234,25 @@ func (wk *worker) drawFlat(w, old int32, i int64) int32 {
 type aliasTable struct {
 	tab          []aent
 	small, large []int32
-	scaled       []float64
-	uniform      bool // all weights equal: draw reads no table
+	ws           []float64 // the weights, scratch for buildAlias
+	uniform      bool      // all weights equal: draw reads no table
 }
 
 // build fills the table for the weights w(0..n-1), whose total is sum > 0.
 func (a *aliasTable) build(n int, sum float64, w func(i int) float64) {
 	if cap(a.tab) < n {
 		a.tab = make([]aent, n)
-		a.scaled = make([]float64, n)
+		a.ws = make([]float64, n)
 	}
-	a.tab, a.scaled = a.tab[:n], a.scaled[:n]
-	small, large := a.small[:0], a.large[:0]
+	a.tab, a.ws = a.tab[:n], a.ws[:n]
 	a.uniform = true
 	w0 := w(0)
-	for i := 0; i < n; i++ {
+	for i := range a.ws {
 		wi := w(i)
 		a.uniform = a.uniform && wi == w0
-		v := wi * float64(n) / sum
-		a.scaled[i] = v
-		if v < 1 {
-			small = append(small, int32(i))
-		} else {
-			large = append(large, int32(i))
-		}
+		a.ws[i] = wi
 	}
-	for len(small) > 0 && len(large) > 0 {
-		s := small[len(small)-1]
-		small = small[:len(small)-1]
-		l := large[len(large)-1]
-		a.tab[s] = aent{prob: a.scaled[s], k: s, alt: l}
-		a.scaled[l] -= 1 - a.scaled[s]
-		if a.scaled[l] < 1 {
-			large = large[:len(large)-1]
-			small = append(small, l)
-		}
-	}
-	for _, l := range large {
-		a.tab[l] = aent{prob: 1, k: l, alt: l}
-	}
-	for _, s := range small { // rounding leftovers
-		a.tab[s] = aent{prob: 1, k: s, alt: s}
-	}
-	a.small, a.large = small, large
+	a.small, a.large = buildAlias(a.ws, nil, sum, a.tab, a.small, a.large)
 }
 
 // draw returns an index with chance proportional to its weight.

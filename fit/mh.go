@@ -200,9 +200,16 @@ func (mw *mword) hget(k int32) int32 {
 // buildAlias fills tab (Vose's method) for the weights ws, whose total is
 // sum > 0, over the topics ks (nil: the indices).
 func (m *mhState) buildAlias(ws []float64, ks []int32, sum float64, tab []aent) {
-	n := len(ws)
-	small, large := m.small[:0], m.large[:0]
-	scale := float64(n) / sum
+	m.small, m.large = buildAlias(ws, ks, sum, tab, m.small, m.large)
+}
+
+// buildAlias fills tab[:len(ws)] with Walker's alias table (Walker 1977)
+// by Vose's stable construction (Vose 1991) for the weights ws, whose total
+// is sum > 0, over the topics ks (nil: the indices). small and large are
+// scratch, returned for reuse.
+func buildAlias(ws []float64, ks []int32, sum float64, tab []aent, small, large []int32) ([]int32, []int32) {
+	small, large = small[:0], large[:0]
+	scale := float64(len(ws)) / sum
 	for j, v := range ws {
 		k := int32(j)
 		if ks != nil {
@@ -232,7 +239,7 @@ func (m *mhState) buildAlias(ws []float64, ks []int32, sum float64, tab []aent) 
 	for _, j := range small { // rounding leftovers
 		tab[j].prob = 1
 	}
-	m.small, m.large = small, large
+	return small, large
 }
 
 // aliasDraw draws a topic from an alias table with one random word: the
