@@ -462,9 +462,10 @@ func (l *lexer) readHex(n int) (rune, error) {
 		v = v<<4 | rune(d)
 		l.r++
 	}
-	if v > utf8.MaxRune || (v >= 0xD800 && v <= 0xDFFF) {
+	// Eight hex digits can overflow a rune into the negatives (\U80000000).
+	if v < 0 || v > utf8.MaxRune || (v >= 0xD800 && v <= 0xDFFF) {
 		l.r -= n + 2 // point at the backslash
-		return 0, l.errorf("expected a Unicode scalar value in escape, found U+%04X (a surrogate or beyond U+10FFFF)", v)
+		return 0, l.errorf("expected a Unicode scalar value in escape, found U+%04X (a surrogate or beyond U+10FFFF)", uint32(v))
 	}
 	return v, nil
 }

@@ -98,6 +98,10 @@ func TestNTriplesErrors(t *testing.T) {
 		{"space in IRI", "<http://ex.org/a b> <http://ex.org/p> <http://ex.org/o> .", "x.nt:1:17", "space"},
 		{"bad escape", `<http://ex.org/s> <http://ex.org/p> "a\qb" .`, "x.nt:1:39", `\'q'`},
 		{"surrogate", `<http://ex.org/s> <http://ex.org/p> "\uD800" .`, "x.nt:1:38", "U+D800"},
+		// Found by FuzzTurtle in CI: eight hex digits overflowed a rune into
+		// the negatives and indexed a table with it.
+		{"escape beyond int32 in IRI", `<http://ex.org/\U80000000> <http://ex.org/p> <http://ex.org/o> .`, "x.nt:1:16", "U+80000000"},
+		{"escape beyond int32 in string", `<http://ex.org/s> <http://ex.org/p> "\UFFFFFFFF" .`, "x.nt:1:38", "U+FFFFFFFF"},
 		{"missing dot", "<http://ex.org/s> <http://ex.org/p> <http://ex.org/o>\n", "x.nt:1:54", `"."`},
 		{"two triples on a line", "<http://ex.org/s> <http://ex.org/p> <http://ex.org/o> . <http://ex.org/s> <http://ex.org/p> <http://ex.org/o> .", "x.nt:1:57", "end of line"},
 		{"literal subject", `"s" <http://ex.org/p> <http://ex.org/o> .`, "x.nt:1:1", "subject"},
