@@ -1436,6 +1436,23 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 	case calOn:
 		cand, score = a.calibrated(st, cand, score, want, norm, rbF) // calibrate.go
 	}
+	if opt.ConceptsOnly && rel == nil && !calOn && top <= maxQuickTop {
+		// Only the shown concepts are needed: the best top non-deprecated
+		// candidates, kept sorted in a short list while scanning, instead
+		// of selecting a pool for the paths. The same concepts in the
+		// same order as below (TestConceptsOnly).
+		best := a.bestConcepts(st, cand, top, norm, rbF)
+		st.cand = cand[:0]
+		if len(best) > 0 {
+			res.Concepts = make([]Concept, 0, len(best))
+		}
+		for _, x := range best {
+			if x.v >= opt.MinScore {
+				res.Concepts = append(res.Concepts, Concept{IRI: a.m.Scheme.Concepts[x.k].IRI, Label: a.labels[x.k], Score: x.v})
+			}
+		}
+		return
+	}
 	ranked := slices.Grow(st.ranked[:0], len(cand))
 	if rel == nil && !calOn {
 		// score(k), without two closure calls per candidate.
@@ -1642,6 +1659,47 @@ func (a *Annotator) addAliasS(st *state, k int32, scale float64) {
 		v += st.bent[i].s * st.fu[st.bent[i].u]
 	}
 	st.th[k] += ak * v * scale
+}
+
+// maxQuickTop: ConceptsOnly requests for at most this many concepts take
+// bestConcepts' insertion list.
+const maxQuickTop = 64
+
+// bestConcepts returns the n best candidates that are not deprecated, best
+// first, scored as summarise scores them without related rows or a
+// calibration: (θ part + α'_k)·norm. An insertion list of n: most
+// candidates fall below its last entry at the first comparison.
+func (a *Annotator) bestConcepts(st *state, cand []int32, n int, norm, rbF float64) []scored {
+	best := st.ranked[:0]
+	if n <= 0 {
+		return best
+	}
+	th, alpha, phi0, ext, dep := st.th, a.alpha, a.phi0, st.ext, a.dep
+	for _, k := range cand {
+		if dep[k] {
+			continue
+		}
+		ap := alpha[k] + ext[k]
+		if st.allow {
+			ap = ext[k]
+		}
+		x := scored{k, (th[k] + alpha[k]*phi0[k]*rbF + ap) * norm}
+		if len(best) == n {
+			if !x.better(best[n-1]) {
+				continue
+			}
+			best = best[:n-1]
+		}
+		i := len(best)
+		best = append(best, x)
+		for i > 0 && x.better(best[i-1]) {
+			best[i] = best[i-1]
+			i--
+		}
+		best[i] = x
+	}
+	st.ranked = best
+	return best
 }
 
 // scored is a topic with its score.
