@@ -25,9 +25,10 @@
 //
 // so a draw costs about O(record topics holding w), whatever K is
 // (TestConditionalEqualsDense and TestDrawFrequencies check it against the
-// dense formula). Several burn-in sweeps are followed by sampling sweeps
-// (defaults 3 and 6). Scores are the record's topic proportions averaged
-// over those sweeps,
+// dense formula). Burn-in sweeps, if any, are followed by sampling sweeps
+// (defaults 0 and 3 after the start from expected counts, 3 and 6 after the
+// start from each word's own posterior; see Start). Scores are the
+// record's topic proportions averaged over the sampling sweeps,
 //
 //	θ_k = (mean_s Σ_i p(z_i = k | z_¬i) + α_k) / (N + Σ_k α_k),
 //
@@ -45,6 +46,29 @@
 // word type: occurrences of one word in one text are exchangeable, so they
 // share a posterior. Only the smoothing bucket's split over topics is taken
 // per sweep rather than per token; the posterior still sums to 1.
+//
+// # Start
+//
+// Where a record's topic lists are regrouped (modest K, see maxList) and no
+// known subjects change α, each token's first topic is drawn given the
+// others' expected counts after two fold-in steps of the collapsed
+// variational update CVB0 (Asuncion, Welling, Smyth & Teh 2009, "On
+// smoothing and inference for topic models", UAI), from each word's own
+// posterior, on the words' topic lists:
+//
+//	E⁰_k = Σ_w n_w·α_k·s_kw/A_w
+//	v¹_wk = (E⁰_k − α_k·s_kw/A_w + α_k)·φ_kw,  Z¹_w = q + Σ_k v¹_wk,  E¹_k = Σ_w n_w·v¹_wk/Z¹_w
+//	v²_wk = (E¹_k − v¹_wk/Z¹_w + α_k)·φ_kw,    Z²_w = q + Σ_k v²_wk
+//
+// (the token's own share taken out; the rest of Z², q, is drawn as α_k·φ⁰_k
+// over all topics). The tokens start where the record's words agree, not
+// spread over each word's own topics, so that sampling sweeps can follow
+// at once: on three sets of debtags test records 0 + 3 sweeps rank at
+// least as well as 3 + 6 from the own posterior (bench/annotate.md).
+// Otherwise (the long lists of a 117k-concept model, known subjects) each
+// token starts from its word's own posterior p(k | w) ∝ (α_k + extra α)·φ_kw,
+// all drawn before any is added. Neither start changes what the sweeps
+// sample from; TestStartExpected checks the draws against the formula.
 //
 // Memory per call grows with the record's distinct words times the topics
 // that hold them (or, for large vocabularies, that the sampler visits), so
@@ -96,7 +120,14 @@ const (
 	// bars share).
 	DefaultBurnIn  = 3
 	DefaultSamples = 6
-	DefaultBoost   = 20.0
+	// ExpectedBurnIn and ExpectedSamples: after the start from the others'
+	// expected counts (startExpected; records whose words' lists are
+	// regrouped, without known subjects), no burn-in and 3 sampling
+	// sweeps. On the same three sets, 20 chains per record, they rank at
+	// least as well as 3 + 6 after the own-posterior start (bench/annotate.md).
+	ExpectedBurnIn  = 0
+	ExpectedSamples = 3
+	DefaultBoost    = 20.0
 	// pathPool: aggregated path scores count the descendants among this many
 	// best-ranked concepts (or Top, when larger).
 	pathPool = 100
@@ -150,6 +181,10 @@ func (a *Annotator) addRelated(cand []int32, score func(int32) float64, rel *map
 // to run other chains on the same texts (TestSweepsQuality's spread).
 var seedSalt uint64
 
+// ownStart, set by tests, starts every record from its words' own
+// posteriors (TestSweepsQuality's reference).
+var ownStart bool
+
 // ErrTooLarge is returned for a text longer than Options.MaxBytes.
 var ErrTooLarge = errors.New("text too large")
 
@@ -171,7 +206,10 @@ type Options struct {
 	// MaxBytes refuses longer texts with ErrTooLarge (default 1 MiB;
 	// negative: no limit). Memory grows with distinct words times topics met.
 	MaxBytes int
-	// BurnIn and Samples are the sweeps discarded and averaged (defaults 3, 6).
+	// BurnIn and Samples are the sweeps discarded and averaged: defaults
+	// 0 and 3 after the start from expected counts, 3 and 6 after the
+	// start from each word's own posterior (DefaultBurnIn, ExpectedBurnIn).
+	// Negative BurnIn: none.
 	BurnIn, Samples int
 	// BoostFactor multiplies known subjects' α in Boost mode (default 20;
 	// values below 1 count as 1).
@@ -655,6 +693,12 @@ type state struct {
 	wCnt []int32
 	wVal []float32
 	wd   []float64
+
+	startW, startZ []float64
+	tl             []topicLocal // grouped with startExpected: per topic of bT
+	tk             []int32      // K: k's index in tl, valid while bh[k] > 0
+	un, uo         []int32      // word type → list length, offset in bent
+	samples        int          // the sampling sweeps infer ran
 }
 
 func (a *Annotator) get() *state {
@@ -663,7 +707,7 @@ func (a *Annotator) get() *state {
 	}
 	st := &state{ndk: make([]int32, a.K), ext: make([]float64, a.K), slot: make([]int32, a.K),
 		th: make([]float64, a.K), agg: make([]float64, a.C), mark: make([]uint32, a.C),
-		bh: make([]int32, a.K), bhas: make([]bool, a.K), uOf: make([]int32, len(a.m.Words))}
+		bh: make([]int32, a.K), bhas: make([]bool, a.K), uOf: make([]int32, len(a.m.Words)), tk: make([]int32, a.K)}
 	for k := range st.slot {
 		st.slot[k] = -1
 	}
@@ -779,7 +823,15 @@ type nzEntry struct {
 // next is the topic's next entry (-1: none).
 type bEntry struct {
 	u, k, next int32
+	t          int32 // grouped with startExpected: k's index in st.tl
 	s          float64
+}
+
+// topicLocal is startExpected's data of one topic in the record's word
+// lists, together on one cache line's half: α_k, φ⁰_k and the expected
+// counts of its two steps.
+type topicLocal struct {
+	alpha, phi0, e0, e1 float64
 }
 
 // nextGen starts a new hierarchy walk.
@@ -892,7 +944,7 @@ func (a *Annotator) fillRow(st *state, k int32) {
 // group regroups the word lists of the record's word types by topic (one
 // linked list per topic, in one pass), so that a new slot finds the
 // record's words its topic holds without reading the topic's whole row.
-func (a *Annotator) group(st *state, T int) {
+func (a *Annotator) group(st *state, T int, exp bool) {
 	bent := slices.Grow(st.bent[:0], T)[:T]
 	// Load each list's first entry up front: these loads do not depend on
 	// each other, so the memory system serves them together, where the
@@ -908,6 +960,30 @@ func (a *Annotator) group(st *state, T int) {
 	// state's slice headers.
 	bh, bT := st.bh, st.bT
 	i := int32(0)
+	if exp {
+		// The same, adding each word's own expected counts to e0:
+		// n_u·α_k·s_kw/A_w (startExpected).
+		tl, alpha, phi0, tk := st.tl[:0], a.alpha, a.phi0, st.tk
+		for u, w := range st.uw {
+			f := float64(st.ucnt[u]) / st.awu[u]
+			for _, e := range a.ent[a.off[w]:a.off[w+1]] {
+				k := e.k
+				h := bh[k]
+				if h == 0 {
+					bT = append(bT, k)
+					tk[k] = int32(len(tl))
+					tl = append(tl, topicLocal{alpha: alpha[k], phi0: phi0[k]})
+				}
+				t := tk[k]
+				bent[i] = bEntry{u: int32(u), k: k, next: h - 1, t: t, s: e.s}
+				i++
+				bh[k] = i
+				tl[t].e0 += f * tl[t].alpha * e.s
+			}
+		}
+		st.bent, st.bT, st.tl = bent, bT, tl
+		return
+	}
 	for u, w := range st.uw {
 		for _, e := range a.ent[a.off[w]:a.off[w+1]] {
 			k := e.k
@@ -953,33 +1029,6 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 		st.ucnt[u]++
 		st.tu = append(st.tu, u)
 	}
-	N := len(st.tu)
-	res.Tokens = N
-	T := 0
-	for _, w := range st.uw {
-		T += int(a.off[w+1] - a.off[w])
-	}
-	st.rows = T > a.maxList*len(st.uw)
-	if st.rows {
-		for u := range st.uw {
-			st.usort = append(st.usort, int32(u))
-		}
-		slices.SortFunc(st.usort, func(x, y int32) int { return int(st.uw[x] - st.uw[y]) })
-	} else {
-		a.group(st, T)
-		// A word type's slots are at most the topics of its list: carve
-		// every type's nz and wacc out of one array, so that no append
-		// moves them and they sit together.
-		st.nzf = slices.Grow(st.nzf[:0], T)[:T]
-		st.waccf = slices.Grow(st.waccf[:0], T)[:T]
-		o := 0
-		for u, w := range st.uw {
-			n := int(a.off[w+1] - a.off[w])
-			st.nz[u], st.wacc[u] = st.nzf[o:o:o+n], st.waccf[o:o:o+n]
-			o += n
-		}
-	}
-
 	// Known subjects.
 	var subj []int32
 	for _, iri := range opt.Subjects {
@@ -989,6 +1038,39 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 			res.UnknownSubjects = append(res.UnknownSubjects, iri)
 		}
 	}
+	N := len(st.tu)
+	res.Tokens = N
+	T := 0
+	for _, w := range st.uw {
+		T += int(a.off[w+1] - a.off[w])
+	}
+	st.rows = T > a.maxList*len(st.uw)
+	// Grouped records without known subjects start from the others'
+	// expected counts (startExpected), which group begins.
+	expStart := !st.rows && len(subj) == 0 && !ownStart
+	if st.rows {
+		for u := range st.uw {
+			st.usort = append(st.usort, int32(u))
+		}
+		slices.SortFunc(st.usort, func(x, y int32) int { return int(st.uw[x] - st.uw[y]) })
+	} else {
+		a.group(st, T, expStart)
+		// A word type's slots are at most the topics of its list: carve
+		// every type's nz and wacc out of one array, so that no append
+		// moves them and they sit together.
+		st.nzf = slices.Grow(st.nzf[:0], T)[:T]
+		st.waccf = slices.Grow(st.waccf[:0], T)[:T]
+		st.un = slices.Grow(st.un[:0], len(st.uw))[:len(st.uw)]
+		st.uo = slices.Grow(st.uo[:0], len(st.uw))[:len(st.uw)]
+		o := 0
+		for u, w := range st.uw {
+			n := int(a.off[w+1] - a.off[w])
+			st.nz[u], st.wacc[u] = st.nzf[o:o:o+n], st.waccf[o:o:o+n]
+			st.un[u], st.uo[u] = int32(n), int32(o)
+			o += n
+		}
+	}
+
 	st.allow = false
 	if len(subj) > 0 {
 		switch opt.SubjectMode {
@@ -1045,12 +1127,21 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 	rng := &splitMix{binary.LittleEndian.Uint64(seed[:8])}
 
 	burn, samples := opt.BurnIn, opt.Samples
-	if burn <= 0 {
+	switch {
+	case burn < 0:
+		burn = 0
+	case burn == 0 && expStart:
+		burn = ExpectedBurnIn
+	case burn == 0:
 		burn = DefaultBurnIn
 	}
 	if samples <= 0 {
 		samples = DefaultSamples
+		if expStart {
+			samples = ExpectedSamples
+		}
 	}
+	st.samples = samples
 	if cap(st.z) < N {
 		st.z = make([]int32, N)
 	}
@@ -1070,8 +1161,12 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 			st.d += st.cs[s] * st.phi0s[s]
 		}
 		if sweep == 0 {
-			for i, u := range st.tu {
-				st.z[i] = a.draw(st, u, rng, false)
+			if expStart {
+				a.startExpected(st, rng)
+			} else {
+				for i, u := range st.tu {
+					st.z[i] = a.draw(st, u, rng, false)
+				}
 			}
 			for i := range st.tu {
 				a.add(st, st.z[i], 1)
@@ -1921,5 +2016,91 @@ func (a *Annotator) words(res *Result, text string, toks []terms.Token, st *stat
 		}
 		res.Words = append(res.Words, Word{Start: t.Start, End: t.End, Text: surface, Term: t.Term,
 			Concept: ch[u].iri, P: ch[u].p})
+	}
+}
+
+// startExpected draws every token's first topic given the others' expected
+// topic counts (grouped mode, no known subjects; see Start in the package
+// comment). group has put E⁰_k = Σ_u n_u·α_k·s_kw/A_w, the record's
+// expected tokens per topic from each word's own posterior (its list
+// part), in st.tl. Each step is one pass over the record's entries.
+func (a *Annotator) startExpected(st *state, rng *splitMix) {
+	T, U := len(st.bent), len(st.uw)
+	if cap(st.startW) < T {
+		st.startW = make([]float64, T)
+	}
+	g := st.startW[:T]
+	if cap(st.startZ) < U {
+		st.startZ = make([]float64, U)
+	}
+	Z := st.startZ[:U]
+	tl, q := st.tl, a.q
+	bent := st.bent
+	// One step: v_k = (E0_k - own + α_k)·φ_kw on the word's list, own =
+	// the token's own share α_k·s_kw/A_w; the rest (q) as α_k·φ⁰_k over
+	// all topics. Then E1 from these weights.
+	o := 0
+	for u := range st.uw {
+		n := int(st.un[u])
+		inv := 1 / st.awu[u]
+		z := q
+		es := bent[o : o+n]
+		gs := g[o : o+n]
+		for j := range es {
+			e := &es[j]
+			t := &tl[e.t]
+			v := (t.e0 - t.alpha*e.s*inv + t.alpha) * (t.phi0 + e.s)
+			if v < 0 {
+				v = 0
+			}
+			gs[j] = v
+			z += v
+		}
+		Z[u] = z
+		f := float64(st.ucnt[u]) / z
+		for j := range es {
+			tl[es[j].t].e1 += f * gs[j]
+		}
+		o += n
+	}
+	// Second step, from E1, kept as running sums per word type.
+	o = 0
+	for u := range st.uw {
+		n := int(st.un[u])
+		inv := 1 / Z[u]
+		c := 0.0
+		es := bent[o : o+n]
+		gs := g[o : o+n]
+		for j := range es {
+			e := &es[j]
+			t := &tl[e.t]
+			v := (t.e1 - gs[j]*inv + t.alpha) * (t.phi0 + e.s)
+			if v > 0 {
+				c += v
+			}
+			gs[j] = c
+		}
+		Z[u] = c + q
+		st.uo[u] = int32(o)
+		o += n
+	}
+	for i, u := range st.tu {
+		o, n := int(st.uo[u]), int(st.un[u])
+		x := uniform(rng) * Z[u]
+		if n == 0 || x >= g[o+n-1] {
+			st.z[i] = a.dense.draw(rng)
+			continue
+		}
+		cum := g[o : o+n]
+		lo, hi := 0, n-1 // the first j with x < cum[j]
+		for lo < hi {
+			mid := int(uint(lo+hi) >> 1)
+			if x < cum[mid] {
+				hi = mid
+			} else {
+				lo = mid + 1
+			}
+		}
+		st.z[i] = bent[o+lo].k
 	}
 }

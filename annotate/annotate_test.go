@@ -380,7 +380,7 @@ func testDistributions(t *testing.T, maxList int) {
 		if math.Abs(sum-1) > 1e-9 {
 			t.Errorf("%+v: scores + uncovered = %.15f", opt, sum)
 		}
-		samples := float64(DefaultSamples)
+		samples := float64(st.samples)
 		// The sparse θ of summarise equals the dense sum of the word types'
 		// posteriors over all K topics.
 		th := a.thetaDense(st, samples)
@@ -1046,6 +1046,110 @@ func testConceptsOnly(t *testing.T, maxList int) {
 		}
 		if nonEmpty < 20 {
 			t.Errorf("%s: only %d of 30 texts had concepts", variant, nonEmpty)
+		}
+	}
+}
+
+// TestStartExpected: startExpected draws each token's first topic from the
+// two CVB0 steps of the package comment (Start), computed here densely over
+// all K topics from the model: 20,000 starts of a frozen record, each
+// word type's topic frequencies within 5 standard errors of the formula,
+// and group's E⁰ equal to its definition within 1e-12. Source: the
+// binomial standard error, no outside source.
+func TestStartExpected(t *testing.T) {
+	m := modeltest.Synthetic(modeltest.Options{Concepts: 30, Free: 4, Words: 200, WordsPerConcept: 15, Seed: 8})
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := rand.New(rand.NewPCG(9, 10))
+	ids := make([]int32, 30)
+	for i := range ids {
+		ids[i] = int32(r.IntN(40)) // repeats: word types with several tokens
+	}
+	_, toks := tokens(ids, m.Words)
+	st := a.get()
+	defer a.put(st)
+	if _, err := a.infer(&Result{}, "", toks, Options{}, st); err != nil {
+		t.Fatal(err)
+	}
+	if st.rows {
+		t.Fatal("want the grouped path")
+	}
+	K, U := a.K, len(st.uw)
+	// Dense: s_kw over all topics, E⁰, the two steps, the start's pmf.
+	s := make([][]float64, U)
+	e0 := make([]float64, K)
+	for u, w := range st.uw {
+		s[u] = make([]float64, K)
+		for k := 0; k < K; k++ {
+			s[u][k] = m.Phi(k, int(w)) - a.phi0[k]
+			if s[u][k] < 1e-15 {
+				s[u][k] = 0
+			}
+			e0[k] += float64(st.ucnt[u]) * m.Alpha[k] * s[u][k] / a.aw[w]
+		}
+	}
+	for _, k := range st.bT {
+		if got := st.tl[st.tk[k]].e0; math.Abs(got-e0[k]) > 1e-12*e0[k] {
+			t.Errorf("E⁰ of topic %d: %v, want %v", k, got, e0[k])
+		}
+	}
+	v1 := make([][]float64, U)
+	z1 := make([]float64, U)
+	e1 := make([]float64, K)
+	for u, w := range st.uw {
+		v1[u] = make([]float64, K)
+		z1[u] = a.q
+		for k := 0; k < K; k++ {
+			if s[u][k] > 0 {
+				v1[u][k] = (e0[k] - m.Alpha[k]*s[u][k]/a.aw[w] + m.Alpha[k]) * m.Phi(k, int(w))
+				z1[u] += v1[u][k]
+			}
+		}
+		for k := 0; k < K; k++ {
+			e1[k] += float64(st.ucnt[u]) * v1[u][k] / z1[u]
+		}
+	}
+	want := make([][]float64, U)
+	for u, w := range st.uw {
+		want[u] = make([]float64, K)
+		z2 := a.q
+		for k := 0; k < K; k++ {
+			if s[u][k] > 0 {
+				want[u][k] = max(0, (e1[k]-v1[u][k]/z1[u]+m.Alpha[k])*m.Phi(k, int(w)))
+				z2 += want[u][k]
+			}
+		}
+		for k := 0; k < K; k++ {
+			want[u][k] = (want[u][k] + m.Alpha[k]*a.phi0[k]) / z2
+		}
+	}
+	const n = 20000
+	got := make([][]float64, U)
+	for u := range got {
+		got[u] = make([]float64, K)
+	}
+	rng := &splitMix{77}
+	for i := 0; i < n; i++ {
+		for j := range st.tl {
+			st.tl[j].e1 = 0 // startExpected adds E¹ from zero
+		}
+		a.startExpected(st, rng)
+		for j, u := range st.tu {
+			got[u][st.z[j]]++
+		}
+	}
+	for u := range got {
+		draws := float64(n) * float64(st.ucnt[u])
+		for k := range got[u] {
+			p := want[u][k]
+			// The weights do not depend on the draws: every token's
+			// draw is independent.
+			se := math.Sqrt(p * (1 - p) / draws)
+			if d := math.Abs(got[u][k]/draws - p); d > 5*se+1e-4 {
+				t.Errorf("word type %d topic %d: drawn %.5f, want %.5f (se %.5f)", u, k, got[u][k]/draws, p, se)
+			}
 		}
 	}
 }

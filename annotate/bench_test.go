@@ -447,7 +447,9 @@ func exportIDs(b *testing.B, a *Annotator, path string, texts []string) {
 // chains per record (default 1; other seeds through seedSalt) and prints
 // their mean and standard deviation, so that a difference can be read
 // against the spread one chain gives. TG_ANN_SWEEPS picks the settings,
-// e.g. "3+6,2+6,1+6"; TG_ANN_CHAIN0 starts the seed salts elsewhere.
+// e.g. "-1+3,3+6" (burn-in -1: none); TG_ANN_CHAIN0 starts the seed salts
+// elsewhere; TG_ANN_OWNSTART=1 starts every record from its words' own
+// posteriors (the start before the expected counts').
 //
 //	TG_ANN_MODEL=.cache/annbench/debtags.grove TG_ANN_RECORDS=.cache/debtags/test.jsonl \
 //	    go test -run SweepsQuality -v ./annotate
@@ -477,7 +479,8 @@ func TestSweepsQuality(t *testing.T) {
 		}
 		return nil
 	})
-	settings := [][2]int{{2, 6}, {DefaultBurnIn, DefaultSamples}, {1, 7}, {3, 8}, {3, 16}, {10, 20}, {20, 40}}
+	// Burn-in -1: none.
+	settings := [][2]int{{-1, ExpectedSamples}, {-1, 2}, {-1, 4}, {-1, 6}, {DefaultBurnIn, DefaultSamples}, {10, 20}}
 	if v := os.Getenv("TG_ANN_SWEEPS"); v != "" {
 		settings = nil
 		for _, f := range strings.Split(v, ",") {
@@ -500,7 +503,8 @@ func TestSweepsQuality(t *testing.T) {
 			t.Fatalf("TG_ANN_CHAIN0 %q: want a count", v)
 		}
 	}
-	defer func() { seedSalt = 0 }()
+	ownStart = os.Getenv("TG_ANN_OWNSTART") != ""
+	defer func() { seedSalt, ownStart = 0, false }()
 	for _, c := range settings {
 		var ps []float64
 		t0 := time.Now()

@@ -101,7 +101,7 @@ func TestFittedBars(t *testing.T) {
 		if _, err := a.infer(&Result{Concepts: []Concept{}}, text, toks, Options{}, st); err != nil {
 			t.Fatal(err)
 		}
-		got := a.thetaDense(st, float64(DefaultSamples))
+		got := a.thetaDense(st, float64(st.samples))
 		a.put(st)
 		for b := range bars {
 			l1 += math.Abs(got[match[b]]-th[b]) / docs
