@@ -102,6 +102,8 @@ func (b *Bench) FlatStats() FlatStats {
 		f.WordAccepted += s.WordAccepted
 		f.SmoothProposals += s.SmoothProposals
 		f.SmoothAccepted += s.SmoothAccepted
+		f.DocProposals += s.DocProposals
+		f.DocAccepted += s.DocAccepted
 		wk.fst = FlatStats{}
 	}
 	return f

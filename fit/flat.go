@@ -44,7 +44,10 @@ package fit
 // generator, never on whether a word's hash exists or on its layout, so a
 // fit resumed from a checkpoint draws what the uninterrupted fit draws.
 
-import "unsafe"
+import (
+	"math"
+	"unsafe"
+)
 
 // Auto choice of the flat path (refresh).
 const (
@@ -69,30 +72,40 @@ var testFlat bool
 func (wk *worker) flatPrepare() {
 	st := wk.st
 	wk.flat, wk.smoothRej = false, false
+	wk.wm = nil
 	force := testFlat
 	if st.opt.useMH(st.K) || (!force && st.K < flatMinK) {
 		return
 	}
 	// Smoothing: acceptance s / Σ_k α_k β0/B_k.
-	var env, cmax, accW, n float64
+	var env, cmax, accW, accD, n float64
+	bmin := math.Inf(1)
 	for k := 0; k < st.K; k++ {
 		g := st.alpha[k] / st.B[k]
 		env += g
 		cmax = max(cmax, g)
+		bmin = min(bmin, st.B[k])
 	}
 	smooth := (wk.sCon + wk.sFree) / (env * st.beta0)
 	for k := 0; k < st.K; k++ {
 		nk := float64(wk.nk[k])
 		accW += nk * st.alpha[k] * wk.tp[k].inv
+		accD += nk * wk.tp[k].inv
 		n += nk
 	}
 	if n > 0 {
 		accW /= n * cmax
+		accD *= bmin / n
 	}
+	one := len(st.workers) == 1 && !wk.local
 	wk.smoothRej = force || smooth >= flatMinAccept
-	wk.flat = (force || accW >= flatMinAccept) && len(st.workers) == 1 && !wk.local
+	wk.flat = (force || accW >= flatMinAccept) && one
 	if wk.smoothRej {
 		wk.buildSmoothAlias()
+	}
+	// The word-major sweep: its doc part's acceptance is B_min/(n_k+B_k).
+	if one && !testNoWordMajor && (force || accD >= flatMinAccept) {
+		wk.wm = st.wmIndexBuild()
 	}
 	if !wk.flat {
 		return
@@ -338,4 +351,6 @@ type FlatStats struct {
 	WordAccepted    int64
 	SmoothProposals int64 // smoothing proposals
 	SmoothAccepted  int64
+	DocProposals    int64 // word-major sweep: doc-part proposals
+	DocAccepted     int64
 }

@@ -9,11 +9,20 @@ import (
 )
 
 // withFlat makes every state built during a test take the flat path and
-// rejection smoothing at every sweep, for every token.
+// rejection smoothing at every sweep, for every token, and with one worker
+// the word-major sweep (wordmajor.go) for the records without subjects.
 func withFlat(t *testing.T) {
 	t.Helper()
 	testFlat = true
 	t.Cleanup(func() { testFlat = false })
+}
+
+// withRecordMajor keeps the record-major sweep under withFlat, so that the
+// flat path draws every token.
+func withRecordMajor(t *testing.T) {
+	t.Helper()
+	testNoWordMajor = true
+	t.Cleanup(func() { testNoWordMajor = false })
 }
 
 // flatConditional lays the flat path's parts out per topic: the doc terms
@@ -301,9 +310,10 @@ func TestFlatDrawMatchesConditional(t *testing.T) {
 }
 
 // TestFlatGeweke is TestGeweke with the flat path and rejection smoothing
-// at every token. Source: Geweke 2004 (see TestGeweke).
+// at every token (record-major sweeps). Source: Geweke 2004 (see TestGeweke).
 func TestFlatGeweke(t *testing.T) {
 	withFlat(t)
+	withRecordMajor(t)
 	const m = 200000
 	zs := runGeweke(t, m, nil)
 	for j, z := range zs {
@@ -324,9 +334,13 @@ func TestFlatGeweke(t *testing.T) {
 
 // TestFlatResumeAndReproducible: with the flat path, one worker and a seed
 // give the same model bit for bit, and a fit resumed from a checkpoint ends
-// where the uninterrupted one does (TestResumeSameAsUninterrupted's setup).
+// where the uninterrupted one does (TestResumeSameAsUninterrupted's setup);
+// with word-major sweeps (one worker) and with record-major ones.
 func TestFlatResumeAndReproducible(t *testing.T) {
 	withFlat(t)
+	TestReproducible(t)
+	TestResumeSameAsUninterrupted(t)
+	withRecordMajor(t)
 	TestReproducible(t)
 	TestResumeSameAsUninterrupted(t)
 }

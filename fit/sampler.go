@@ -72,7 +72,12 @@ type worker struct {
 	aliasC    aliasTable // smoothing proposals over the concepts
 	aliasF    aliasTable // and over the free topics
 	fst       FlatStats  // counts of the flat path's draws
-	_         [64]byte
+
+	// Word-major sweep (wordmajor.go), chosen per sweep by flatPrepare.
+	wm     *wmIndex // nil: record-major sweep
+	qword  float64  // Σ_k α_k·n_kw/(n_k+B_k) of the word being swept
+	wmList []tc     // scratch for the word's list
+	_      [64]byte
 }
 
 func newWorker(st *state, r *rng, local bool) *worker {
@@ -85,11 +90,12 @@ func newWorker(st *state, r *rng, local bool) *worker {
 		st:      st,
 		r:       r,
 		local:   local,
-		tp:      make([]topic, K),
+		tp:      nil,
 		dtopics: make([]int32, 0, K), // never reallocated, never shared
 		qbuf:    make([]float64, K),
 		pbuf:    make([]float64, maxP),
 	}
+	wk.tp = hugeSlice[topic](K, wk)
 	for k := st.C; k < K; k++ {
 		wk.tp[k].allowed = true
 	}
@@ -532,6 +538,17 @@ func (st *state) sweepOnce() {
 	if len(st.workers) == 1 {
 		wk := st.workers[0]
 		wk.refresh()
+		if wk.wm != nil {
+			// Records with subjects record by record, then the others
+			// word by word: a fixed scan order (wordmajor.go).
+			for i := range st.docs {
+				if d := &st.docs[i]; d.subjects != nil {
+					wk.doc(d, false)
+				}
+			}
+			wk.wordMajor()
+			return
+		}
 		wk.shard(0, len(st.docs))
 		return
 	}

@@ -62,6 +62,7 @@ type state struct {
 	occStart  []int64
 	occ       []int64
 	zSnap     []int32
+	wm        *wmIndex // word-major sweep's index (wordmajor.go), built with occ
 	mscratch  []mergeScratch  // per merge partition (sampler.go)
 	wparts    []int           // word range of each merge partition
 	phaseEnds []time.Duration // scratch of the phase timers
@@ -453,6 +454,7 @@ func (wk *worker) initDoc(d *sdoc) {
 // rebuildCounts recomputes n_k and n_kw from z (after restoring a checkpoint).
 func (st *state) rebuildCounts() error {
 	st.occStart, st.occ = nil, nil // the MH sampler's word index follows words
+	st.wm = nil
 	for _, wk := range st.workers {
 		wk.mh = nil
 	}
