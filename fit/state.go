@@ -62,7 +62,7 @@ type state struct {
 	occStart  []int64
 	occ       []int64
 	zSnap     []int32
-	wm        *wmIndex // word-major sweep's index (wordmajor.go), built with occ
+	wm        *wmIndex        // word-major sweep's index (wordmajor.go), built with occ
 	mscratch  []mergeScratch  // per merge partition (sampler.go)
 	wparts    []int           // word range of each merge partition
 	phaseEnds []time.Duration // scratch of the phase timers
