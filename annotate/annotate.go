@@ -294,11 +294,12 @@ type Annotator struct {
 	// Per word w, entries ent[off[w]:off[w+1]] list the topics with
 	// s_kw > 0, sorted by topic, e.g. k 3 and 17, s 0.01 and 0.2 for a word
 	// that concept 3 names in a label and topic 17 used, and hold the
-	// word's alias table over α_k·s_kw, all in one array: a record's
-	// regrouping reads the word's entries, and its alias draws then find
-	// them in the cache.
+	// word's alias table over α_k·s_kw (with entP): a record's regrouping
+	// reads the word's entries, and its alias draws then find them in the
+	// cache.
 	off   []int32
 	ent   []wEntry
+	entP  []float64 // ent's alias keep-probabilities
 	aw    []float64 // A_w = q + Σ_k α_k·s_kw
 	awF   []float64 // Σ_{k ≥ C} α_k·φ_kw
 	best  []int32   // argmax over concepts k of α_k·φ_kw (-1: no concepts)
@@ -408,6 +409,7 @@ func New(m *model.Model) (*Annotator, error) {
 		a.off[w] = int32(total)
 	}
 	a.ent = make([]wEntry, total)
+	a.entP = make([]float64, total)
 	fill := slices.Clone(a.off[:W])
 	for k := 0; k < K; k++ {
 		var pr []model.WordWeight
@@ -481,7 +483,7 @@ func New(m *model.Model) (*Annotator, error) {
 		t := newAlias(buf, prob, al)
 		for i := range t.prob {
 			e := &a.ent[lo+int32(i)]
-			e.p, e.alt = t.prob[i], a.ent[lo+t.alias[i]].k
+			a.entP[lo+int32(i)], e.alt = t.prob[i], a.ent[lo+t.alias[i]].k
 		}
 		a.aw[w] = a.q + sumW
 		a.awF[w] = free
@@ -497,10 +499,12 @@ const defaultMaxList = 128
 
 // wEntry is entry i of a word w's list: topic k holds w with
 // s_kw = s > 0; as slot i of the word's alias table over α_k·s_kw it
-// keeps topic k with probability p, else takes topic alt.
+// keeps topic k with probability entP[i], else takes topic alt. The
+// probabilities sit apart: a record reads every entry of its words' lists
+// (group), in 16 bytes each, but seldom draws from the alias tables.
 type wEntry struct {
 	k, alt int32
-	s, p   float64
+	s      float64
 }
 
 // Model returns the annotator's model.
@@ -829,7 +833,7 @@ type bEntry struct {
 
 // topicLocal is startExpected's data of one topic in the record's word
 // lists, together on one cache line's half: α_k, φ⁰_k and the expected
-// counts of its two steps.
+// counts of its two steps plus α_k.
 type topicLocal struct {
 	alpha, phi0, e0, e1 float64
 }
@@ -966,32 +970,40 @@ func (a *Annotator) group(st *state, T int, exp bool) {
 		tl, alpha, phi0, tk := st.tl[:0], a.alpha, a.phi0, st.tk
 		for u, w := range st.uw {
 			f := float64(st.ucnt[u]) / st.awu[u]
-			for _, e := range a.ent[a.off[w]:a.off[w+1]] {
-				k := e.k
+			lst := a.ent[a.off[w]:a.off[w+1]]
+			out := bent[i:][:len(lst)]
+			for j := range lst {
+				k, sk := lst[j].k, lst[j].s
 				h := bh[k]
 				if h == 0 {
 					bT = append(bT, k)
 					tk[k] = int32(len(tl))
-					tl = append(tl, topicLocal{alpha: alpha[k], phi0: phi0[k]})
+					ak := alpha[k]
+					tl = append(tl, topicLocal{alpha: ak, phi0: phi0[k], e0: ak, e1: ak})
 				}
 				t := tk[k]
-				bent[i] = bEntry{u: int32(u), k: k, next: h - 1, t: t, s: e.s}
+				b := &out[j]
+				b.u, b.k, b.next, b.t, b.s = int32(u), k, h-1, t, sk
 				i++
 				bh[k] = i
-				tl[t].e0 += f * tl[t].alpha * e.s
+				l := &tl[t]
+				l.e0 += f * l.alpha * sk
 			}
 		}
 		st.bent, st.bT, st.tl = bent, bT, tl
 		return
 	}
 	for u, w := range st.uw {
-		for _, e := range a.ent[a.off[w]:a.off[w+1]] {
-			k := e.k
+		lst := a.ent[a.off[w]:a.off[w+1]]
+		out := bent[i:][:len(lst)]
+		for j := range lst {
+			k := lst[j].k
 			h := bh[k]
 			if h == 0 {
 				bT = append(bT, k)
 			}
-			bent[i] = bEntry{u: int32(u), k: k, next: h - 1, s: e.s}
+			b := &out[j]
+			b.u, b.k, b.next, b.s = int32(u), k, h-1, lst[j].s
 			i++
 			bh[k] = i
 		}
@@ -1326,7 +1338,7 @@ func (a *Annotator) draw(st *state, u int32, rng *splitMix, record bool) int32 {
 		i = int(n) - 1
 	}
 	e := &a.ent[lo+int32(i)]
-	if x-float64(i) < e.p {
+	if x-float64(i) < a.entP[lo+int32(i)] {
 		return e.k
 	}
 	return e.alt
@@ -2038,7 +2050,7 @@ func (a *Annotator) startExpected(st *state, rng *splitMix) {
 	bent := st.bent
 	// One step: v_k = (E0_k - own + α_k)·φ_kw on the word's list, own =
 	// the token's own share α_k·s_kw/A_w; the rest (q) as α_k·φ⁰_k over
-	// all topics. Then E1 from these weights.
+	// all topics. Then E1 from these weights. tl's e0 and e1 start at α_k.
 	o := 0
 	for u := range st.uw {
 		n := int(st.un[u])
@@ -2049,7 +2061,7 @@ func (a *Annotator) startExpected(st *state, rng *splitMix) {
 		for j := range es {
 			e := &es[j]
 			t := &tl[e.t]
-			v := (t.e0 - t.alpha*e.s*inv + t.alpha) * (t.phi0 + e.s)
+			v := (t.e0 - t.alpha*e.s*inv) * (t.phi0 + e.s)
 			if v < 0 {
 				v = 0
 			}
@@ -2074,7 +2086,7 @@ func (a *Annotator) startExpected(st *state, rng *splitMix) {
 		for j := range es {
 			e := &es[j]
 			t := &tl[e.t]
-			v := (t.e1 - gs[j]*inv + t.alpha) * (t.phi0 + e.s)
+			v := (t.e1 - gs[j]*inv) * (t.phi0 + e.s)
 			if v > 0 {
 				c += v
 			}

@@ -134,10 +134,11 @@ func (a *Annotator) conditional(st *state, u int32) []float64 {
 			p[k] += a.q * d
 		}
 		lo, hi := a.off[w], a.off[w+1]
-		for _, e := range a.ent[lo:hi] {
+		for i, e := range a.ent[lo:hi] {
 			n := float64(hi - lo)
-			p[e.k] += (aw - a.q) * e.p / n
-			p[e.alt] += (aw - a.q) * (1 - e.p) / n
+			pk := a.entP[int(lo)+i]
+			p[e.k] += (aw - a.q) * pk / n
+			p[e.alt] += (aw - a.q) * (1 - pk) / n
 		}
 	}
 	for k := range p {
@@ -1091,7 +1092,7 @@ func TestStartExpected(t *testing.T) {
 		}
 	}
 	for _, k := range st.bT {
-		if got := st.tl[st.tk[k]].e0; math.Abs(got-e0[k]) > 1e-12*e0[k] {
+		if got := st.tl[st.tk[k]].e0 - m.Alpha[k]; math.Abs(got-e0[k]) > 1e-12*(e0[k]+m.Alpha[k]) { // e0 holds α_k + E⁰_k
 			t.Errorf("E⁰ of topic %d: %v, want %v", k, got, e0[k])
 		}
 	}
@@ -1133,7 +1134,7 @@ func TestStartExpected(t *testing.T) {
 	rng := &splitMix{77}
 	for i := 0; i < n; i++ {
 		for j := range st.tl {
-			st.tl[j].e1 = 0 // startExpected adds E¹ from zero
+			st.tl[j].e1 = st.tl[j].alpha // startExpected adds E¹ to α_k
 		}
 		a.startExpected(st, rng)
 		for j, u := range st.tu {
