@@ -711,7 +711,7 @@ func (a *Annotator) get() *state {
 	}
 	st := &state{ndk: make([]int32, a.K), ext: make([]float64, a.K), slot: make([]int32, a.K),
 		th: make([]float64, a.K), agg: make([]float64, a.C), mark: make([]uint32, a.C),
-		bh: make([]int32, a.K), bhas: make([]bool, a.K), uOf: make([]int32, len(a.m.Words)), tk: make([]int32, a.K)}
+		bh: make([]int32, a.K), bhas: make([]bool, a.K), uOf: make([]int32, len(a.m.Words))}
 	for k := range st.slot {
 		st.slot[k] = -1
 	}
@@ -966,7 +966,11 @@ func (a *Annotator) group(st *state, T int, exp bool) {
 	i := int32(0)
 	if exp {
 		// The same, adding each word's own expected counts to e0:
-		// n_u·α_k·s_kw/A_w (startExpected).
+		// n_u·α_k·s_kw/A_w (startExpected), with α_k, the same for all
+		// of a topic's entries, multiplied in at the end.
+		if len(st.tk) < a.K { // grouped records only: not for a row-mode state
+			st.tk = make([]int32, a.K)
+		}
 		tl, alpha, phi0, tk := st.tl[:0], a.alpha, a.phi0, st.tk
 		for u, w := range st.uw {
 			f := float64(st.ucnt[u]) / st.awu[u]
@@ -979,16 +983,18 @@ func (a *Annotator) group(st *state, T int, exp bool) {
 					bT = append(bT, k)
 					tk[k] = int32(len(tl))
 					ak := alpha[k]
-					tl = append(tl, topicLocal{alpha: ak, phi0: phi0[k], e0: ak, e1: ak})
+					tl = append(tl, topicLocal{alpha: ak, phi0: phi0[k], e1: ak})
 				}
 				t := tk[k]
 				b := &out[j]
 				b.u, b.k, b.next, b.t, b.s = int32(u), k, h-1, t, sk
 				i++
 				bh[k] = i
-				l := &tl[t]
-				l.e0 += f * l.alpha * sk
+				tl[t].e0 += f * sk
 			}
+		}
+		for j := range tl { // E⁰_k = α_k·Σ_u f_u·s_kw, plus α_k
+			tl[j].e0 = tl[j].alpha * (1 + tl[j].e0)
 		}
 		st.bent, st.bT, st.tl = bent, bT, tl
 		return
