@@ -694,8 +694,8 @@ type state struct {
 	// concepts' decision values.
 	wSeq []int32 // the record's known words in text order
 	wIdx []int32
-	wCnt []int32
 	wVal []float32
+	wSc  model.VectorScratch
 	wd   []float64
 
 	startW, startZ []float64
@@ -1545,7 +1545,7 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 	calOn := !st.allow && !opt.Uncalibrated && a.m.Calibration != nil
 	switch {
 	case calOn && a.m.WordLayer != nil:
-		cand, score = a.wordScores(st, score) // wordlayer.go
+		cand, score = a.wordScores(st, text, toks, score) // wordlayer.go
 	case calOn:
 		cand, score = a.calibrated(st, cand, score, want, norm, rbF) // calibrate.go
 	}

@@ -32,15 +32,12 @@ import (
 
 // wordScores returns the ranking candidates (every concept) and the
 // combined score, for a calibrated model with a word layer. score gives
-// the raw score (share plus related boost).
-func (a *Annotator) wordScores(st *state, score func(int32) float64) ([]int32, func(int32) float64) {
+// the raw score (share plus related boost); toks are text's tokens.
+func (a *Annotator) wordScores(st *state, text string, toks []terms.Token, score func(int32) float64) ([]int32, func(int32) float64) {
 	l, cal := a.m.WordLayer, a.m.Calibration
-	st.wSeq = st.wSeq[:0]
-	for _, u := range st.tu {
-		st.wSeq = append(st.wSeq, st.uw[u])
-	}
-	st.wIdx, st.wCnt = model.Features(st.wSeq, len(a.m.Words), l.Bigrams, st.wIdx, st.wCnt)
-	st.wIdx, st.wVal = model.WordVector(st.wIdx, st.wCnt, l.IDF, st.wIdx, st.wVal)
+	var lead int
+	st.wSeq, lead = knownWords(text, toks, len(a.m.Words), st.wSeq[:0])
+	st.wIdx, st.wVal = l.Vector(st.wSeq, lead, len(a.m.Words), &st.wSc, st.wIdx, st.wVal)
 	if len(st.wd) < a.C {
 		st.wd = make([]float64, a.C)
 	}
@@ -116,8 +113,9 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 	errs := make([]error, len(texts))
 	each(len(texts), opt.Workers, func() func(int) {
 		var toks []terms.Token
-		var seq, ids, cnt []int32
+		var seq, ids []int32
 		var val []float32
+		var sc model.VectorScratch
 		return func(i int) {
 			t := &texts[i]
 			errs[i] = a.rawScores(t, opt.CalibrateOptions, x[i*C:(i+1)*C], y[i*C:(i+1)*C], &use[i])
@@ -125,14 +123,9 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 				return
 			}
 			toks = a.analyze(t.Text, t.Language, toks[:0])
-			seq = seq[:0]
-			for _, tk := range toks { // as infer: unknown words left out
-				if tk.ID >= 0 && int(tk.ID) < len(m.Words) {
-					seq = append(seq, tk.ID)
-				}
-			}
-			ids, cnt = model.Features(seq, len(m.Words), held.Bigrams, ids, cnt)
-			ids, val = model.WordVector(ids, cnt, held.IDF, ids, val)
+			var lead int
+			seq, lead = knownWords(t.Text, toks, len(m.Words), seq[:0])
+			ids, val = held.Vector(seq, lead, len(m.Words), &sc, ids, val)
 			held.Decision(ids, val, d[i*C:(i+1)*C])
 		}
 	})
@@ -183,6 +176,22 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 	l.ScaleA, l.ScaleB = p.fit(0, 1, 0)
 	l.Tuned = len(rows)
 	return nil
+}
+
+// knownWords appends to seq the ids of toks the model knows (below W; as
+// infer, unknown words left out) in text order, and returns how many of
+// them come from text's lead paragraph (model.LeadEnd).
+func knownWords(text string, toks []terms.Token, W int, seq []int32) ([]int32, int) {
+	end, lead := model.LeadEnd(text), 0
+	for _, tk := range toks {
+		if tk.ID >= 0 && int(tk.ID) < W {
+			seq = append(seq, tk.ID)
+			if tk.Start < end {
+				lead++
+			}
+		}
+	}
+	return seq, lead
 }
 
 // analyze runs the model's analysis of text in language lang as Annotate

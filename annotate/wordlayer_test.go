@@ -17,18 +17,29 @@ import (
 // log-odds of the raw score the same annotation gives uncalibrated. Common
 // practice, no source: the definition in model.WordLayer, recomputed here.
 func TestWordScoresFormula(t *testing.T) {
+	for _, lead := range []float64{0, 0.7} {
+		wordScoresFormula(t, lead)
+	}
+}
+
+// wordScoresFormula checks the formula for a layer with lead weight lead:
+// with one, the text's words before its first blank line have a second
+// vector over features W..2W−1, of length lead.
+func wordScoresFormula(t *testing.T, lead float64) {
 	m := modeltest.Synthetic(modeltest.Options{Concepts: 40, Free: 3, Words: 600, WordsPerConcept: 20, Seed: 21})
 	r := rand.New(rand.NewPCG(1, 2))
 	W := len(m.Words)
 	cal := &model.Calibration{A: make([]float64, m.C), B: make([]float64, m.C)}
-	l := &model.WordLayer{Version: model.WordLayerVersion, IDF: make([]float32, W), Start: make([]int32, W+1),
+	l := &model.WordLayer{Version: model.WordLayerVersion, Lead: lead,
 		Bias: make([]float32, m.C), LnFreq: make([]float32, m.C), TopicWeight: 0.3, FreqWeight: 0.05, ScaleA: 1.7, ScaleB: -0.4}
+	D := l.Dim(W)
+	l.IDF, l.Start = make([]float32, D), make([]int32, D+1)
 	for k := range cal.A {
 		cal.A[k], cal.B[k] = 0.5+r.Float64(), 2*r.Float64()-1
 		l.Bias[k] = float32(r.Float64() - 1)
 		l.LnFreq[k] = float32(math.Log1p(float64(r.IntN(100))))
 	}
-	for w := 0; w < W; w++ {
+	for w := 0; w < D; w++ {
 		if w%7 != 0 {
 			l.IDF[w] = float32(1 + 3*r.Float64())
 		}
@@ -50,14 +61,22 @@ func TestWordScoresFormula(t *testing.T) {
 		t.Fatal(err)
 	}
 	for trial := 0; trial < 10; trial++ {
-		counts := map[int32]int32{}
+		counts, leadCounts := map[int32]int32{}, map[int32]int32{}
 		var words []string
-		for i := 0; i < 5+trial*4; i++ {
+		n := 5 + trial*4
+		cut := r.IntN(n + 1) // words before the blank line (n: none)
+		for i := 0; i < n; i++ {
 			w := int32(r.IntN(W))
 			counts[w]++
+			if i < cut || cut == n {
+				leadCounts[w]++
+			}
 			words = append(words, m.Words[w])
 		}
 		text := strings.Join(words, " ")
+		if cut < n {
+			text = strings.Join(words[:cut], " ") + "\n\n" + strings.Join(words[cut:], " ")
+		}
 		raw, err := a.Annotate("t", text, Options{Top: -1, Samples: 5, Uncalibrated: true})
 		if err != nil {
 			t.Fatal(err)
@@ -69,23 +88,34 @@ func TestWordScoresFormula(t *testing.T) {
 		if len(got.Concepts) != m.C {
 			t.Fatalf("trial %d: %d concepts ranked, want all %d", trial, len(got.Concepts), m.C)
 		}
-		// x_w = (1 + ln tf)·idf, unit length.
-		var ss float64
+		// x_w = (1 + ln tf)·idf, unit length; the lead part the same over
+		// the lead's words, features from W on, length lead.
 		x := map[int32]float64{}
-		for w, n := range counts {
-			if l.IDF[w] > 0 {
-				x[w] = (1 + math.Log(float64(n))) * float64(l.IDF[w])
-				ss += x[w] * x[w]
+		part := func(counts map[int32]int32, base int32, length float64) {
+			var ss float64
+			px := map[int32]float64{}
+			for w, n := range counts {
+				if f := base + w; l.IDF[f] > 0 {
+					px[f] = (1 + math.Log(float64(n))) * float64(l.IDF[f])
+					ss += px[f] * px[f]
+				}
 			}
+			for f, v := range px {
+				x[f] = v / math.Sqrt(ss) * length
+			}
+		}
+		part(counts, 0, 1)
+		if lead > 0 {
+			part(leadCounts, int32(W), lead)
 		}
 		want := map[string]float64{}
 		for _, c := range raw.Concepts {
 			k, _ := m.ConceptIndex(c.IRI)
 			d := float64(l.Bias[k])
-			for w, v := range x {
-				for j := l.Start[w]; j < l.Start[w+1]; j++ {
+			for f, v := range x {
+				for j := l.Start[f]; j < l.Start[f+1]; j++ {
 					if int(l.Concept[j]) == k {
-						d += v / math.Sqrt(ss) * float64(l.Weight[j])
+						d += v * float64(l.Weight[j])
 					}
 				}
 			}
@@ -95,7 +125,7 @@ func TestWordScoresFormula(t *testing.T) {
 		}
 		for i, c := range got.Concepts {
 			if math.Abs(c.Score-want[c.IRI]) > 1e-6 {
-				t.Fatalf("trial %d: %s scores %v, formula %v", trial, c.IRI, c.Score, want[c.IRI])
+				t.Fatalf("lead %v, trial %d: %s scores %v, formula %v", lead, trial, c.IRI, c.Score, want[c.IRI])
 			}
 			if i > 0 && c.Score > got.Concepts[i-1].Score {
 				t.Fatalf("trial %d: not ranked at %d", trial, i)

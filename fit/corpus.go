@@ -4,6 +4,7 @@ import (
 	"strconv"
 
 	"termgrove/concepts"
+	"termgrove/model"
 	"termgrove/terms"
 )
 
@@ -57,9 +58,13 @@ func (b *CorpusBuilder) AddLang(id, text, lang string, subjects []string, date s
 		}
 		d.Subjects = append(d.Subjects, int32(k))
 	}
+	end := model.LeadEnd(text)
 	for _, t := range toks {
 		if t.ID >= 0 {
 			d.Words = append(d.Words, t.ID)
+			if t.Start < end {
+				d.Lead++
+			}
 		}
 	}
 	if len(d.Words) == 0 {

@@ -20,11 +20,14 @@ func TestCorpusBuilder(t *testing.T) {
 	if ok, unk := b.Add("r1", "Water mills and weirs", []string{"http://ex.org/b", "http://ex.org/zzz"}, "1905-01-01"); !ok || len(unk) != 1 || unk[0] != "http://ex.org/zzz" {
 		t.Fatalf("r1: added %v, unknown %v", ok, unk)
 	}
+	if ok, _ := b.Add("r3", "Water mills\n\nThe weirs and the mills of the river", nil, ""); !ok {
+		t.Fatal("r3 not added")
+	}
 	if ok, _ := b.Add("r2", "   ", nil, ""); ok {
 		t.Fatal("a record without text was added")
 	}
 	c := b.Finish()
-	if len(c.Docs) != 1 || b.Empty != 1 || b.UnknownSubjects != 1 || b.Records != 1 {
+	if len(c.Docs) != 2 || b.Empty != 1 || b.UnknownSubjects != 1 || b.Records != 2 {
 		t.Fatalf("docs %d, empty %d, unknown %d", len(c.Docs), b.Empty, b.UnknownSubjects)
 	}
 	d := c.Docs[0]
@@ -35,5 +38,12 @@ func TestCorpusBuilder(t *testing.T) {
 		if w < 0 || int(w) >= c.W {
 			t.Fatalf("word id %d outside [0,%d)", w, c.W)
 		}
+	}
+	// The lead paragraph: the words before the first blank line, or all.
+	if int(d.Lead) != len(d.Words) {
+		t.Errorf("one paragraph: lead %d of %d words", d.Lead, len(d.Words))
+	}
+	if d3 := c.Docs[1]; d3.Lead != 2 || len(d3.Words) != 5 || d3.Words[1] != d3.Words[3] {
+		t.Errorf("two paragraphs: lead %d, words %v", d3.Lead, d3.Words)
 	}
 }

@@ -75,6 +75,10 @@ type Doc struct {
 	Words    []int32
 	Subjects []int32 // concept indices; empty: the record may use every topic
 	Year     int
+	// Lead is how many of Words come from the text's lead paragraph
+	// (model.LeadEnd: a record's title when fields are joined); the word
+	// layer learns from them apart.
+	Lead int32
 }
 
 // Corpus is the bag of records to fit. W is the number of word types; every

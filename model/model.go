@@ -47,6 +47,7 @@ import (
 	"path/filepath"
 	"slices"
 	"sort"
+	"strings"
 
 	"termgrove/concepts"
 	"termgrove/terms"
@@ -154,8 +155,9 @@ func (c *Calibration) Apply(k int, s float64) float64 {
 	return 1 / (1 + math.Exp(-z))
 }
 
-// WordLayerVersion is the WordLayer layout this build writes and reads.
-const WordLayerVersion = 1
+// WordLayerVersion is the WordLayer layout this build writes; it reads
+// this one and version 1 (before lead features: Lead 0).
+const WordLayerVersion = 2
 
 // WordLayer is a per-concept linear model over a record's words (a
 // one-vs-rest linear SVM, linear.OneVsRest, trained on the records people
@@ -176,10 +178,17 @@ const WordLayerVersion = 1
 // and reports σ(ScaleA·v_k + ScaleB). FreqWeight lowers concepts people
 // assign often, which spreads the suggestions over more concepts (macro
 // F1); both weights and the scale are learned on records people indexed.
+//
+// With Lead > 0 a record's vector has a second part: the same construction
+// over the words of its lead paragraph alone (LeadEnd: a record's first
+// field, the title, when records are joined), as features numbered from
+// W + Bigrams with their own IDF, scaled to length Lead. The words of a
+// title say more about a record's subjects than the same words further down.
 type WordLayer struct {
 	Version int
 	Bigrams int       // bigram buckets (0: words only)
-	IDF     []float32 // W + Bigrams: ln((1 + N)/(1 + df_w)) + 1, 0 for features in fewer than MinDF records
+	IDF     []float32 // Dim(W) features: ln((1 + N)/(1 + df_f)) + 1, 0 for features in fewer than MinDF records
+	Lead    float64   // length of the lead paragraph's part (0: none; version 1 files)
 	Start   []int32   // W + Bigrams + 1
 	Concept []int32   // weights' concepts, ascending within a word
 	Weight  []float32
@@ -1005,10 +1014,12 @@ func (l *WordLayer) validate(C, W int) error {
 	if l.Bigrams < 0 || l.Bigrams > 1<<26 {
 		return fmt.Errorf("%d bigram buckets", l.Bigrams)
 	}
-	W += l.Bigrams
+	W = l.Dim(W)
 	switch {
-	case l.Version != WordLayerVersion:
-		return fmt.Errorf("%w: word layer version %d, this build reads %d", ErrVersion, l.Version, WordLayerVersion)
+	case l.Version != WordLayerVersion && l.Version != 1:
+		return fmt.Errorf("%w: word layer version %d, this build reads 1 and %d", ErrVersion, l.Version, WordLayerVersion)
+	case l.Version == 1 && l.Lead != 0, !finite(l.Lead) || l.Lead < 0:
+		return fmt.Errorf("version %d layer with lead weight %v", l.Version, l.Lead)
 	case len(l.IDF) != W || len(l.Start) != W+1:
 		return fmt.Errorf("%d IDF values and %d feature starts for %d features", len(l.IDF), len(l.Start), W)
 	case len(l.Bias) != C || len(l.LnFreq) != C:
@@ -1037,6 +1048,55 @@ func (l *WordLayer) validate(C, W int) error {
 		}
 	}
 	return nil
+}
+
+// Dim is the number of features of a layer over W words: the words, the
+// bigram buckets and, with Lead > 0, the lead paragraph's words.
+func (l *WordLayer) Dim(W int) int {
+	if l.Lead > 0 {
+		return 2*W + l.Bigrams
+	}
+	return W + l.Bigrams
+}
+
+// LeadEnd is the byte offset where a text's lead paragraph ends: the first
+// blank line ("\n\n", which joins a record's fields), or the text's end.
+func LeadEnd(text string) int {
+	if i := strings.Index(text, "\n\n"); i >= 0 {
+		return i
+	}
+	return len(text)
+}
+
+// VectorScratch holds Vector's buffers for reuse.
+type VectorScratch struct {
+	ids, cnt, lids, lcnt []int32
+	lval                 []float32
+}
+
+// Vector writes the layer's vector of a record into idx and val (reused,
+// returned resliced): seq is the record's known word ids in text order
+// (each < W), the first lead of them from its lead paragraph. Without a
+// lead part it is WordVector of Features; with one, that vector followed by
+// the lead words' own (ids from W + Bigrams on, IDF from there) scaled to
+// length Lead. Indices come out ascending.
+func (l *WordLayer) Vector(seq []int32, lead, W int, sc *VectorScratch, idx []int32, val []float32) ([]int32, []float32) {
+	sc.ids, sc.cnt = Features(seq, W, l.Bigrams, sc.ids, sc.cnt)
+	idx, val = WordVector(sc.ids, sc.cnt, l.IDF, idx, val)
+	if l.Lead <= 0 || lead <= 0 {
+		return idx, val
+	}
+	base := int32(W + l.Bigrams)
+	sc.lids, sc.lcnt = Features(seq[:min(lead, len(seq))], W, 0, sc.lids, sc.lcnt)
+	for i := range sc.lids {
+		sc.lids[i] += base
+	}
+	sc.lids, sc.lval = WordVector(sc.lids, sc.lcnt, l.IDF, sc.lids, sc.lval)
+	for i, f := range sc.lids {
+		idx = append(idx, f)
+		val = append(val, float32(float64(sc.lval[i])*l.Lead))
+	}
+	return idx, val
 }
 
 // WordVector writes a record's word-layer vector into idx and val (reused,

@@ -426,7 +426,10 @@ func TestWordLayerRoundTrip(t *testing.T) {
 		t.Errorf("model without a word layer: %v, %v", got.WordLayer, err)
 	}
 	for name, bad := range map[string]func(l *model.WordLayer){
-		"version":      func(l *model.WordLayer) { l.Version = 2 },
+		"version":      func(l *model.WordLayer) { l.Version = model.WordLayerVersion + 1 },
+		"v1 with lead": func(l *model.WordLayer) { l.Version, l.Lead = 1, 0.5 },
+		"lead, no IDF": func(l *model.WordLayer) { l.Lead = 0.5 },
+		"NaN lead":     func(l *model.WordLayer) { l.Lead = math.NaN() },
 		"short IDF":    func(l *model.WordLayer) { l.IDF = l.IDF[1:] },
 		"concept":      func(l *model.WordLayer) { l.Concept = append([]int32{int32(m.C)}, l.Concept[1:]...) },
 		"NaN weight":   func(l *model.WordLayer) { l.ScaleA = math.NaN() },
@@ -439,9 +442,63 @@ func TestWordLayerRoundTrip(t *testing.T) {
 			t.Errorf("%s: bad word layer saved", name)
 		}
 	}
+	v1 := *l
+	v1.Version = 1 // before lead features: still read
+	m.WordLayer = &v1
+	if err := model.Save(p, m); err != nil {
+		t.Errorf("version 1 layer: %v", err)
+	} else if got, err := model.Load(p); err != nil || got.WordLayer.Version != 1 {
+		t.Errorf("version 1 layer loaded: %v", err)
+	}
 	m.WordLayer, m.Calibration = l, nil
 	if err := model.Save(p, m); err == nil {
 		t.Error("word layer without calibration saved")
+	}
+}
+
+// TestWordLayerVector: with a lead part a record's vector is the words'
+// unit TF-IDF vector followed by the lead words' own, over features from
+// W + Bigrams on with their IDF, of length Lead; without one (or an empty
+// lead) it is WordVector of Features. Common practice, no source: the
+// definition in model.WordLayer, recomputed here.
+func TestWordLayerVector(t *testing.T) {
+	const W = 6
+	l := &model.WordLayer{Lead: 0.5, IDF: make([]float32, 2*W)}
+	for f := range l.IDF {
+		l.IDF[f] = float32(1 + f%4)
+	}
+	l.IDF[2] = 0   // word 2 left out of the body part
+	l.IDF[W+1] = 0 // word 1 left out of the lead part
+	seq := []int32{1, 4, 1, 2, 5, 4, 4}
+	var sc model.VectorScratch
+	idx, val := l.Vector(seq, 3, W, &sc, nil, nil)
+	// body: words 1 (×2), 4 (×3), 5; lead (1, 4, 1): word 4 only.
+	b1, b4, b5 := (1+math.Log(2))*2, (1+math.Log(3))*1, 2.0
+	n := math.Sqrt(b1*b1 + b4*b4 + b5*b5)
+	wantIdx := []int32{1, 4, 5, W + 4}
+	wantVal := []float64{b1 / n, b4 / n, b5 / n, 0.5}
+	if !reflect.DeepEqual(idx, wantIdx) {
+		t.Fatalf("features %v, want %v", idx, wantIdx)
+	}
+	for i := range val {
+		if math.Abs(float64(val[i])-wantVal[i]) > 1e-6 {
+			t.Errorf("feature %d: %v, want %v", idx[i], val[i], wantVal[i])
+		}
+	}
+	if l.Dim(W) != 2*W {
+		t.Errorf("Dim %d, want %d", l.Dim(W), 2*W)
+	}
+	for _, lead := range []int{0, 100} {
+		idx, _ = l.Vector(seq, lead, W, &sc, idx, val)
+		if lead == 0 && len(idx) != 3 || lead == 100 && len(idx) != 6 {
+			t.Errorf("lead %d: features %v", lead, idx)
+		}
+	}
+	if got := model.LeadEnd("title\n\nbody"); got != 5 {
+		t.Errorf("LeadEnd %d, want 5", got)
+	}
+	if got := model.LeadEnd("one paragraph"); got != 13 {
+		t.Errorf("LeadEnd of one paragraph %d, want its length", got)
 	}
 }
 

@@ -57,6 +57,7 @@ type fitFlags struct {
 	sampler           string
 	calibrate         int
 	wordLayer         bool
+	wordLead          float64
 }
 
 func cmdFit(args []string) int {
@@ -82,6 +83,7 @@ func cmdFit(args []string) int {
 	fl.StringVar(&f.fields, "fields", "title,text", "record fields to read, comma-separated")
 	fl.IntVar(&f.calibrate, "calibrate", defaultCalibrate, "learn the score calibration from up to `N` records people indexed: the held-out ones with --holdout, else a sample of the training records (0 = none)")
 	fl.BoolVar(&f.wordLayer, "word-layer", true, "with --calibrate, also train the discriminative word layer (a linear SVM per concept over the records' words) on the records people indexed, and learn how it combines with the topic scores")
+	fl.Float64Var(&f.wordLead, "word-lead", fit.DefaultWordLead, "weight of the word layer's second part over the words of a record's first field (the title; 0 = none)")
 	fl.BoolVar(&f.skipBad, "skip-bad", false, "skip records that are not JSON (counted) instead of stopping")
 	fl.BoolVar(&f.quiet, "quiet", false, "only the summary")
 	fl.BoolVar(&f.noProgress, "no-progress", false, "plain log lines even on a terminal")
@@ -112,8 +114,8 @@ func cmdFit(args []string) int {
 		return 2
 	}
 	// Written so that NaN fails too.
-	if f.free < 0 || f.sweeps < 1 || f.burnIn < 0 || !(f.holdout >= 0 && f.holdout < 1) || !(f.lambda >= 0) || f.workers < 1 || f.calibrate < 0 {
-		fmt.Fprintln(os.Stderr, "termgrove fit: --free-topics ≥ 0, --sweeps ≥ 1, --burn-in ≥ 0, --workers ≥ 1, --lambda ≥ 0, --calibrate ≥ 0 and 0 ≤ --holdout < 1")
+	if f.free < 0 || f.sweeps < 1 || f.burnIn < 0 || !(f.holdout >= 0 && f.holdout < 1) || !(f.lambda >= 0) || f.workers < 1 || f.calibrate < 0 || !(f.wordLead >= 0 && f.wordLead <= 10) {
+		fmt.Fprintln(os.Stderr, "termgrove fit: --free-topics ≥ 0, --sweeps ≥ 1, --burn-in ≥ 0, --workers ≥ 1, --lambda ≥ 0, --calibrate ≥ 0, 0 ≤ --holdout < 1 and 0 ≤ --word-lead ≤ 10")
 		return 2
 	}
 	if f.vocab == "-" && f.recs == "-" {
@@ -531,7 +533,10 @@ func (c *calibSample) add(r records.Record, fields []string) {
 // learns from every indexed record.
 func trainWordLayer(m *model.Model, corpus *fit.Corpus, texts []annotate.LabeledText, f *fitFlags, logf, warnf func(string, ...any)) error {
 	start := time.Now()
-	opt := fit.WordLayerOptions{Workers: f.workers, Words: len(m.Words), Seed: uint64(f.seed)}
+	opt := fit.WordLayerOptions{Workers: f.workers, Words: len(m.Words), Seed: uint64(f.seed), Lead: f.wordLead}
+	if f.wordLead == 0 {
+		opt.Lead = -1 // none
+	}
 	full, err := fit.TrainWordLayer(corpus, m.C, opt)
 	if errors.Is(err, fit.ErrNoIndexed) {
 		warnf("%v: no word layer", err)
@@ -555,7 +560,7 @@ func trainWordLayer(m *model.Model, corpus *fit.Corpus, texts []annotate.Labeled
 		m.WordLayer = nil
 		return err
 	}
-	logf("word layer: %d records, %d weights; topic weight %g, frequency weight %g, tuned on %d records (%.1f s)",
-		full.Records, len(full.Weight), full.TopicWeight, full.FreqWeight, full.Tuned, time.Since(start).Seconds())
+	logf("word layer: %d records, %d weights, lead weight %g; topic weight %g, frequency weight %g, tuned on %d records (%.1f s)",
+		full.Records, len(full.Weight), full.Lead, full.TopicWeight, full.FreqWeight, full.Tuned, time.Since(start).Seconds())
 	return nil
 }
