@@ -79,6 +79,17 @@ type Doc struct {
 	// (model.LeadEnd: a record's title when fields are joined); the word
 	// layer learns from them apart.
 	Lead int32
+	// Group, when set, keys the holdout instead of ID: records of one group
+	// (e.g. the packages built from one source) are held out together.
+	Group string
+}
+
+// HoldKey is what the holdout choice hashes: Group when set, else ID.
+func (d *Doc) HoldKey() string {
+	if d.Group != "" {
+		return d.Group
+	}
+	return d.ID
 }
 
 // Corpus is the bag of records to fit. W is the number of word types; every

@@ -153,8 +153,9 @@ func newState(p *prior.Prior, corpus *Corpus, opt Options) (*state, error) {
 	return st, nil
 }
 
-// holdout reports whether a record id falls in the held-out share. The
-// choice depends only on the id, so it is the same across runs.
+// holdout reports whether a record id (or group, Doc.HoldKey) falls in the
+// held-out share. The choice depends only on the id, so it is the same
+// across runs.
 func holdout(id string, frac float64) bool {
 	if frac <= 0 {
 		return false
@@ -181,7 +182,7 @@ func (st *state) buildDocs() error {
 				return fmt.Errorf("%w: record %q: word id %d not in [0,%d)", ErrBadCorpus, d.ID, w, st.W)
 			}
 		}
-		if holdout(d.ID, st.opt.HoldoutFraction) {
+		if holdout(d.HoldKey(), st.opt.HoldoutFraction) {
 			if len(d.Words) > 0 {
 				st.heldout = append(st.heldout, i)
 			}
@@ -200,7 +201,7 @@ func (st *state) buildDocs() error {
 	}
 	for i := range st.corpus.Docs {
 		d := &st.corpus.Docs[i]
-		if len(d.Words) == 0 || holdout(d.ID, st.opt.HoldoutFraction) {
+		if len(d.Words) == 0 || holdout(d.HoldKey(), st.opt.HoldoutFraction) {
 			continue
 		}
 		sd := sdoc{start: int64(len(st.words))}
@@ -294,6 +295,10 @@ func corpusChecksum(c *Corpus) uint64 {
 			h.Write(b[:4])
 		}
 		h.Write([]byte{2})
+		if d.Group != "" { // the holdout follows it (files without groups hash as before)
+			h.Write([]byte(d.Group))
+			h.Write([]byte{3})
+		}
 	}
 	return h.Sum64()
 }

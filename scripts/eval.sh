@@ -11,8 +11,10 @@
 # EVAL_WORKERS, EVAL_LAMBDA, EVAL_CALIBRATE (records for the score
 # calibration, default 5000; 0 = none), EVAL_HOLDOUT (share of the train
 # split kept out of the topic fit, on which the calibration and the word
-# layer's combination are learned honestly; default 0.2),
-# EVAL_ANCHORS=0 (skip the anchors).
+# layer's combination are learned honestly; default 0.2), EVAL_GROUP (the
+# records field whose equal values are held out together, default
+# source_package, as the benchmark's own train/test split groups them;
+# empty = by record), EVAL_ANCHORS=0 (skip the anchors).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 tg=bin/termgrove
@@ -28,11 +30,12 @@ workers=${EVAL_WORKERS:-$(nproc)}
 lambda=${EVAL_LAMBDA:-0}
 calibrate=${EVAL_CALIBRATE:-5000}
 holdout=${EVAL_HOLDOUT:-0.2}
+group=${EVAL_GROUP-source_package}
 start=$(date +%s)
 
 echo "== fit on the train split (free topics $free, sweeps $sweeps, workers $workers)"
 $tg fit --vocab "$data/vocabulary.ttl" --records "$data/train.jsonl" --out "$out/debtags.grove" \
-  --free-topics "$free" --sweeps "$sweeps" --workers "$workers" --lambda "$lambda" --calibrate "$calibrate" --holdout "$holdout" --checkpoint 0 --quiet \
+  --free-topics "$free" --sweeps "$sweeps" --workers "$workers" --lambda "$lambda" --calibrate "$calibrate" --holdout "$holdout" --group-field "$group" --checkpoint 0 --quiet \
   | tee "$out/fit.txt"
 fit_end=$(date +%s)
 
@@ -47,9 +50,9 @@ if [ "${EVAL_ANCHORS:-1}" = 1 ]; then
   /usr/bin/python3 scripts/anchors.py "$data" > "$out/anchors.json"
 fi
 
-/usr/bin/python3 - "$out" "$((fit_end - start))" "$((score_end - fit_end))" "$free" "$sweeps" "$workers" "$lambda" "$calibrate" "$holdout" <<'EOF'
+/usr/bin/python3 - "$out" "$((fit_end - start))" "$((score_end - fit_end))" "$free" "$sweeps" "$workers" "$lambda" "$calibrate" "$holdout" "$group" <<'EOF'
 import json, os, sys, datetime, platform, re
-out, fit_s, score_s, free, sweeps, workers, lam, cal, hold = sys.argv[1:]
+out, fit_s, score_s, free, sweeps, workers, lam, cal, hold, group = sys.argv[1:]
 tg = json.load(open(os.path.join(out, "score.json")))
 rows = [("termgrove", tg["metrics"])]
 anchors = {}
@@ -63,8 +66,8 @@ for line in open("/proc/cpuinfo"):
     if line.startswith("model name"):
         cpu = line.split(":", 1)[1].strip(); break
 lines = []
-lines.append("Measured %s on %s (%d cores), `make eval` (EVAL_FREE=%s EVAL_SWEEPS=%s EVAL_WORKERS=%s EVAL_LAMBDA=%s EVAL_CALIBRATE=%s EVAL_HOLDOUT=%s)." % (
-    datetime.date.today().isoformat(), cpu, os.cpu_count(), free, sweeps, workers, lam, cal, hold))
+lines.append("Measured %s on %s (%d cores), `make eval` (EVAL_FREE=%s EVAL_SWEEPS=%s EVAL_WORKERS=%s EVAL_LAMBDA=%s EVAL_CALIBRATE=%s EVAL_HOLDOUT=%s EVAL_GROUP=%s)." % (
+    datetime.date.today().isoformat(), cpu, os.cpu_count(), free, sweeps, workers, lam, cal, hold, group))
 lines.append("Test split: %d records scored. termgrove fit %s s, scoring %s s." % (tg["records"], fit_s, score_s))
 if anchors:
     svm = anchors["anchors"].get("tfidf-svm", {})

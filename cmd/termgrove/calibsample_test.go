@@ -25,7 +25,7 @@ func TestCalibSample(t *testing.T) {
 	run := func(n int, holdout float64, seed int64) []string {
 		c := newCalibSample(n, holdout, seed)
 		for _, r := range recs {
-			c.add(r, nil)
+			c.add(r, nil, "")
 		}
 		var ids []string
 		for _, tx := range c.texts {
@@ -80,5 +80,27 @@ func TestCalibSample(t *testing.T) {
 	}
 	if got := run(0, 0, 1); len(got) != 0 {
 		t.Errorf("N 0 kept %d", len(got))
+	}
+	// With groups (--group-field) the holdout keys on the group: a group is
+	// sampled whole or not at all.
+	c := newCalibSample(5000, 0.3, 1)
+	for i, r := range recs {
+		c.add(r, nil, fmt.Sprintf("g%d", i/20))
+	}
+	per := map[string]int{}
+	for _, tx := range c.texts {
+		g := c.groups[tx.ID]
+		if !fit.HeldOut(g, 0.3) {
+			t.Fatalf("%s of group %q sampled, but the group is not held out", tx.ID, g)
+		}
+		per[g]++
+	}
+	for g, n := range per {
+		if n != 18 { // 20 records, two without subjects
+			t.Errorf("group %s: %d of its 18 indexed records sampled", g, n)
+		}
+	}
+	if len(per) < 10 || len(per) > 50 {
+		t.Errorf("%d of 100 groups held out, want about 30", len(per))
 	}
 }

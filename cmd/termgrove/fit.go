@@ -58,6 +58,7 @@ type fitFlags struct {
 	calibrate         int
 	wordLayer         bool
 	wordLead          float64
+	groupField        string
 }
 
 func cmdFit(args []string) int {
@@ -84,6 +85,7 @@ func cmdFit(args []string) int {
 	fl.IntVar(&f.calibrate, "calibrate", defaultCalibrate, "learn the score calibration from up to `N` records people indexed: the held-out ones with --holdout, else a sample of the training records (0 = none)")
 	fl.BoolVar(&f.wordLayer, "word-layer", true, "with --calibrate, also train the discriminative word layer (a linear SVM per concept over the records' words) on the records people indexed, and learn how it combines with the topic scores")
 	fl.Float64Var(&f.wordLead, "word-lead", fit.DefaultWordLead, "weight of the word layer's second part over the words of a record's first field (the title; 0 = none)")
+	fl.StringVar(&f.groupField, "group-field", "", "records `FIELD` whose equal values form a group: --holdout keeps groups out whole, and the word layer is tuned against a layer trained without the tuning records' groups (e.g. debtags' source_package, as its own train/test split)")
 	fl.BoolVar(&f.skipBad, "skip-bad", false, "skip records that are not JSON (counted) instead of stopping")
 	fl.BoolVar(&f.quiet, "quiet", false, "only the summary")
 	fl.BoolVar(&f.noProgress, "no-progress", false, "plain log lines even on a terminal")
@@ -201,10 +203,21 @@ func runFit(f *fitFlags) int {
 	fields := fitSplit(f.fields)
 	unknownShown := 0
 	ropt := records.Options{Fields: fields, SkipBad: f.skipBad, Bad: func(err error) { warnf("skipped: %v", err) }}
+	var groups []string // per corpus record, with --group-field
+	if f.groupField != "" {
+		ropt.Keep = []string{f.groupField}
+	}
 	calib := newCalibSample(f.calibrate, f.holdout, f.seed)
 	rstats, err := records.ReadStats(f.recs, ropt, func(r records.Record) error {
-		_, unknown := b.AddLang(r.ID, r.Join(fields), r.Lang, r.Subjects, r.Date)
-		calib.add(r, fields)
+		added, unknown := b.AddLang(r.ID, r.Join(fields), r.Lang, r.Subjects, r.Date)
+		group := ""
+		if f.groupField != "" {
+			group = r.Extra[f.groupField]
+			if added {
+				groups = append(groups, group)
+			}
+		}
+		calib.add(r, fields, group)
 		for _, u := range unknown {
 			if unknownShown < 10 {
 				warnf("%s:%d: record %q: subject %q is not a concept of the vocabulary (ignored)", r.File, r.Line, r.ID, u)
@@ -224,6 +237,9 @@ func runFit(f *fitFlags) int {
 		warnf("%d more unknown subjects", unknownShown-10)
 	}
 	corpus := b.Finish()
+	for i, g := range groups {
+		corpus.Docs[i].Group = g
+	}
 	if b.Records == 0 {
 		hint := ""
 		if rstats.Read > 0 {
@@ -361,7 +377,7 @@ func runFit(f *fitFlags) int {
 			}
 			logf("scores calibrated on %d %s people indexed (%.1f s)", cal.Records, src, time.Since(start).Seconds())
 			if f.wordLayer {
-				if err := trainWordLayer(m, corpus, calib.texts, f, logf, warnf); err != nil {
+				if err := trainWordLayer(m, corpus, calib, f, logf, warnf); err != nil {
 					return fail(1, "word layer: %v", err)
 				}
 			}
@@ -504,15 +520,23 @@ type calibSample struct {
 	seen    int
 	rng     *rand.Rand
 	texts   []annotate.LabeledText
+	groups  map[string]string // text id → group (--group-field)
 }
 
 func newCalibSample(n int, holdout float64, seed int64) *calibSample {
 	return &calibSample{n: n, holdout: holdout, rng: rand.New(rand.NewPCG(uint64(seed), 0x63616c6962))}
 }
 
-func (c *calibSample) add(r records.Record, fields []string) {
-	if c.n == 0 || len(r.Subjects) == 0 || (c.holdout > 0 && !fit.HeldOut(r.ID, c.holdout)) {
+func (c *calibSample) add(r records.Record, fields []string, group string) {
+	key := (&fit.Doc{ID: r.ID, Group: group}).HoldKey()
+	if c.n == 0 || len(r.Subjects) == 0 || (c.holdout > 0 && !fit.HeldOut(key, c.holdout)) {
 		return
+	}
+	if group != "" {
+		if c.groups == nil {
+			c.groups = map[string]string{}
+		}
+		c.groups[r.ID] = group
 	}
 	t := annotate.LabeledText{ID: r.ID, Text: r.Join(fields), Language: r.Lang, Subjects: r.Subjects}
 	c.seen++
@@ -530,8 +554,11 @@ func (c *calibSample) add(r records.Record, fields []string) {
 // calibration texts, scored by a second layer trained without them (a layer
 // scores its own training records too well). With --holdout the texts are
 // held-out records, which the topic model never saw; the layer itself
-// learns from every indexed record.
-func trainWordLayer(m *model.Model, corpus *fit.Corpus, texts []annotate.LabeledText, f *fitFlags, logf, warnf func(string, ...any)) error {
+// learns from every indexed record. With --group-field the second layer
+// leaves out the tuning texts' whole groups, as a new record's group is
+// unseen.
+func trainWordLayer(m *model.Model, corpus *fit.Corpus, calib *calibSample, f *fitFlags, logf, warnf func(string, ...any)) error {
+	texts := calib.texts
 	start := time.Now()
 	opt := fit.WordLayerOptions{Workers: f.workers, Words: len(m.Words), Seed: uint64(f.seed), Lead: f.wordLead}
 	if f.wordLead == 0 {
@@ -547,9 +574,9 @@ func trainWordLayer(m *model.Model, corpus *fit.Corpus, texts []annotate.Labeled
 	}
 	tuning := make(map[string]bool, len(texts))
 	for _, t := range texts {
-		tuning[t.ID] = true
+		tuning[(&fit.Doc{ID: t.ID, Group: calib.groups[t.ID]}).HoldKey()] = true
 	}
-	opt.Skip = func(i int) bool { return tuning[corpus.Docs[i].ID] }
+	opt.Skip = func(i int) bool { return tuning[corpus.Docs[i].HoldKey()] }
 	held, err := fit.TrainWordLayer(corpus, m.C, opt)
 	if err != nil {
 		return err

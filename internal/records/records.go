@@ -28,6 +28,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -69,6 +70,9 @@ type Options struct {
 	// Any top-level string field of a JSON record may be named, e.g. "abstract";
 	// "text" of a .txt file is its content.
 	Fields []string
+	// Keep are further top-level string fields read into Record.Extra but
+	// not joined (e.g. a grouping key).
+	Keep []string
 	// SkipBad skips bad lines (counted in Stats.Skipped) instead of failing.
 	SkipBad bool
 	// Bad, when set with SkipBad, is called with each skipped line's error.
@@ -171,7 +175,7 @@ func ReadStats(path string, opt Options, fn func(Record) error) (Stats, error) {
 func ReadJSONL(r io.Reader, name string, opt Options, fn func(Record) error) (Stats, error) {
 	var st Stats
 	br := bufio.NewReaderSize(r, 1<<20)
-	extra := extraFields(opt.Fields)
+	extra := extraFields(append(slices.Clone(opt.Fields), opt.Keep...))
 	var long []byte // reused across lines longer than the buffer
 	for line := 1; ; line++ {
 		b, err := br.ReadSlice('\n')

@@ -66,6 +66,15 @@ func TestReadExtraField(t *testing.T) {
 	if got := recs[0].Join([]string{"abstract", "text"}); got != "About screens\n\nbody" {
 		t.Errorf("Join = %q", got)
 	}
+	// Keep reads a field without joining it.
+	p = write(t, "k.jsonl", `{"id":"a","title":"T","text":"body","source_package":"src"}`)
+	recs, _, err = collect(t, p, Options{Keep: []string{"source_package"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if recs[0].Extra["source_package"] != "src" || recs[0].Join(nil) != "T\n\nbody" {
+		t.Errorf("kept %q, joined %q", recs[0].Extra["source_package"], recs[0].Join(nil))
+	}
 }
 
 func TestReadBadLines(t *testing.T) {
