@@ -102,6 +102,7 @@ func (b *Bench) FlatStats() FlatStats {
 		f.WordAccepted += s.WordAccepted
 		f.SmoothProposals += s.SmoothProposals
 		f.SmoothAccepted += s.SmoothAccepted
+		f.WordMajorTokens += s.WordMajorTokens
 		f.DocProposals += s.DocProposals
 		f.DocAccepted += s.DocAccepted
 		wk.fst = FlatStats{}

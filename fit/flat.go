@@ -351,6 +351,7 @@ type FlatStats struct {
 	WordAccepted    int64
 	SmoothProposals int64 // smoothing proposals
 	SmoothAccepted  int64
-	DocProposals    int64 // word-major sweep: doc-part proposals
+	WordMajorTokens int64 // tokens drawn by the word-major sweep (wordmajor.go)
+	DocProposals    int64 // its doc-part proposals
 	DocAccepted     int64
 }

@@ -549,7 +549,12 @@ func (st *state) sweepOnce() {
 			wk.wordMajor()
 			return
 		}
-		wk.shard(0, len(st.docs))
+	}
+	if st.wm != nil {
+		st.wm.zwOK = false // z changes outside the word-major sweep
+	}
+	if len(st.workers) == 1 {
+		st.workers[0].shard(0, len(st.docs))
 		return
 	}
 	if st.opt.useMH(st.K) {

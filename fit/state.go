@@ -372,6 +372,9 @@ func (st *state) makeWorkers() {
 func (st *state) initAssign() {
 	wk := st.workers[0]
 	wk.attachGlobal()
+	if st.wm != nil {
+		st.wm.zwOK = false
+	}
 	for i := range st.z {
 		st.z[i] = -1
 	}

@@ -53,6 +53,7 @@ type wmIndex struct {
 	rec   []int32  // per occurrence (st.occ order): slab offset of the record's list, −1: record with subjects
 	zw    []int32  // per occurrence: its topic during the sweep (z in word order)
 	zpos  []int32  // per token: its occurrence index (the inverse of st.occ)
+	zwOK  bool     // zw equals z (set by a word-major sweep, cleared by anything else that changes z)
 	doff  []int32  // per record: slab offset of its list, −1: record with subjects
 	slab  []tc     // record lists (see above)
 	cnt   []int32  // K: n_kw of the word being swept (0 between words)
@@ -181,9 +182,11 @@ func (wk *worker) wordMajor() {
 		}
 	}
 	wk.wmBuildLists()
-	for j, o := range m.rec { // z in word order
-		if o >= 0 {
-			m.zw[j] = st.z[st.occ[j]]
+	if !m.zwOK { // z in word order
+		for j, o := range m.rec {
+			if o >= 0 {
+				m.zw[j] = st.z[st.occ[j]]
+			}
 		}
 	}
 	for w := int32(0); w < int32(st.W); w++ {
@@ -228,6 +231,7 @@ func (wk *worker) wordMajor() {
 			}
 		}
 	}
+	m.zwOK = true
 }
 
 // The word-major sweep reads and writes the counts of a topic in the
@@ -460,7 +464,7 @@ func (wk *worker) wmSmoothing(u float64) int32 {
 // wmPick draws from the parts wmParts computed.
 func (wk *worker) wmPick(w, o int32, both, qw, qp, denv, s float64) int32 {
 	st, m := wk.st, wk.wm
-	wk.fst.Tokens++
+	wk.fst.WordMajorTokens++
 	g := wk.r
 	tot := both + qw + qp + denv + s
 	for {

@@ -250,10 +250,18 @@ func TestWordMajorEqualsDense(t *testing.T) {
 				t.Fatal("word counts left after the pass")
 			}
 		}
-		// Whole word-major sweeps keep the counts those of z too.
-		st.sweepOnce()
-		if wk.wm == nil {
-			t.Fatal("word-major sweep not on")
+		// Whole word-major sweeps keep the counts those of z too, and their
+		// copy of z in word order.
+		for sw := 0; sw < 3; sw++ {
+			st.sweepOnce()
+			if wk.wm == nil || !st.wm.zwOK {
+				t.Fatal("word-major sweep not on")
+			}
+			for j, o := range st.wm.rec {
+				if o >= 0 && st.wm.zw[j] != st.z[st.occ[j]] {
+					t.Fatalf("occurrence %d: topic %d in word order, %d in z", j, st.wm.zw[j], st.z[st.occ[j]])
+				}
+			}
 		}
 		checkCountsFromZ(t, st)
 	}
@@ -412,8 +420,14 @@ func TestWordMajorOn(t *testing.T) {
 				t.Fatalf("%d workers: word-major %v", workers, wk.wm != nil)
 			}
 		}
-		if workers == 1 && st.workers[0].fst.DocProposals == 0 {
-			t.Fatal("no doc proposals in a word-major sweep")
+		free := 0
+		for _, d := range st.docs {
+			if d.subjects == nil {
+				free += int(d.end - d.start)
+			}
+		}
+		if got := st.workers[0].fst.WordMajorTokens; workers == 1 && (got != int64(free) || free == 0) {
+			t.Fatalf("word-major sweep drew %d tokens, the records without subjects hold %d", got, free)
 		}
 	}
 }

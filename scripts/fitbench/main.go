@@ -159,13 +159,13 @@ func run(c *fit.Corpus, K, workers, warm, sweeps int, concepts bool, sampler str
 	if stats {
 		l, d := b.ListStats()
 		fmt.Printf("  K=%d: per token, word-list length %.1f, record topics %.1f\n", K, l, d)
-		if f := b.FlatStats(); f.Tokens > 0 || f.SmoothProposals > 0 {
+		if f := b.FlatStats(); f.Tokens > 0 || f.SmoothProposals > 0 || f.WordMajorTokens > 0 {
 			fmt.Printf("  K=%d: timed sweeps: flat path %.1f%% of tokens, word proposals %.3f per flat token (%.1f%% accepted), smoothing proposals %.4f per token (%.1f%% accepted)\n",
 				K, 100*float64(f.Tokens)/n, float64(f.WordProposals)/max(1, float64(f.Tokens)), 100*float64(f.WordAccepted)/max(1, float64(f.WordProposals)),
 				float64(f.SmoothProposals)/n, 100*float64(f.SmoothAccepted)/max(1, float64(f.SmoothProposals)))
-			if f.DocProposals > 0 {
-				fmt.Printf("  K=%d: word-major doc proposals %.4f per token (%.1f%% accepted)\n",
-					K, float64(f.DocProposals)/n, 100*float64(f.DocAccepted)/max(1, float64(f.DocProposals)))
+			if f.WordMajorTokens > 0 {
+				fmt.Printf("  K=%d: word-major sweep %.1f%% of tokens, doc proposals %.4f per token (%.1f%% accepted)\n",
+					K, 100*float64(f.WordMajorTokens)/n, float64(f.DocProposals)/n, 100*float64(f.DocAccepted)/max(1, float64(f.DocProposals)))
 			}
 		}
 	}
