@@ -1732,17 +1732,14 @@ func (a *Annotator) theta(st *state, samples float64) float64 {
 				th[e.k] += alpha[e.k] * (e.s * fu[e.u])
 			}
 		}
-	} else { // the same entries, grouped: each word type's in one run
-		bent := st.bent
+	} else { // the same entries, from the words' lists (16 bytes each)
 		for u, w := range st.uw {
-			n := int(a.off[w+1] - a.off[w])
 			f := fu[u]
-			for _, e := range bent[:n] {
+			for _, e := range a.ent[a.off[w]:a.off[w+1]] {
 				if e.k < C {
 					th[e.k] += alpha[e.k] * (e.s * f)
 				}
 			}
-			bent = bent[n:]
 		}
 	}
 	for u, nz := range st.nz {
