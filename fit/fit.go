@@ -40,7 +40,13 @@
 // α_k·n_kw/(n_k+B_k) drawn by rejection from a proposal that picks a random
 // token of w (one worker only), and the smoothing bucket is drawn by
 // rejection from an alias table instead of the trees; TestFlatEqualsDense,
-// TestFlatDrawMatchesConditional and TestFlatGeweke prove it.
+// TestFlatDrawMatchesConditional and TestFlatGeweke prove it. With one
+// worker the records without subjects are then swept word by word
+// (wordmajor.go, after LightLDA): the word's counts stay in cache for all its
+// tokens, the record's topics are read from a per-record list, and the
+// part n_dk·β0/(n_k+B_k) is drawn by rejection from the topic of a random
+// other token of the record; TestWordMajorEqualsDense,
+// TestWordMajorDrawMatchesConditional and TestWordMajorGeweke prove it.
 //
 // The model's α_k of a concept is the learned value times the share of
 // training records allowed to use k (see marginalAlpha): the weight a
