@@ -798,10 +798,15 @@ func (a *Annotator) link(st *state, s, k int32) {
 // before the sampling sweeps, while the entries carry no accumulated
 // probability.
 func (st *state) prune() {
+	empty := false
 	for s, c := range st.cs {
 		if c <= 0 {
 			st.out[s] = true
+			empty = true
 		}
+	}
+	if !empty { // right after the start every slot holds a token
+		return
 	}
 	out := st.out
 	for u, nz := range st.nz {
