@@ -90,12 +90,11 @@ func newWorker(st *state, r *rng, local bool) *worker {
 		st:      st,
 		r:       r,
 		local:   local,
-		tp:      nil,
+		tp:      make([]topic, K),
 		dtopics: make([]int32, 0, K), // never reallocated, never shared
 		qbuf:    make([]float64, K),
 		pbuf:    make([]float64, maxP),
 	}
-	wk.tp = hugeSlice[topic](K, wk)
 	for k := st.C; k < K; k++ {
 		wk.tp[k].allowed = true
 	}

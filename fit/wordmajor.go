@@ -102,7 +102,7 @@ func (st *state) wmIndexBuild() *wmIndex {
 	if m.units == 0 {
 		return nil
 	}
-	m.slab = hugeSlice[tc](int(size), m)
+	m.slab = make([]tc, size)
 	tokRec := make([]int32, len(st.words))
 	for di := range st.docs {
 		d := &st.docs[di]
