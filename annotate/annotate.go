@@ -753,10 +753,11 @@ func (a *Annotator) put(st *state) {
 	}
 	st.uw, st.ucnt, st.cacc, st.tu, st.z = st.uw[:0], st.ucnt[:0], st.cacc[:0], st.tu[:0], st.z[:0]
 	st.awu = st.awu[:0]
-	if cap(st.toks) > 1<<16 || cap(st.bent) > 1<<20 || len(st.nz) > 1<<14 || cap(st.nzf) > 1<<20 {
+	if cap(st.toks) > 1<<16 || cap(st.bent) > 1<<20 || len(st.nz) > 1<<14 || cap(st.nzf) > 1<<20 || cap(st.startW) > 1<<20 {
 		// do not keep a huge record's buffers
 		st.toks, st.bent, st.nz, st.wacc, st.tu, st.z = nil, nil, nil, nil, nil, nil
 		st.nzf, st.waccf = nil, nil
+		st.startW, st.startZ, st.un, st.uo = nil, nil, nil, nil
 	}
 	a.pool.Put(st)
 }
