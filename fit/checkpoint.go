@@ -170,6 +170,9 @@ func (st *state) restore(ck *checkpoint, path string) error {
 	st.sweep = ck.Sweep
 	st.llHist = ck.LogLik
 	st.secs = ck.Seconds
+	if r := st.anchorRelease(); r > 0 && st.sweep >= r {
+		st.releaseAnchors()
+	}
 	if err := st.rebuildCounts(); err != nil {
 		return err
 	}

@@ -33,6 +33,9 @@ func (st *state) run(ctx context.Context) (*Result, error) {
 		st.sweepOnce()
 		st.sweep++
 		done++
+		if st.sweep == st.anchorRelease() {
+			st.releaseAnchors()
+		}
 		if !opt.FixedAlpha && st.sweep > opt.BurnIn && st.sweep%opt.OptimizeEvery == 0 {
 			st.optimizeAlpha()
 		}
@@ -175,6 +178,7 @@ func (st *state) buildModel() *model.Model {
 			"optimize_every": strconv.Itoa(o.OptimizeEvery),
 			"workers":        strconv.Itoa(o.Workers),
 			"holdout":        strconv.FormatFloat(o.HoldoutFraction, 'g', -1, 64),
+			"anchor":         anchorSetting(o),
 			"heldout_docs":   strconv.Itoa(len(st.heldout)),
 		},
 	}
