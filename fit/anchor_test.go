@@ -244,6 +244,21 @@ func TestAnchorRelease(t *testing.T) {
 		t.Errorf("provenance anchor = %q", s)
 	}
 
+	// The flat path and the word-major sweep (one worker, forced) take the
+	// released records as unrestricted ones.
+	withFlat(t)
+	st, _, _ = run(opt)
+	units := 0
+	for i, d := range st.docs {
+		if c.Docs[i].Subjects == nil {
+			units += int(d.end - d.start)
+		}
+	}
+	if st.wm == nil || st.wm.units != units {
+		t.Errorf("word-major index after the release: %v, want %d tokens", st.wm != nil, units)
+	}
+	testFlat = false
+
 	for _, stop := range []int{3, 9} { // before and after the release
 		ck := filepath.Join(t.TempDir(), "fit.checkpoint")
 		ctx, cancel := context.WithCancel(t.Context())

@@ -533,6 +533,7 @@ func (st *state) releaseAnchors() {
 			d.subjects = nil
 		}
 	}
+	st.wm = nil // the word-major index lists the unrestricted records
 }
 
 // anchorSetting describes Options.Anchor for a model's provenance.
