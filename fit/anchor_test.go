@@ -117,7 +117,7 @@ func TestRelated(t *testing.T) {
 	}
 }
 
-// TestAnchoredStart: after initAssign with Options.Anchor, a token of an
+// TestAnchoredStart: after initAssign with Options.Anchor and AnchorRelease, a token of an
 // anchored record whose word is a prior term of one of the record's allowed
 // concepts sits in an allowed concept; every other token sits in a free
 // topic or in an allowed concept, and the number of those in a concept
@@ -126,7 +126,7 @@ func TestRelated(t *testing.T) {
 // subjects, and the counts match z. Common practice, no source.
 func TestAnchoredStart(t *testing.T) {
 	p, c := randomSetup(33, 12, 20, 400, 30)
-	st, err := newState(p, c, Options{FreeTopics: 3, Seed: 5, Workers: 2, Anchor: true})
+	st, err := newState(p, c, Options{FreeTopics: 3, Seed: 5, Workers: 2, Anchor: true, AnchorRelease: true})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -182,15 +182,15 @@ func TestAnchoredStart(t *testing.T) {
 	}
 }
 
-// TestAnchorRelease: with Options.Anchor the anchored records keep their
-// restriction for the burn-in sweeps and lose it after (their tokens may
-// then take any concept); with AnchorKeep they keep it to the end; the
+// TestAnchorRelease: with Options.AnchorRelease the anchored records keep
+// their restriction for the burn-in sweeps and lose it after (their tokens
+// may then take any concept); without it they keep it to the end; the
 // model's provenance says which. A fit resumed from a checkpoint written
 // before or after the release ends with the model of the uninterrupted
 // fit. Common practice, no source.
 func TestAnchorRelease(t *testing.T) {
 	p, c := randomSetup(34, 12, 20, 300, 30)
-	opt := Options{FreeTopics: 3, Sweeps: 14, BurnIn: 6, OptimizeEvery: 3, LogLikEvery: 4, Seed: 3, Workers: 1, Anchor: true}
+	opt := Options{FreeTopics: 3, Sweeps: 14, BurnIn: 6, OptimizeEvery: 3, LogLikEvery: 4, Seed: 3, Workers: 1, Anchor: true, AnchorRelease: true}
 	run := func(o Options) (*state, *Result, [][]int32) {
 		st, err := newState(p, c, o)
 		if err != nil {
@@ -235,10 +235,10 @@ func TestAnchorRelease(t *testing.T) {
 		t.Errorf("provenance anchor = %q", s)
 	}
 	keep := opt
-	keep.AnchorKeep = true
+	keep.AnchorRelease = false
 	st, res, allowed := run(keep)
 	if n := outside(st, allowed); n != 0 {
-		t.Errorf("AnchorKeep: %d tokens outside their records' allowed concepts", n)
+		t.Errorf("without AnchorRelease: %d tokens outside their records' allowed concepts", n)
 	}
 	if s := res.Model.Provenance.Options["anchor"]; s != "kept" {
 		t.Errorf("provenance anchor = %q", s)

@@ -70,7 +70,7 @@ func cmdFit(args []string) int {
 	fl.StringVar(&f.out, "out", "", "model file to write (`MODEL.grove`)")
 	fl.StringVar(&f.scheme, "scheme", "", "concept scheme `IRI` when the file holds several")
 	fl.IntVar(&f.free, "free-topics", 20, "free topics beside the concepts, for themes the vocabulary lacks")
-	fl.BoolVar(&f.anchor, "anchor", true, "during the burn-in, records without subjects may use only the concepts whose label terms they contain, plus the free topics; every topic after it (off without free topics)")
+	fl.BoolVar(&f.anchor, "anchor", true, "records without subjects may use only the concepts whose label terms they contain, plus the free topics (off without free topics)")
 	fl.IntVar(&f.sweeps, "sweeps", 200, "Gibbs sweeps over all records")
 	fl.StringVar(&f.sampler, "sampler", "sparse", "`sparse` (exact Gibbs), mh (alias/Metropolis–Hastings for unrestricted records; slower here, see bench/fit-mh.md) or auto (sparse at every K measured)")
 	fl.IntVar(&f.burnIn, "burn-in", 0, "sweeps before α is learned (0 = a quarter of --sweeps)")
