@@ -115,10 +115,25 @@ func cmdFit(args []string) int {
 		fmt.Fprintf(os.Stderr, "termgrove fit: missing %s (see termgrove fit --help)\n", strings.Join(missing, ", "))
 		return 2
 	}
-	// Written so that NaN fails too.
-	if f.free < 0 || f.sweeps < 1 || f.burnIn < 0 || !(f.holdout >= 0 && f.holdout < 1) || !(f.lambda >= 0) || f.workers < 1 || f.calibrate < 0 || !(f.wordLead >= 0 && f.wordLead <= 10) {
-		fmt.Fprintln(os.Stderr, "termgrove fit: --free-topics ≥ 0, --sweeps ≥ 1, --burn-in ≥ 0, --workers ≥ 1, --lambda ≥ 0, --calibrate ≥ 0, 0 ≤ --holdout < 1 and 0 ≤ --word-lead ≤ 10")
-		return 2
+	// Each check is written so that NaN fails too.
+	for _, c := range []struct {
+		ok         bool
+		flag, want string
+		got        any
+	}{
+		{f.free >= 0, "--free-topics", "0 or more", f.free},
+		{f.sweeps >= 1, "--sweeps", "1 or more", f.sweeps},
+		{f.burnIn >= 0, "--burn-in", "0 or more", f.burnIn},
+		{f.workers >= 1, "--workers", "1 or more", f.workers},
+		{f.lambda >= 0, "--lambda", "0 or more", f.lambda},
+		{f.calibrate >= 0, "--calibrate", "0 or more", f.calibrate},
+		{f.holdout >= 0 && f.holdout < 1, "--holdout", "a share from 0 up to (not including) 1", f.holdout},
+		{f.wordLead >= 0 && f.wordLead <= 10, "--word-lead", "between 0 and 10", f.wordLead},
+	} {
+		if !c.ok {
+			fmt.Fprintf(os.Stderr, "termgrove fit: %s %v: expected %s\n", c.flag, c.got, c.want)
+			return 2
+		}
 	}
 	if f.vocab == "-" && f.recs == "-" {
 		fmt.Fprintln(os.Stderr, "termgrove fit: --vocab and --records cannot both read standard input")
@@ -237,8 +252,15 @@ func runFit(f *fitFlags) int {
 		warnf("%d more unknown subjects", unknownShown-10)
 	}
 	corpus := b.Finish()
+	grouped := 0
 	for i, g := range groups {
 		corpus.Docs[i].Group = g
+		if g != "" {
+			grouped++
+		}
+	}
+	if f.groupField != "" && grouped < len(groups) {
+		warnf("--group-field %s: %d of %d records have no such field; each of them is a group of its own", f.groupField, len(groups)-grouped, len(groups))
 	}
 	if b.Records == 0 {
 		hint := ""

@@ -223,6 +223,17 @@ func TestFitBadInput(t *testing.T) {
 	if code != 2 || !strings.Contains(stderr, "missing.jsonl") {
 		t.Errorf("missing records file: exit %d\n%s", code, stderr)
 	}
+	// An out-of-range option is named with its value and what was expected.
+	for _, c := range [][2]string{{"--word-lead", "-1"}, {"--holdout", "NaN"}, {"--workers", "0"}} {
+		_, stderr, code = runTG(t, bin, append(base, "--records", bad, "--skip-bad", c[0], c[1])...)
+		if code != 2 || !strings.Contains(stderr, c[0]+" "+c[1]+": expected") {
+			t.Errorf("%s %s: exit %d\n%s", c[0], c[1], code, stderr)
+		}
+	}
+	_, stderr, code = runTG(t, bin, append(base, "--records", bad, "--skip-bad", "--group-field", "shelf")...)
+	if code != 0 || !strings.Contains(stderr, "--group-field shelf: 2 of 2 records have no such field") {
+		t.Errorf("--group-field naming no field: exit %d\n%s", code, stderr)
+	}
 }
 
 // TestFitInterrupt: SIGINT stops a fit after the current sweep with exit
