@@ -66,6 +66,12 @@ type wmIndex struct {
 	bU    float64 // B_k when equal for all k, else 0
 	aU    float64 // α_k when equal for all k (set per sweep), else 0
 	units int     // tokens of records without subjects
+
+	// The current token stays in the counts while its topic is drawn: its
+	// own topic old's terms are computed with n_dk−1, n_kw−1, n_k−1.
+	old    int32   // the current token's topic
+	invIn  float64 // 1/(n_old+B_old), the token counted
+	invOut float64 // 1/(n_old−1+B_old), the token taken out
 }
 
 // wmAhead is the prefetch distance of the word-major sweep, in occurrences.
@@ -215,11 +221,7 @@ func (wk *worker) wordMajor() {
 			if o < 0 {
 				continue
 			}
-			old := m.zw[j]
-			wk.wmRemove(o, old)
-			k := wk.wmDraw(w, o, j)
-			wk.wmAssign(o, k)
-			m.zw[j] = k
+			m.zw[j] = wk.wmToken(w, o, m.zw[j])
 		}
 		wk.wmEndWord(w)
 	}
@@ -258,6 +260,22 @@ func (wk *worker) wmB(k int32) float64 {
 
 // wmInv is 1/(n_k+B_k).
 func (wk *worker) wmInv(k int32) float64 { return 1 / (float64(wk.nk[k]) + wk.wmB(k)) }
+
+// wmInvX is 1/(n_k+B_k) with the current token taken out of n_k.
+func (wk *worker) wmInvX(k int32) float64 {
+	if k == wk.wm.old {
+		return wk.wm.invOut
+	}
+	return wk.wmInv(k)
+}
+
+// b2i is 1 for true, 0 for false.
+func b2i(b bool) int32 {
+	if b {
+		return 1
+	}
+	return 0
+}
 
 // wmBeginWord loads word w's counts into cnt and the bitset and computes
 // the word part's total.
@@ -322,6 +340,19 @@ func (wk *worker) wmMove(k int32, dn int32) {
 	wk.qword += a * (float64(c+dn)*inv - float64(c)*invOld)
 }
 
+// wmToken draws a topic for a token of word w (record list at slab offset
+// o, topic old) and moves the counts when the topic changes; it returns the
+// new topic. The token stays in the counts while it is drawn (wmParts takes
+// it out arithmetically), so a token that keeps its topic writes nothing.
+func (wk *worker) wmToken(w, o, old int32) int32 {
+	k := wk.wmDraw(w, o, old)
+	if k != old {
+		wk.wmRemove(o, old)
+		wk.wmAssign(o, k)
+	}
+	return k
+}
+
 // wmRemove takes the current token (topic old) off the counts and its
 // record's list at slab offset o.
 func (wk *worker) wmRemove(o int32, old int32) {
@@ -366,11 +397,19 @@ func (wk *worker) wmAssign(o int32, k int32) {
 }
 
 // wmParts computes the exact parts' totals for the current token of word w
-// (record list at slab offset o, token already removed): the "both" terms
-// (in hits, hbuf), the prior terms (in pbuf), and returns their totals with
-// the word part's, the doc envelope and the smoothing total.
-func (wk *worker) wmParts(w, o int32) (both, qw, qp, denv, s float64) {
+// (record list at slab offset o, the token still counted on its topic old,
+// which is taken out arithmetically: only old's terms change, to n_dk−1,
+// n_kw−1, n_k−1): the "both" terms (in hits, hbuf), the prior terms (in
+// pbuf), and returns their totals with the word part's, the doc envelope
+// and the smoothing total. The smoothing total is that of the counts as
+// they are (s0, drawn by wmSmoothing) plus ds, the extra smoothing mass of
+// old once the token is out (n_k−1 makes its term larger), drawn as old.
+func (wk *worker) wmParts(w, o, old int32) (both, qw, qp, denv, s0, ds float64) {
 	st, m := wk.st, wk.wm
+	a, b, nOld, cOld := wk.wmAlpha(old), wk.wmB(old), float64(wk.nk[old]), float64(m.cnt[old])
+	m.old, m.invIn, m.invOut = old, 1/(nOld+b), 1/(nOld-1+b)
+	qw = wk.qword + a*((cOld-1)*m.invOut-cOld*m.invIn)
+	ds = a * st.beta0 * (m.invOut - m.invIn)
 	n := m.slab[o].k
 	l := m.slab[o+1 : o+1+n]
 	hits := m.hits[:len(l)]
@@ -379,7 +418,12 @@ func (wk *worker) wmParts(w, o int32) (both, qw, qp, denv, s float64) {
 	hb := m.hbuf[:c]
 	for i, x := range hits {
 		e := l[x]
-		v := float64(e.n) * float64(m.cnt[e.k]) * wk.wmInv(e.k)
+		var v float64
+		if e.k == old {
+			v = float64(e.n-1) * (cOld - 1) * m.invOut
+		} else {
+			v = float64(e.n) * float64(m.cnt[e.k]) * wk.wmInv(e.k)
+		}
 		hits[i] = e.k
 		hb[i] = v
 		both += v
@@ -389,7 +433,7 @@ func (wk *worker) wmParts(w, o int32) (both, qw, qp, denv, s float64) {
 		qp = wk.wmPrior(w, l)
 	}
 	denv = st.beta0 * float64(m.slab[o].n-1) / m.bmin
-	return both, wk.qword, qp, denv, wk.sCon + wk.sFree
+	return both, qw, qp, denv, wk.sCon + wk.sFree, ds
 }
 
 // scanRecord stores in m the indices of the entries of the record list l
@@ -411,7 +455,8 @@ func scanRecord(l []tc, bs []uint64, m []int32) (c int) {
 }
 
 // wmPrior fills pbuf with the prior terms (α_k+n_dk)·λπ_kw/(n_k+B_k) of w's
-// prior concepts, n_dk from the record's list l (both sorted by topic).
+// prior concepts, n_dk from the record's list l (both sorted by topic), the
+// current token taken out of its topic's counts.
 func (wk *worker) wmPrior(w int32, l []tc) float64 {
 	st := wk.st
 	lo, hi := st.pStart[w], st.pStart[w+1]
@@ -424,20 +469,20 @@ func (wk *worker) wmPrior(w int32, l []tc) float64 {
 		}
 		nd := 0.0
 		if i < len(l) && l[i].k == k {
-			nd = float64(l[i].n)
+			nd = float64(l[i].n - b2i(k == wk.wm.old))
 		}
-		v := (wk.wmAlpha(k) + nd) * pm[j] * wk.wmInv(k)
+		v := (wk.wmAlpha(k) + nd) * pm[j] * wk.wmInvX(k)
 		pb[j] = v
 		q += v
 	}
 	return q
 }
 
-// wmDraw draws a topic for the current token (occurrence j of word w, its
-// record list at slab offset o, the token removed from the counts).
-func (wk *worker) wmDraw(w, o int32, j int64) int32 {
-	both, qw, qp, denv, s := wk.wmParts(w, o)
-	return wk.wmPick(w, o, both, qw, qp, denv, s)
+// wmDraw draws a topic for the current token (of word w, its record list
+// at slab offset o, its topic old, still in the counts).
+func (wk *worker) wmDraw(w, o, old int32) int32 {
+	both, qw, qp, denv, s0, ds := wk.wmParts(w, o, old)
+	return wk.wmPick(w, o, both, qw, qp, denv, s0, ds)
 }
 
 // wmSmoothing is drawSmoothing (unrestricted) from the compact counts.
@@ -461,12 +506,14 @@ func (wk *worker) wmSmoothing(u float64) int32 {
 	}
 }
 
-// wmPick draws from the parts wmParts computed.
-func (wk *worker) wmPick(w, o int32, both, qw, qp, denv, s float64) int32 {
+// wmPick draws from the parts wmParts computed (the current token taken
+// out of its topic m.old's counts).
+func (wk *worker) wmPick(w, o int32, both, qw, qp, denv, s0, ds float64) int32 {
 	st, m := wk.st, wk.wm
 	wk.fst.WordMajorTokens++
 	g := wk.r
-	tot := both + qw + qp + denv + s
+	old := m.old
+	tot := both + qw + qp + denv + s0 + ds
 	for {
 		u := g.Float64() * tot
 		if u < both {
@@ -488,9 +535,9 @@ func (wk *worker) wmPick(w, o int32, both, qw, qp, denv, s float64) int32 {
 		if u < qw {
 			last := int32(-1)
 			for _, k := range m.touch {
-				if c := m.cnt[k]; c > 0 {
+				if c := m.cnt[k] - b2i(k == old); c > 0 {
 					last = k
-					if u -= wk.wmAlpha(k) * float64(c) * wk.wmInv(k); u < 0 {
+					if u -= wk.wmAlpha(k) * float64(c) * wk.wmInvX(k); u < 0 {
 						break
 					}
 				}
@@ -527,19 +574,22 @@ func (wk *worker) wmPick(w, o int32, both, qw, qp, denv, s float64) int32 {
 			var k int32
 			for _, e := range m.slab[o+1 : o+1+n] {
 				k = e.k
-				if r -= e.n; r < 0 {
+				if r -= e.n - b2i(k == old); r < 0 {
 					break
 				}
 			}
-			if g.Float64()*(float64(wk.nk[k])+wk.wmB(k)) < m.bmin {
+			if g.Float64()*(float64(wk.nk[k]-b2i(k == old))+wk.wmB(k)) < m.bmin {
 				wk.fst.DocAccepted++
 				return k
 			}
 			continue
 		}
 		u -= denv
-		if u < s {
+		if u < s0 {
 			return wk.wmSmoothing(u)
+		}
+		if u-s0 < ds {
+			return old
 		}
 		// Rounding ran past the total: draw again.
 	}

@@ -8,18 +8,20 @@ import (
 )
 
 // wmConditional lays the word-major parts out per topic for the current
-// token (word w, record list at slab offset o, the token removed): the
+// token (word w, record list at slab offset o, the token still counted on
+// its topic old, taken out by wmParts arithmetically): the
 // "both" terms wmParts computed, the word part α_k·n_kw/(n_k+B_k) over the
 // word's topics, the prior terms, the doc part n_dk·β0/(n_k+B_k) that the
 // rejection step targets and the smoothing terms. It checks the cached
 // totals (word part, smoothing), that the record list holds the record's
-// topic counts without the token, that the "both" terms are exactly the
+// topic counts with the token and n_kw those of z with it, that the "both" terms are exactly the
 // record's topics holding w, and that the doc envelope bounds the doc part
 // topic by topic. di is the record, i the token's position.
-func wmConditional(t *testing.T, wk *worker, w, o int32, di int, i int64) []float64 {
+func wmConditional(t *testing.T, wk *worker, w, o, old int32, di int, i int64) []float64 {
 	t.Helper()
 	st, m := wk.st, wk.wm
-	both, qw, qp, denv, s := wk.wmParts(w, o)
+	both, qw, qp, denv, s0, ds := wk.wmParts(w, o, old)
+	s := s0 + ds
 	p := make([]float64, st.K)
 
 	// The record list against z.
@@ -36,10 +38,12 @@ func wmConditional(t *testing.T, wk *worker, w, o int32, di int, i int64) []floa
 		if j > 0 && l[j-1].k >= e.k {
 			t.Fatalf("record list %v not sorted by topic", l)
 		}
-		if e.n <= 0 || ndk[e.k] != e.n {
-			t.Fatalf("record list %v: topic %d holds %d tokens in z", l, e.k, ndk[e.k])
+		if e.n <= 0 || ndk[e.k] != e.n-b2i(e.k == old) {
+			t.Fatalf("record list %v: topic %d holds %d other tokens in z (token on %d)", l, e.k, ndk[e.k], old)
 		}
-		seen++
+		if ndk[e.k] > 0 {
+			seen++
+		}
 	}
 	for _, n := range ndk {
 		if n > 0 {
@@ -62,7 +66,9 @@ func wmConditional(t *testing.T, wk *worker, w, o int32, di int, i int64) []floa
 	for j, k := range m.hits {
 		// A topic the word left during the pass stays in its bitset: its
 		// term is then 0.
-		if ndk[k] == 0 || (nkw[k] == 0 && m.hbuf[j] != 0) || hit[k] {
+		// The token's own topic stays in the record's list while the
+		// token is drawn: its term is then 0 if the record has no other.
+		if (ndk[k] == 0 && (k != old || m.hbuf[j] != 0)) || (nkw[k] == 0 && m.hbuf[j] != 0) || hit[k] {
 			t.Fatalf("both term %v at topic %d: n_dk %d, n_kw %v", m.hbuf[j], k, ndk[k], nkw[k])
 		}
 		hit[k] = true
@@ -73,7 +79,7 @@ func wmConditional(t *testing.T, wk *worker, w, o int32, di int, i int64) []floa
 		if nkw[k] > 0 && ndk[k] > 0 && !hit[int32(k)] {
 			t.Fatalf("topic %d holds the word and the record but has no both term", k)
 		}
-		if float64(m.cnt[k]) != nkw[k] {
+		if float64(m.cnt[k]-b2i(int32(k) == old)) != nkw[k] {
 			t.Fatalf("topic %d: n_kw %d cached, %v in z", k, m.cnt[k], nkw[k])
 		}
 		if nkw[k] > 0 && m.wbits[k>>6]>>(k&63)&1 == 0 {
@@ -81,7 +87,7 @@ func wmConditional(t *testing.T, wk *worker, w, o int32, di int, i int64) []floa
 		}
 	}
 	for k := 0; k < st.K; k++ {
-		inv := 1 / (float64(wk.nk[k]) + st.B[k])
+		inv := 1 / (float64(wk.nk[k]-b2i(int32(k) == old)) + st.B[k])
 		v := st.alpha[k] * nkw[k] * inv
 		p[k] += v
 		sw += v
@@ -220,8 +226,7 @@ func TestWordMajorEqualsDense(t *testing.T) {
 				}
 				i := st.occ[j]
 				old := st.z[i]
-				wk.wmRemove(o, old)
-				got := wmConditional(t, wk, w, o, recOf[i], i)
+				got := wmConditional(t, wk, w, o, old, recOf[i], i)
 				want := denseConditional(st, recOf[i], i)
 				for k := range want {
 					if math.Abs(got[k]-want[k]) > 1e-9 {
@@ -229,9 +234,7 @@ func TestWordMajorEqualsDense(t *testing.T) {
 					}
 				}
 				checked++
-				k := wk.wmDraw(w, o, j)
-				wk.wmAssign(o, k)
-				st.z[i] = k
+				st.z[i] = wk.wmToken(w, o, old)
 			}
 			wk.wmEndWord(w)
 		}
@@ -312,7 +315,6 @@ func TestWordMajorDrawMatchesConditional(t *testing.T) {
 		wk.wmBeginWord(w)
 		o := m.rec[j]
 		old := st.z[i]
-		wk.wmRemove(o, old)
 		want := denseConditional(st, recOf[i], i)
 
 		// Always accepting: the doc envelope n_dk·β0/B_min, the smoothing
@@ -332,16 +334,17 @@ func TestWordMajorDrawMatchesConditional(t *testing.T) {
 			}
 			return 0
 		}
+		nkX := func(k int) float64 { return float64(wk.nk[k] - b2i(int32(k) == old)) }
 		for k := 0; k < st.K; k++ {
-			inv := 1 / (float64(wk.nk[k]) + st.B[k])
+			inv := 1 / (nkX(k) + st.B[k])
 			sProp[group(k)] += st.alpha[k] * st.beta0 / st.B[k]
 			sTrue[group(k)] += st.alpha[k] * st.beta0 * inv
 		}
 		naive := make([]float64, st.K)
 		var tot float64
 		for k := 0; k < st.K; k++ {
-			inv := 1 / (float64(wk.nk[k]) + st.B[k])
-			nkw := float64(m.cnt[k])
+			inv := 1 / (nkX(k) + st.B[k])
+			nkw := float64(m.cnt[k] - b2i(int32(k) == old))
 			pm := st.priorMass(int32(k), w)
 			naive[k] = (ndk[k]+st.alpha[k])*(nkw+pm)*inv + ndk[k]*st.beta0/m.bmin +
 				st.alpha[k]*st.beta0/st.B[k]*sTrue[group(k)]/sProp[group(k)]
@@ -354,7 +357,7 @@ func TestWordMajorDrawMatchesConditional(t *testing.T) {
 		const n = 400000
 		counts := make([]float64, st.K)
 		for x := 0; x < n; x++ {
-			counts[wk.wmDraw(w, o, j)]++
+			counts[wk.wmDraw(w, o, old)]++
 		}
 		worstNaive := 0.0
 		for k := range want {
