@@ -279,7 +279,11 @@ func TestWordMajorEqualsDense(t *testing.T) {
 // so the test would catch that bug. Common practice, no source.
 func TestWordMajorDrawMatchesConditional(t *testing.T) {
 	withFlat(t)
-	for _, prior := range []bool{false, true} {
+	// small: the token's own topic holds only it and one other token of
+	// its record, so taking the token out (n_k−1, n_dk−1) changes that
+	// topic's terms and its doc acceptance B_min/(n_k−1+B_k) a lot.
+	for _, tc := range []struct{ prior, small bool }{{false, false}, {true, false}, {true, true}} {
+		prior := tc.prior
 		p, c := randomSetup(42, 8, 6, 40, 12)
 		if !prior {
 			p.Lambda = 0
@@ -294,6 +298,27 @@ func TestWordMajorDrawMatchesConditional(t *testing.T) {
 		}
 		st.initAssign()
 		st.sweepOnce()
+		var small *sdoc
+		if tc.small {
+			// The last free topic's tokens go to the one before; the first
+			// two tokens of a record without subjects (≥ 3 tokens) take it.
+			kx := int32(st.K - 1)
+			for x, k := range st.z {
+				if k == kx {
+					st.z[x] = kx - 1
+				}
+			}
+			for di := range st.docs {
+				if d := &st.docs[di]; d.subjects == nil && d.end-d.start >= 3 {
+					small = d
+					break
+				}
+			}
+			st.z[small.start], st.z[small.start+1] = kx, kx
+			if err := st.rebuildCounts(); err != nil {
+				t.Fatal(err)
+			}
+		}
 		wk := st.workers[0]
 		wk.refresh()
 		if wk.wm == nil {
@@ -308,6 +333,12 @@ func TestWordMajorDrawMatchesConditional(t *testing.T) {
 		for ; j < int64(len(st.occ)); j++ {
 			if o := m.rec[j]; o >= 0 && m.slab[o].n >= 3 {
 				break
+			}
+		}
+		if small != nil {
+			j = int64(m.zpos[small.start])
+			if wk.nk[st.K-1] != 2 {
+				t.Fatalf("small: n_k %d", wk.nk[st.K-1])
 			}
 		}
 		i := st.occ[j]
@@ -374,10 +405,10 @@ func TestWordMajorDrawMatchesConditional(t *testing.T) {
 			}
 		}
 		if worstNaive < 20 {
-			t.Errorf("prior=%v: the draws are within %.1f standard errors of an always-accepting sampler: the test has no power", prior, worstNaive)
+			t.Errorf("prior=%v small=%v: the draws are within %.1f standard errors of an always-accepting sampler: the test has no power", prior, tc.small, worstNaive)
 		}
-		t.Logf("prior=%v: always-accept distribution off by up to %.0f standard errors; doc proposals %d, %d accepted",
-			prior, worstNaive, wk.fst.DocProposals, wk.fst.DocAccepted)
+		t.Logf("prior=%v small=%v: always-accept distribution off by up to %.0f standard errors; doc proposals %d, %d accepted",
+			prior, tc.small, worstNaive, wk.fst.DocProposals, wk.fst.DocAccepted)
 	}
 }
 
