@@ -52,8 +52,8 @@ import (
 type wmIndex struct {
 	rec   []int32  // per occurrence (st.occ order): slab offset of the record's list, −1: record with subjects
 	zw    []int32  // per occurrence: its topic during the sweep (z in word order)
-	zpos  []int32  // per token: its occurrence index (the inverse of st.occ)
 	zwOK  bool     // zw equals z (set by a word-major sweep, cleared by anything else that changes z)
+	moved []int32  // occurrences whose topic changed in this sweep (in z at its end)
 	doff  []int32  // per record: slab offset of its list, −1: record with subjects
 	slab  []tc     // record lists (see above)
 	cnt   []int32  // K: n_kw of the word being swept (0 between words)
@@ -124,10 +124,8 @@ func (st *state) wmIndexBuild() *wmIndex {
 	}
 	m.rec = make([]int32, len(st.occ))
 	m.zw = make([]int32, len(st.occ))
-	m.zpos = make([]int32, len(st.occ))
 	for j, p := range st.occ {
 		m.rec[j] = tokRec[p]
-		m.zpos[p] = int32(j)
 	}
 	m.wbits = make([]uint64, (st.K+63)/64)
 	m.cnt = make([]int32, st.K)
@@ -221,18 +219,19 @@ func (wk *worker) wordMajor() {
 			if o < 0 {
 				continue
 			}
-			m.zw[j] = wk.wmToken(w, o, m.zw[j])
+			// A token that keeps its topic writes nothing (wmToken).
+			old := m.zw[j]
+			if k := wk.wmToken(w, o, old); k != old {
+				m.zw[j] = k
+				m.moved = append(m.moved, int32(j)) // j < len(st.occ) ≤ MaxInt32
+			}
 		}
 		wk.wmEndWord(w)
 	}
-	for di := range st.docs { // back into z
-		if m.doff[di] >= 0 {
-			d := &st.docs[di]
-			for i := d.start; i < d.end; i++ {
-				st.z[i] = m.zw[m.zpos[i]]
-			}
-		}
+	for _, j := range m.moved { // back into z: the topics that changed
+		st.z[st.occ[j]] = m.zw[j]
 	}
+	m.moved = m.moved[:0]
 	m.zwOK = true
 }
 

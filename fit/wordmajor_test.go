@@ -336,7 +336,8 @@ func TestWordMajorDrawMatchesConditional(t *testing.T) {
 			}
 		}
 		if small != nil {
-			j = int64(m.zpos[small.start])
+			for j = 0; st.occ[j] != small.start; j++ {
+			}
 			if wk.nk[st.K-1] != 2 {
 				t.Fatalf("small: n_k %d", wk.nk[st.K-1])
 			}
