@@ -267,6 +267,23 @@ func (wk *worker) doc(d *sdoc, first bool) {
 	wk.end()
 }
 
+// moveSmoothing adds ds to topic k's smoothing mass α_k·β0/(n_k+B_k): to
+// the free or concept total, and to its Fenwick tree unless the smoothing
+// bucket is drawn by rejection.
+func (wk *worker) moveSmoothing(k int32, ds float64) {
+	if c := wk.st.C; int(k) >= c {
+		wk.sFree += ds
+		if !wk.smoothRej {
+			wk.fenF.add(int(k)-c, ds)
+		}
+	} else {
+		wk.sCon += ds
+		if !wk.smoothRej {
+			wk.fenC.add(int(k), ds)
+		}
+	}
+}
+
 // update moves topic k's cached terms from before to after a count change.
 func (wk *worker) update(k int32, ndBefore int32) {
 	st := wk.st
@@ -276,19 +293,9 @@ func (wk *worker) update(k int32, ndBefore int32) {
 	t.inv = inv
 	a := t.alpha
 	ds := a * st.beta0 * (inv - invOld)
-	if int(k) >= st.C {
-		wk.sFree += ds
-		if !wk.smoothRej {
-			wk.fenF.add(int(k)-st.C, ds)
-		}
-	} else {
-		wk.sCon += ds
-		if !wk.smoothRej {
-			wk.fenC.add(int(k), ds)
-		}
-		if wk.restricted {
-			wk.sSubj += ds
-		}
+	wk.moveSmoothing(k, ds)
+	if wk.restricted && int(k) < st.C {
+		wk.sSubj += ds
 	}
 	nd := t.ndk
 	wk.rsum += st.beta0 * (float64(nd)*inv - float64(ndBefore)*invOld)

@@ -324,18 +324,7 @@ func (wk *worker) wmMove(k int32, dn int32) {
 	invOld := 1 / (float64(n) + b)
 	wk.nk[k], m.cnt[k] = n+dn, c+dn
 	inv := 1 / (float64(n+dn) + b)
-	ds := a * st.beta0 * (inv - invOld)
-	if int(k) >= st.C {
-		wk.sFree += ds
-		if !wk.smoothRej {
-			wk.fenF.add(int(k)-st.C, ds)
-		}
-	} else {
-		wk.sCon += ds
-		if !wk.smoothRej {
-			wk.fenC.add(int(k), ds)
-		}
-	}
+	wk.moveSmoothing(k, a*st.beta0*(inv-invOld))
 	wk.qword += a * (float64(c+dn)*inv - float64(c)*invOld)
 }
 
