@@ -477,25 +477,31 @@ func (wk *worker) draw(w, old int32) int32 {
 	return wk.pickOther(w, u-qw, qp, r)
 }
 
+// pickPrior returns the topic at offset u of word w's prior bucket, whose
+// per-term masses are in pbuf; when rounding leaves u past the end, the
+// last term with mass, and -1 when no term has any.
+func (wk *worker) pickPrior(w int32, u float64) int32 {
+	st := wk.st
+	pt := st.pTopic[st.pStart[w]:st.pStart[w+1]]
+	last := int32(-1)
+	for j, v := range wk.pbuf[:len(pt)] {
+		if v > 0 {
+			last = pt[j]
+			if u -= v; u < 0 {
+				break
+			}
+		}
+	}
+	return last
+}
+
 // pickOther returns the topic at offset u of the prior, document and
 // smoothing buckets, in that order.
 func (wk *worker) pickOther(w int32, u, qp, r float64) int32 {
 	st := wk.st
 	if u < qp {
-		lo, hi := st.pStart[w], st.pStart[w+1]
-		pt := st.pTopic[lo:hi]
-		last := int32(-1)
-		for j, v := range wk.pbuf[:len(pt)] {
-			if v > 0 {
-				last = pt[j]
-				u -= v
-				if u < 0 {
-					return pt[j]
-				}
-			}
-		}
-		if last >= 0 {
-			return last
+		if k := wk.pickPrior(w, u); k >= 0 {
+			return k
 		}
 	}
 	u -= qp

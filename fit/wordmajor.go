@@ -497,7 +497,7 @@ func (wk *worker) wmSmoothing(u float64) int32 {
 // wmPick draws from the parts wmParts computed (the current token taken
 // out of its topic m.old's counts).
 func (wk *worker) wmPick(w, o int32, both, qw, qp, denv, s0, ds float64) int32 {
-	st, m := wk.st, wk.wm
+	m := wk.wm
 	wk.fst.WordMajorTokens++
 	g := wk.r
 	old := m.old
@@ -537,19 +537,8 @@ func (wk *worker) wmPick(w, o int32, both, qw, qp, denv, s0, ds float64) int32 {
 		}
 		u -= qw
 		if u < qp {
-			lo, hi := st.pStart[w], st.pStart[w+1]
-			pt := st.pTopic[lo:hi]
-			last := int32(-1)
-			for j, v := range wk.pbuf[:len(pt)] {
-				if v > 0 {
-					last = pt[j]
-					if u -= v; u < 0 {
-						break
-					}
-				}
-			}
-			if last >= 0 {
-				return last
+			if k := wk.pickPrior(w, u); k >= 0 {
+				return k
 			}
 			continue
 		}
