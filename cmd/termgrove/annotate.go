@@ -250,9 +250,10 @@ func annRun(annotateFn func(id, text string, opt annotate.Options) (*annotate.Re
 		for j := range order {
 			<-j.done
 			if j.err != nil {
-				// Name the record once: "f:1: id: text too large", not "id: id: ...".
+				// Name the record once: "f:1: id: text too large", not "id: id: ...";
+				// a plain-text input named by its path alone ("-") likewise.
 				msg := j.err.Error()
-				if j.id != "" && strings.HasSuffix(j.where, ": "+j.id) && strings.HasPrefix(msg, j.id+": ") {
+				if j.id != "" && (j.where == j.id || strings.HasSuffix(j.where, ": "+j.id)) && strings.HasPrefix(msg, j.id+": ") {
 					msg = strings.TrimPrefix(msg, j.id+": ")
 				}
 				fmt.Fprintf(stderr, "termgrove annotate: %s: %s\n", j.where, msg)

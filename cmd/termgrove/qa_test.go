@@ -483,6 +483,16 @@ func TestAnnotateTooLargeRecordMessage(t *testing.T) {
 	}
 }
 
+// TestAnnotateTooLargeTextMessage: plain text on standard input is named
+// "-" once, not "-: -: text too large".
+func TestAnnotateTooLargeTextMessage(t *testing.T) {
+	mp := annTestModel(t)
+	_, errs, code := annCall(t, strings.Repeat("w1 ", 400_000), "--model", mp, "-")
+	if code != 1 || !strings.Contains(errs, "termgrove annotate: -: text too large") || strings.Contains(errs, "-: -:") {
+		t.Errorf("exit %d, stderr %q", code, errs)
+	}
+}
+
 // TestFitVocabFromStdin: "-" reads the vocabulary from standard input, as
 // in check; both inputs from standard input is a usage error.
 func TestFitVocabFromStdin(t *testing.T) {
