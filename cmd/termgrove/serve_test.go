@@ -8,6 +8,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"strings"
+	"sync"
 	"syscall"
 	"testing"
 	"time"
@@ -55,6 +56,25 @@ func TestServeUsage(t *testing.T) {
 	}
 }
 
+// lockedBuffer is a bytes.Buffer that a test may read while a process
+// writes to it.
+type lockedBuffer struct {
+	mu sync.Mutex
+	b  bytes.Buffer
+}
+
+func (l *lockedBuffer) Write(p []byte) (int, error) {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	return l.b.Write(p)
+}
+
+func (l *lockedBuffer) String() string {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	return l.b.String()
+}
+
 // TestServeSignals runs `termgrove serve` as a process: it serves, reloads
 // the model file on SIGHUP and exits cleanly on SIGTERM.
 func TestServeSignals(t *testing.T) {
@@ -67,7 +87,7 @@ func TestServeSignals(t *testing.T) {
 	cmd := exec.Command(os.Args[0], "-test.run=^TestServeHelperProcess$")
 	cmd.Env = append(os.Environ(), "TERMGROVE_SERVE_ARGS="+strings.Join([]string{
 		"--model", "syn=" + path, "--listen", addr, "--metrics-listen", "off", "--log-format", "json", "--grace", "5s"}, "\n"))
-	var stderr bytes.Buffer
+	var stderr lockedBuffer
 	cmd.Stderr = &stderr
 	if err := cmd.Start(); err != nil {
 		t.Fatal(err)
@@ -108,6 +128,10 @@ func TestServeSignals(t *testing.T) {
 			t.Fatalf("no reload after SIGHUP:\n%s", stderr.String())
 		}
 		time.Sleep(20 * time.Millisecond)
+	}
+	// The new generation is served a moment before its log line is written.
+	for !strings.Contains(stderr.String(), `"msg":"model reloaded"`) && ctx.Err() == nil {
+		time.Sleep(10 * time.Millisecond)
 	}
 	cmd.Process.Signal(syscall.SIGTERM)
 	if err := cmd.Wait(); err != nil {
