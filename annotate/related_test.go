@@ -2,6 +2,8 @@ package annotate
 
 import (
 	"math"
+	"math/rand/v2"
+	"slices"
 	"strings"
 	"testing"
 
@@ -66,5 +68,69 @@ func TestRelatedConcepts(t *testing.T) {
 	}
 	if math.Abs(got[best]-scores[best]) > 0.05 {
 		t.Errorf("best concept moved from %v to %v", scores[best], got[best])
+	}
+}
+
+// TestAddRelatedDense: addRelated's dense boosts are, bit for bit, the
+// sums γ·Σ_j s_j·L_jk taken in candidate order, the concepts it appends
+// are exactly those reached outside the candidates, each once, and put
+// clears the boosts for the next record. Source: the definition in
+// addRelated's comment (a map per record computed the same before).
+func TestAddRelatedDense(t *testing.T) {
+	m := modeltest.Synthetic(modeltest.Options{Concepts: 200, Free: 4, Words: 500, WordsPerConcept: 10, Seed: 5})
+	r := rand.New(rand.NewPCG(7, 8))
+	m.Related = make([][]model.ConceptWeight, m.C)
+	for j := range m.Related {
+		for range r.IntN(6) {
+			m.Related[j] = append(m.Related[j], model.ConceptWeight{Concept: int32(r.IntN(m.C)), Weight: r.Float64()})
+		}
+	}
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for trial := 0; trial < 20; trial++ {
+		st := a.get()
+		var cand []int32
+		in := map[int32]bool{}
+		for _, k := range r.Perm(m.C)[:1+r.IntN(60)] {
+			cand = append(cand, int32(k))
+			in[int32(k)] = true
+		}
+		sc := map[int32]float64{}
+		score := func(k int32) float64 {
+			if _, ok := sc[k]; !ok {
+				sc[k] = r.Float64()
+			}
+			return sc[k]
+		}
+		want := map[int32]float64{}
+		n0 := len(cand)
+		got := a.addRelated(st, slices.Clone(cand), score)
+		for _, j := range cand {
+			for _, x := range m.Related[j] {
+				want[x.Concept] += relatedWeight * sc[j] * x.Weight
+			}
+		}
+		if !slices.Equal(got[:n0], cand) {
+			t.Fatalf("trial %d: candidates changed", trial)
+		}
+		added := map[int32]bool{}
+		for _, k := range got[n0:] {
+			if in[k] || added[k] {
+				t.Fatalf("trial %d: concept %d appended twice or already a candidate", trial, k)
+			}
+			added[k] = true
+		}
+		for k := int32(0); k < int32(m.C); k++ {
+			w, ok := want[k]
+			if st.relHas[k] != ok || st.rel[k] != w {
+				t.Fatalf("trial %d: concept %d boost %v (%v), want %v (%v)", trial, k, st.rel[k], st.relHas[k], w, ok)
+			}
+			if ok && !in[k] && !added[k] {
+				t.Fatalf("trial %d: boosted concept %d not appended", trial, k)
+			}
+		}
+		a.put(st)
 	}
 }
