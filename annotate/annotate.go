@@ -720,6 +720,7 @@ type state struct {
 	startW, startZ []float64
 	tl             []topicLocal // grouped with startExpected: per topic of bT
 	tk             []int32      // K: k's index in tl, valid while bh[k] > 0
+	e0k            []float64    // K: group's sums for E⁰_k, 0 between records
 	un, uo         []int32      // word type → list length, offset in bent
 	samples        int          // the sampling sweeps infer ran
 }
@@ -994,19 +995,26 @@ func (a *Annotator) group(st *state, T int, exp bool) {
 	bh, bT := st.bh, st.bT
 	i := int32(0)
 	if exp {
-		// The same, adding each word's own expected counts to e0:
-		// n_u·α_k·s_kw/A_w (startExpected), with α_k, the same for all
-		// of a topic's entries, multiplied in at the end.
+		// The same, adding up each word's own expected counts
+		// n_u·α_k·s_kw/A_w (startExpected) per topic in e0k, indexed by
+		// k straight from the entry (not by its local index, which waits
+		// for bh and tk), with α_k, the same for all of a topic's
+		// entries, multiplied in at the end.
 		if len(st.tk) < a.K { // grouped records only: not for a row-mode state
 			st.tk = make([]int32, a.K)
 		}
 		tl, alpha, phi0, tk := st.tl[:0], a.alpha, a.phi0, st.tk
+		if len(st.e0k) < a.K {
+			st.e0k = make([]float64, a.K)
+		}
+		e0k := st.e0k
 		for u, w := range st.uw {
 			f := float64(st.ucnt[u]) / st.awu[u]
 			lst := a.ent[a.off[w]:a.off[w+1]]
 			out := bent[i:][:len(lst)]
 			for j := range lst {
 				k, sk := lst[j].k, lst[j].s
+				e0k[k] += f * sk
 				h := bh[k]
 				if h == 0 {
 					bT = append(bT, k)
@@ -1014,16 +1022,15 @@ func (a *Annotator) group(st *state, T int, exp bool) {
 					ak := alpha[k]
 					tl = append(tl, topicLocal{alpha: ak, phi0: phi0[k], e1: ak})
 				}
-				t := tk[k]
 				b := &out[j]
-				b.u, b.k, b.next, b.t, b.s = int32(u), k, h-1, t, sk
+				b.u, b.k, b.next, b.t, b.s = int32(u), k, h-1, tk[k], sk
 				i++
 				bh[k] = i
-				tl[t].e0 += f * sk
 			}
 		}
-		for j := range tl { // E⁰_k = α_k·Σ_u f_u·s_kw, plus α_k
-			tl[j].e0 = tl[j].alpha * (1 + tl[j].e0)
+		for j, k := range bT { // E⁰_k = α_k·Σ_u f_u·s_kw, plus α_k
+			tl[j].e0 = tl[j].alpha * (1 + e0k[k])
+			e0k[k] = 0
 		}
 		st.bent, st.bT, st.tl = bent, bT, tl
 		return
@@ -2141,15 +2148,32 @@ func (a *Annotator) startExpected(st *state, rng *splitMix) {
 			continue
 		}
 		cum := g[o : o+n]
-		lo, hi := 0, n-1 // the first j with x < cum[j]
-		for lo < hi {
-			mid := int(uint(lo+hi) >> 1)
-			if x < cum[mid] {
-				hi = mid
-			} else {
-				lo = mid + 1
-			}
-		}
-		st.z[i] = bent[o+lo].k
+		// The first j with x < cum[j]: x < cum[n-1].
+		st.z[i] = bent[o+searchSorted(cum[:n-1], x)].k
 	}
+}
+
+// searchSorted returns how many entries of cum are at most x: the first j
+// with x < cum[j], or len(cum). cum must be non-decreasing and x and cum
+// non-negative (not NaN): their bit patterns then order as the numbers
+// do, and the halving steps add a mask instead of branching on a
+// comparison that goes either way half the time.
+func searchSorted(cum []float64, x float64) int {
+	n := len(cum)
+	if n == 0 {
+		return 0
+	}
+	xb := int64(math.Float64bits(x))
+	base := 0
+	for n > 1 {
+		half := n >> 1
+		// all ones when cum[base+half] ≤ x
+		m := ^((xb - int64(math.Float64bits(cum[base+half]))) >> 63)
+		base += half & int(m)
+		n -= half
+	}
+	if int64(math.Float64bits(cum[base])) <= xb {
+		base++
+	}
+	return base
 }

@@ -1154,3 +1154,34 @@ func TestStartExpected(t *testing.T) {
 		}
 	}
 }
+
+// TestSearchSorted: searchSorted counts the entries at most x, as a
+// linear scan does, on running sums with flat runs (empty entries), zeros
+// and x on an entry. Common practice, no source.
+func TestSearchSorted(t *testing.T) {
+	r := rand.New(rand.NewPCG(21, 22))
+	for trial := 0; trial < 2000; trial++ {
+		n := r.IntN(40)
+		cum := make([]float64, n)
+		c := 0.0
+		for j := range cum {
+			if r.IntN(3) > 0 {
+				c += r.Float64() * math.Pow(10, float64(r.IntN(12)-6))
+			}
+			cum[j] = c
+		}
+		xs := []float64{0, c, c * 2, r.Float64() * c}
+		if n > 0 {
+			xs = append(xs, cum[r.IntN(n)])
+		}
+		for _, x := range xs {
+			want := 0
+			for want < n && cum[want] <= x {
+				want++
+			}
+			if got := searchSorted(cum, x); got != want {
+				t.Fatalf("cum %v, x %v: got %d, want %d", cum, x, got, want)
+			}
+		}
+	}
+}
