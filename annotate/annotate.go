@@ -170,18 +170,32 @@ func (a *Annotator) addRelated(st *state, cand []int32, score func(int32) float6
 	for _, k := range cand {
 		mark[k] = gen
 	}
+	// relT lists the boosted concepts in the order first reached: each
+	// pair writes its concept at the list's end, which grows only when
+	// the concept is new (no branch to mispredict on has).
 	relT := st.relT[:0]
+	if cap(relT) < a.C+1 {
+		relT = make([]int32, 0, a.C+1)
+	}
+	all, n := relT[:a.C+1], 0
+	related := a.m.Related
 	for _, j := range cand {
+		row := related[j]
+		if len(row) == 0 {
+			continue
+		}
 		sj := score(j)
-		for _, r := range a.m.Related[j] {
+		for _, r := range row {
 			k := r.Concept
+			all[n] = k
 			if !has[k] {
-				has[k] = true
-				relT = append(relT, k)
+				n++
 			}
+			has[k] = true
 			rel[k] += relatedWeight * sj * r.Weight
 		}
 	}
+	relT = all[:n]
 	for _, k := range relT {
 		if mark[k] != gen {
 			cand = append(cand, k)

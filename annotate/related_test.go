@@ -85,6 +85,12 @@ func TestAddRelatedDense(t *testing.T) {
 			m.Related[j] = append(m.Related[j], model.ConceptWeight{Concept: int32(r.IntN(m.C)), Weight: r.Float64()})
 		}
 	}
+	// Concept 0 reaches every concept: with it among the candidates the
+	// list of boosted concepts fills up while pairs still come.
+	m.Related[0] = nil
+	for k := range m.C {
+		m.Related[0] = append(m.Related[0], model.ConceptWeight{Concept: int32(k), Weight: r.Float64()})
+	}
 	a, err := New(m)
 	if err != nil {
 		t.Fatal(err)
@@ -94,8 +100,15 @@ func TestAddRelatedDense(t *testing.T) {
 		var cand []int32
 		in := map[int32]bool{}
 		for _, k := range r.Perm(m.C)[:1+r.IntN(60)] {
+			if k == 0 && trial%2 == 0 {
+				continue
+			}
 			cand = append(cand, int32(k))
 			in[int32(k)] = true
+		}
+		if trial%4 == 1 && !in[0] {
+			cand = append(cand, 0)
+			in[0] = true
 		}
 		sc := map[int32]float64{}
 		score := func(k int32) float64 {
