@@ -184,16 +184,8 @@ func (a *Annotator) addRelated(st *state, cand []int32, score func(int32) float6
 		if len(row) == 0 {
 			continue
 		}
-		sj := score(j)
-		for _, r := range row {
-			k := r.Concept
-			all[n] = k
-			if !has[k] {
-				n++
-			}
-			has[k] = true
-			rel[k] += relatedWeight * sj * r.Weight
-		}
+		// (γ·s_j)·L_jk: Go multiplies left to right, as γ·s_j·L_jk did.
+		n = boostRow(row, relatedWeight*score(j), rel, has, all, n)
 	}
 	relT = all[:n]
 	for _, k := range relT {
@@ -203,6 +195,26 @@ func (a *Annotator) addRelated(st *state, cand []int32, score func(int32) float6
 	}
 	st.relT = relT
 	return cand
+}
+
+// boostRow adds c·L_jk to rel[k] for the pairs of one related row, with
+// c = γ·s_j, writing each k at all[n] and moving n on when has[k] was
+// not yet set; it returns n. A leaf function of its own, so that the
+// loop keeps its variables in registers (inside addRelated they were
+// reloaded from the stack at every pair).
+//
+//go:noinline
+func boostRow(row []model.ConceptWeight, c float64, rel []float64, has []bool, all []int32, n int) int {
+	for _, r := range row {
+		k := r.Concept
+		all[n] = k
+		if !has[k] {
+			n++
+		}
+		has[k] = true
+		rel[k] += c * r.Weight
+	}
+	return n
 }
 
 // seedSalt, when not 0, is hashed into every record's seed: tests set it
