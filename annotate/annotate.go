@@ -157,22 +157,28 @@ const relatedWeight = 0.3
 // appending the concepts it reaches to cand (in the order first reached).
 // Scores then no longer sum to 1 with Uncovered; they rank. Dense arrays
 // over the concepts, cleared through st.relT, instead of maps: a debtags
-// record's candidates reach about 10,000 (j, k) pairs, and the maps took
+// record's candidates reach about 6,500 (j, k) pairs, and the maps took
 // two thirds of a concepts-only record's time. The sums are added in the
 // same order as before, so the boosts are the same bits.
+//
+// st.rel holds −0 for a concept not reached: −0 + x = x for every x, so
+// the first pair's sum is the same as from +0, and the sign bit says
+// whether a pair has reached the concept (every γ·s_j·L_jk is +0 or
+// more: Validate keeps L_jk in (0, 1]). Adding −0 to an unreached
+// concept's score leaves it as it was.
 func (a *Annotator) addRelated(st *state, cand []int32, score func(int32) float64) []int32 {
 	if len(st.rel) < a.C {
-		st.rel, st.relHas = make([]float64, a.C), make([]bool, a.C)
+		st.rel = make([]float64, a.C)
+		for k := range st.rel {
+			st.rel[k] = negZero
+		}
 	}
-	rel, has := st.rel, st.relHas
+	rel := st.rel
 	st.nextGen()
 	mark, gen := st.mark, st.gen
 	for _, k := range cand {
 		mark[k] = gen
 	}
-	// relT lists the boosted concepts in the order first reached: each
-	// pair writes its concept at the list's end, which grows only when
-	// the concept is new (no branch to mispredict on has).
 	relT := st.relT[:0]
 	if cap(relT) < a.C+1 {
 		relT = make([]int32, 0, a.C+1)
@@ -185,7 +191,7 @@ func (a *Annotator) addRelated(st *state, cand []int32, score func(int32) float6
 			continue
 		}
 		// (γ·s_j)·L_jk: Go multiplies left to right, as γ·s_j·L_jk did.
-		n = boostRow(row, relatedWeight*score(j), rel, has, all, n)
+		n = boostRow(row, relatedWeight*score(j), rel, all, n)
 	}
 	relT = all[:n]
 	for _, k := range relT {
@@ -197,22 +203,24 @@ func (a *Annotator) addRelated(st *state, cand []int32, score func(int32) float6
 	return cand
 }
 
+// negZero is −0, addRelated's mark of a concept no pair has reached.
+var negZero = math.Copysign(0, -1)
+
 // boostRow adds c·L_jk to rel[k] for the pairs of one related row, with
-// c = γ·s_j, writing each k at all[n] and moving n on when has[k] was
-// not yet set; it returns n. A leaf function of its own, so that the
-// loop keeps its variables in registers (inside addRelated they were
-// reloaded from the stack at every pair).
+// c = γ·s_j, and lists each k at all[n] the first time (rel[k] still −0:
+// its sign bit moves n on, without a branch); it returns n. A leaf
+// function of its own, so that the loop keeps its variables in
+// registers (inside addRelated they were reloaded from the stack at
+// every pair).
 //
 //go:noinline
-func boostRow(row []model.ConceptWeight, c float64, rel []float64, has []bool, all []int32, n int) int {
+func boostRow(row []model.ConceptWeight, c float64, rel []float64, all []int32, n int) int {
 	for _, r := range row {
 		k := r.Concept
+		v := rel[k]
 		all[n] = k
-		if !has[k] {
-			n++
-		}
-		has[k] = true
-		rel[k] += c * r.Weight
+		n += int(math.Float64bits(v) >> 63)
+		rel[k] = v + c*r.Weight
 	}
 	return n
 }
@@ -711,11 +719,10 @@ type state struct {
 	ranked    []scored
 	cand      []int32
 	sup       []Support // support's scratch
-	// addRelated's boosts: rel[k] is concept k's γ·Σ_j s_j·L_jk when
-	// relHas[k]; relT lists those k (cleared by put).
-	rel    []float64
-	relHas []bool
-	relT   []int32
+	// addRelated's boosts: rel[k] is concept k's γ·Σ_j s_j·L_jk, or −0
+	// when no pair reached it; relT lists the reached k (reset by put).
+	rel  []float64
+	relT []int32
 	// calibrated's scratch: pv[k] is concept k's calibrated score when
 	// pvMark[k] == pvGen; zs the candidates' log-odds.
 	pv     []float64
@@ -780,7 +787,7 @@ func (a *Annotator) put(st *state) {
 	}
 	st.aggT = st.aggT[:0]
 	for _, k := range st.relT {
-		st.rel[k], st.relHas[k] = 0, false
+		st.rel[k] = negZero
 	}
 	st.relT = st.relT[:0]
 	st.slotTopic, st.pos, st.act, st.out = st.slotTopic[:0], st.pos[:0], st.act[:0], st.out[:0]

@@ -137,8 +137,8 @@ func TestAddRelatedDense(t *testing.T) {
 		}
 		for k := int32(0); k < int32(m.C); k++ {
 			w, ok := want[k]
-			if st.relHas[k] != ok || st.rel[k] != w {
-				t.Fatalf("trial %d: concept %d boost %v (%v), want %v (%v)", trial, k, st.rel[k], st.relHas[k], w, ok)
+			if reached := !math.Signbit(st.rel[k]); reached != ok || st.rel[k] != w {
+				t.Fatalf("trial %d: concept %d boost %v (reached %v), want %v (%v)", trial, k, st.rel[k], reached, w, ok)
 			}
 			if ok && !in[k] && !added[k] {
 				t.Fatalf("trial %d: boosted concept %d not appended", trial, k)
