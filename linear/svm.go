@@ -7,7 +7,10 @@
 // TrainSVM minimises the primal of LinearSVC's defaults (squared hinge
 // loss, the intercept a regularised feature of value 1):
 //
-//	½‖w‖² + ½b² + C·Σ_i max(0, 1 − y_i·(w·x_i + b))²
+//	½‖w‖² + ½b² + C·Σ_i c_i·max(0, 1 − y_i·(w·x_i + b))²
+//
+// with case weights c_i (SVMOptions.Weight; 1 by default, scikit-learn's
+// sample_weight).
 //
 // Example:
 //
@@ -49,6 +52,9 @@ type SVMOptions struct {
 	MaxEpochs int
 	// Seed orders each epoch's visits.
 	Seed uint64
+	// Weight, when set, holds each case's weight c_i (len(xs) values, each
+	// > 0): case i's loss counts c_i times, as c_i copies of it would.
+	Weight []float64
 }
 
 // ErrInput: the vectors and labels do not match, or an index is out of w.
@@ -77,6 +83,16 @@ func trainSVM(xs []Vector, ys []bool, opt SVMOptions, w []float64, scratch *svmS
 	if !(opt.C > 0) || math.IsInf(opt.C, 0) || !(opt.Epsilon > 0) {
 		return 0, 0, ErrInput
 	}
+	if opt.Weight != nil {
+		if len(opt.Weight) != len(xs) {
+			return 0, 0, ErrInput
+		}
+		for _, c := range opt.Weight {
+			if !(c > 0) || math.IsInf(c, 0) {
+				return 0, 0, ErrInput
+			}
+		}
+	}
 	for i := range w {
 		w[i] = 0
 	}
@@ -85,11 +101,14 @@ func trainSVM(xs []Vector, ys []bool, opt SVMOptions, w []float64, scratch *svmS
 		scratch = &svmScratch{}
 	}
 	scratch.grow(n)
-	alpha, qd, order := scratch.alpha[:n], scratch.qd[:n], scratch.order[:n]
-	diag := 0.5 / opt.C // D_ii of the squared hinge loss
+	alpha, qd, order, diag := scratch.alpha[:n], scratch.qd[:n], scratch.order[:n], scratch.diag[:n]
 	for i, x := range xs {
 		alpha[i] = 0
-		q := 1 + diag // the intercept's feature, 1
+		diag[i] = 0.5 / opt.C // D_ii of the squared hinge loss
+		if opt.Weight != nil {
+			diag[i] /= opt.Weight[i]
+		}
+		q := 1 + diag[i] // the intercept's feature, 1
 		for k, j := range x.Index {
 			if j < 0 || int(j) >= len(w) {
 				return 0, 0, ErrInput
@@ -113,7 +132,7 @@ func trainSVM(xs []Vector, ys []bool, opt SVMOptions, w []float64, scratch *svmS
 			if ys[i] {
 				y = 1
 			}
-			g := y*(x.Dot(w)+b) - 1 + diag*alpha[i]
+			g := y*(x.Dot(w)+b) - 1 + diag[i]*alpha[i]
 			pg := g
 			if alpha[i] == 0 && g > 0 {
 				pg = 0
@@ -140,20 +159,22 @@ func trainSVM(xs []Vector, ys []bool, opt SVMOptions, w []float64, scratch *svmS
 
 // svmScratch is TrainSVM's per-case scratch, reused by Trainer's workers.
 type svmScratch struct {
-	alpha, qd []float64
-	order     []int32
+	alpha, qd, diag []float64
+	order           []int32
 }
 
 func (s *svmScratch) grow(n int) {
 	if cap(s.alpha) < n {
 		s.alpha = make([]float64, n)
 		s.qd = make([]float64, n)
+		s.diag = make([]float64, n)
 		s.order = make([]int32, n)
 	}
 }
 
-// Objective is the primal objective TrainSVM minimises, for tests.
-func Objective(xs []Vector, ys []bool, C float64, w []float64, b float64) float64 {
+// Objective is the primal objective TrainSVM minimises, for tests; weight
+// as SVMOptions.Weight (nil: every case 1).
+func Objective(xs []Vector, ys []bool, C float64, weight, w []float64, b float64) float64 {
 	o := 0.5 * b * b
 	for _, v := range w {
 		o += 0.5 * v * v
@@ -164,7 +185,11 @@ func Objective(xs []Vector, ys []bool, C float64, w []float64, b float64) float6
 			y = 1
 		}
 		if m := 1 - y*(x.Dot(w)+b); m > 0 {
-			o += C * m * m
+			c := C
+			if weight != nil {
+				c *= weight[i]
+			}
+			o += c * m * m
 		}
 	}
 	return o

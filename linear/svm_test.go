@@ -52,7 +52,7 @@ func TestSVMIsMinimum(t *testing.T) {
 	if epochs >= 100000 {
 		t.Fatalf("did not converge in %d epochs", epochs)
 	}
-	best := Objective(xs, ys, 0.5, w, b)
+	best := Objective(xs, ys, 0.5, nil, w, b)
 	rng := rand.New(rand.NewPCG(9, 9))
 	for trial := 0; trial < 200; trial++ {
 		w2 := append([]float64(nil), w...)
@@ -61,9 +61,55 @@ func TestSVMIsMinimum(t *testing.T) {
 			w2[j] += step * rng.NormFloat64()
 		}
 		b2 := b + step*rng.NormFloat64()
-		if o := Objective(xs, ys, 0.5, w2, b2); o < best-1e-9 {
+		if o := Objective(xs, ys, 0.5, nil, w2, b2); o < best-1e-9 {
 			t.Fatalf("perturbation %d lowers the objective: %v < %v", trial, o, best)
 		}
+	}
+}
+
+// A case of weight 3 counts as three copies of it: the primal objectives
+// are the same function, so the minima are. Common practice, no source.
+func TestSVMWeightIsCopies(t *testing.T) {
+	xs, ys := randomCase(7, 120, 20, 5)
+	weight := make([]float64, len(xs))
+	cx, cy := append([]Vector(nil), xs...), append([]bool(nil), ys...)
+	for i := range xs {
+		weight[i] = 1
+		if i%5 == 0 {
+			weight[i] = 3
+			cx, cy = append(cx, xs[i], xs[i]), append(cy, ys[i], ys[i])
+		}
+	}
+	opt := SVMOptions{C: 0.3, Epsilon: 1e-9, MaxEpochs: 1000000}
+	w1, w2, w0 := make([]float64, 20), make([]float64, 20), make([]float64, 20)
+	b2, _, err := TrainSVM(cx, cy, opt, w2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	b0, _, _ := TrainSVM(xs, ys, opt, w0)
+	opt.Weight = weight
+	b1, _, err := TrainSVM(xs, ys, opt, w1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(b1-b2) > 1e-5 {
+		t.Errorf("bias %v weighted, %v with copies", b1, b2)
+	}
+	moved := math.Abs(b1 - b0)
+	for j := range w1 {
+		if math.Abs(w1[j]-w2[j]) > 1e-5 {
+			t.Errorf("w[%d] = %v weighted, %v with copies", j, w1[j], w2[j])
+		}
+		moved = max(moved, math.Abs(w1[j]-w0[j]))
+	}
+	if moved < 1e-3 {
+		t.Errorf("weights moved the solution by only %v", moved)
+	}
+	if _, _, err := TrainSVM(xs, ys, SVMOptions{Weight: weight[:3]}, w1); err == nil {
+		t.Error("3 weights for 120 cases: no error")
+	}
+	if _, _, err := TrainSVM(xs[:1], ys[:1], SVMOptions{Weight: []float64{0}}, w1); err == nil {
+		t.Error("weight 0: no error")
 	}
 }
 
@@ -101,16 +147,24 @@ rows, cols, vals = [], [], []
 for i, (ix, vs) in enumerate(zip(c["index"], c["value"])):
     rows += [i] * len(ix); cols += ix; vals += vs
 X = sp.csr_matrix((vals, (rows, cols)), shape=(len(c["y"]), c["d"]))
-m = LinearSVC(C=c["C"], tol=1e-10, max_iter=1000000).fit(X, np.array(c["y"]))
+m = LinearSVC(C=c["C"], tol=1e-10, max_iter=1000000).fit(X, np.array(c["y"]), sample_weight=c.get("weight"))
 json.dump({"w": m.coef_[0].tolist(), "b": float(m.intercept_[0])}, sys.stdout)
 `
 	for trial, tc := range []struct {
 		seed     uint64
 		n, d, nz int
 		C        float64
-	}{{1, 150, 20, 5, 1}, {2, 300, 50, 8, 0.3}, {3, 80, 10, 3, 3}} {
+		weighted bool
+	}{{1, 150, 20, 5, 1, false}, {2, 300, 50, 8, 0.3, false}, {3, 80, 10, 3, 3, false}, {4, 200, 30, 6, 0.3, true}} {
 		xs, ys := randomCase(tc.seed, tc.n, tc.d, tc.nz)
 		in := map[string]any{"d": tc.d, "C": tc.C}
+		var weight []float64
+		if tc.weighted {
+			for i := range xs {
+				weight = append(weight, 0.5+float64(i%4))
+			}
+			in["weight"] = weight
+		}
 		var ix [][]int32
 		var vs [][]float32
 		var y []int
@@ -139,7 +193,7 @@ json.dump({"w": m.coef_[0].tolist(), "b": float(m.intercept_[0])}, sys.stdout)
 			t.Fatalf("python output %q: %v", out, err)
 		}
 		w := make([]float64, tc.d)
-		b, _, err := TrainSVM(xs, ys, SVMOptions{C: tc.C, Epsilon: 1e-8, MaxEpochs: 1000000}, w)
+		b, _, err := TrainSVM(xs, ys, SVMOptions{C: tc.C, Epsilon: 1e-8, MaxEpochs: 1000000, Weight: weight}, w)
 		if err != nil {
 			t.Fatal(err)
 		}
