@@ -20,6 +20,9 @@ type OneVsRestOptions struct {
 	Prune float64
 	// Workers train labels in parallel (default 1).
 	Workers int
+	// LabelC, when set, holds per label the C its SVM is trained with
+	// (len L; values ≤ 0 mean SVM.C).
+	LabelC []float64
 }
 
 // OneVsRest trains one SVM per label l in [0, L) that some case carries,
@@ -28,7 +31,7 @@ type OneVsRestOptions struct {
 // Labels no case carries get no weights and intercept −1, below every
 // case (an SVM trained on negatives alone would come near it).
 func OneVsRest(xs []Vector, labels [][]int32, L, dim int, opt OneVsRestOptions) ([]Sparse, error) {
-	if len(xs) != len(labels) {
+	if len(xs) != len(labels) || opt.LabelC != nil && len(opt.LabelC) != L {
 		return nil, ErrInput
 	}
 	pos := make([]int, L)
@@ -66,6 +69,9 @@ func OneVsRest(xs []Vector, labels [][]int32, L, dim int, opt OneVsRestOptions) 
 				}
 				o := opt.SVM
 				o.Seed += uint64(l)
+				if opt.LabelC != nil && opt.LabelC[l] > 0 {
+					o.C = opt.LabelC[l]
+				}
 				b, _, err := trainSVM(xs, ys, o, w, &sc)
 				if err != nil {
 					errs[wk] = err

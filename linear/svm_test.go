@@ -239,3 +239,33 @@ func TestOneVsRestMatchesSingle(t *testing.T) {
 		t.Errorf("label 2 (no case) = %+v, want no weights and bias −1", got[2])
 	}
 }
+
+// OneVsRestOptions.LabelC trains a label with its own C, as TrainSVM with
+// that C alone; the other labels keep SVM.C.
+func TestOneVsRestLabelC(t *testing.T) {
+	xs, ys := randomCase(6, 120, 15, 4)
+	labels := make([][]int32, len(xs))
+	for i := range xs {
+		if ys[i] {
+			labels[i] = []int32{0, 1}
+		}
+	}
+	opt := OneVsRestOptions{SVM: SVMOptions{C: 1, Epsilon: 1e-8, MaxEpochs: 100000}, LabelC: []float64{0, 0.05}}
+	got, err := OneVsRest(xs, labels, 2, 15, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for l, C := range []float64{1, 0.05} {
+		w := make([]float64, 15)
+		b, _, _ := TrainSVM(xs, ys, SVMOptions{C: C, Epsilon: 1e-8, MaxEpochs: 100000}, w)
+		if math.Abs(got[l].Bias-b) > 1e-5 {
+			t.Errorf("label %d (C %v): bias %v, alone %v", l, C, got[l].Bias, b)
+		}
+	}
+	if math.Abs(got[0].Bias-got[1].Bias) < 1e-3 {
+		t.Errorf("labels 0 and 1 have the same cases and biases %v, %v: C 0.05 not used", got[0].Bias, got[1].Bias)
+	}
+	if _, err := OneVsRest(xs, labels, 2, 15, OneVsRestOptions{LabelC: []float64{1}}); err == nil {
+		t.Error("one C for two labels: no error")
+	}
+}
