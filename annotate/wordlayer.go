@@ -174,7 +174,7 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 	}
 	l.TopicWeight, l.FreqWeight = bestA, bestF
 	l.ScaleA, l.ScaleB = p.fit(0, 1, 0)
-	l.Tuned = len(rows)
+	l.Tuned, l.TunedF1 = len(rows), best
 	return nil
 }
 

@@ -1,7 +1,9 @@
 package fit
 
 import (
+	"math"
 	"math/rand/v2"
+	"reflect"
 	"testing"
 
 	"termgrove/model"
@@ -63,5 +65,123 @@ func TestWordLayerLead(t *testing.T) {
 	}
 	if a := accuracy(-1); a > 0.75 {
 		t.Errorf("without the lead part: accuracy %.2f, want about one half", a)
+	}
+}
+
+// TestWordLayerLabels: concept 2 has no record people indexed, only its
+// label term (word 55, which records of the other concepts use too).
+// Learning the label as a record of concept 2 gives the concept weight on
+// that word; without label records it gets none. Concept 3's label (word
+// 59) is in no record, so it has no IDF and no label record. Source: the
+// purpose of the label records, on synthetic data.
+func TestWordLayerLabels(t *testing.T) {
+	const W = 60
+	r := rand.New(rand.NewPCG(3, 4))
+	c := &Corpus{W: W}
+	for i := 0; i < 300; i++ {
+		d := Doc{Subjects: []int32{int32(i % 2)}}
+		d.Words = append(d.Words, int32(50+i%2))
+		for j := 0; j < 10; j++ {
+			d.Words = append(d.Words, int32(r.IntN(40)))
+		}
+		if i%10 == 0 {
+			d.Words = append(d.Words, 55)
+		}
+		c.Docs = append(c.Docs, d)
+	}
+	labels := [][]int32{{50}, {51}, {55}, {59}}
+	with, err := TrainWordLayer(c, 4, WordLayerOptions{Labels: labels, LabelWeight: 2, Lead: -1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	without, err := TrainWordLayer(c, 4, WordLayerOptions{Labels: labels, LabelWeight: -1, Lead: -1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if with.Labels != 3 || with.LabelWeight != 2 || without.Labels != 0 || without.LabelWeight != 0 {
+		t.Fatalf("label records %d (weight %v) with, %d (weight %v) without; want 3 (2), 0 (0)",
+			with.Labels, with.LabelWeight, without.Labels, without.LabelWeight)
+	}
+	if with.LnFreq[2] != 0 {
+		t.Errorf("ln frequency of concept 2 %v: label records are not indexed records", with.LnFreq[2])
+	}
+	lift := func(l *model.WordLayer) float64 {
+		var sc model.VectorScratch
+		d1, d0 := make([]float64, 4), make([]float64, 4)
+		seq := []int32{3, 7, 11, 55}
+		idx, val := l.Vector(seq, 0, W, &sc, nil, nil)
+		l.Decision(idx, val, d1)
+		idx, val = l.Vector(seq[:3], 0, W, &sc, nil, nil)
+		l.Decision(idx, val, d0)
+		return d1[2] - d0[2]
+	}
+	if got := lift(with); got < 0.1 {
+		t.Errorf("with label records word 55 raises concept 2 by %v, want ≥ 0.1", got)
+	}
+	if got := lift(without); got != 0 {
+		t.Errorf("without label records word 55 raises concept 2 by %v, want 0", got)
+	}
+}
+
+// LabelTerms keeps label words and phrases, not the words of notes.
+// Weights as prior.Build's defaults give them (pref 1, its two words 0.5
+// each, a note word 0.1, before normalising).
+func TestLabelTerms(t *testing.T) {
+	rows := [][]model.WordWeight{
+		{{Word: 1, Weight: 0.25}, {Word: 4, Weight: 0.05}, {Word: 7, Weight: 0.5}, {Word: 9, Weight: 0.25}},
+		nil,
+		{{Word: 2, Weight: 1}},
+	}
+	got := LabelTerms(rows)
+	want := [][]int32{{1, 7, 9}, nil, {2}}
+	if !reflect.DeepEqual(got, want) {
+		t.Errorf("LabelTerms = %v, want %v", got, want)
+	}
+}
+
+// TestWordLayerCRecords: with CRecords 100, concept 0 (300 records) is
+// trained with C·√(100/300) and concept 1 (100 records) with C, so each
+// decides as in a layer trained with that C for every concept.
+func TestWordLayerCRecords(t *testing.T) {
+	const W = 40
+	r := rand.New(rand.NewPCG(5, 6))
+	c := &Corpus{W: W}
+	for i := 0; i < 400; i++ {
+		d := Doc{Subjects: []int32{0}}
+		if i%4 == 0 {
+			d.Subjects[0] = 1
+			d.Words = append(d.Words, int32(30+r.IntN(10)))
+		}
+		for j := 0; j < 8; j++ {
+			d.Words = append(d.Words, int32(r.IntN(35)))
+		}
+		c.Docs = append(c.Docs, d)
+	}
+	train := func(C float64, cr int) *model.WordLayer {
+		l, err := TrainWordLayer(c, 2, WordLayerOptions{C: C, CRecords: cr, Prune: -1, Lead: -1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return l
+	}
+	sched, one, small := train(0.3, 100), train(0.3, -1), train(0.3*math.Sqrt(100.0/300), -1)
+	if sched.CRecords != 100 || one.CRecords != 0 {
+		t.Fatalf("CRecords %d and %d, want 100 and 0", sched.CRecords, one.CRecords)
+	}
+	var sc model.VectorScratch
+	got, wantOne, wantSmall := make([]float64, 2), make([]float64, 2), make([]float64, 2)
+	var moved float64
+	for _, d := range c.Docs[:50] {
+		idx, val := sched.Vector(d.Words, 0, W, &sc, nil, nil)
+		sched.Decision(idx, val, got)
+		one.Decision(idx, val, wantOne)
+		small.Decision(idx, val, wantSmall)
+		if math.Abs(got[0]-wantSmall[0]) > 1e-9 || math.Abs(got[1]-wantOne[1]) > 1e-9 {
+			t.Fatalf("decisions %v, want concept 0 %v (small C), concept 1 %v (C)", got, wantSmall[0], wantOne[1])
+		}
+		moved = max(moved, math.Abs(got[0]-wantOne[0]))
+	}
+	if moved < 1e-3 {
+		t.Errorf("the smaller C moved concept 0's decisions by only %v", moved)
 	}
 }

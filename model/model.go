@@ -203,6 +203,17 @@ type WordLayer struct {
 	Prune   float64 // weights below this magnitude were dropped
 	Records int     // records the SVMs were trained on
 	Tuned   int     // records the combination was learned on
+	// TunedF1 is micro plus macro F1@5 of the Tuned records ranked with
+	// the chosen weights (0 in files written before).
+	TunedF1 float64
+	// Labels is how many concepts' label terms the SVMs learned as one
+	// more record of the concept, each weighing LabelWeight records
+	// (0: none, as in files written before).
+	Labels      int
+	LabelWeight float64
+	// CRecords: concepts with n > CRecords records people indexed were
+	// trained with C·√(CRecords/n) instead of SVMC (0: SVMC for all).
+	CRecords int
 }
 
 // ConceptWeight is a concept index with a weight.
@@ -1026,6 +1037,9 @@ func (l *WordLayer) validate(C, W int) error {
 		return fmt.Errorf("%d biases and %d frequencies for %d concepts", len(l.Bias), len(l.LnFreq), C)
 	case len(l.Concept) != len(l.Weight) || l.Start[0] != 0 || int(l.Start[W]) != len(l.Weight):
 		return fmt.Errorf("%d concepts, %d weights, starts %d..%d", len(l.Concept), len(l.Weight), l.Start[0], l.Start[W])
+	}
+	if l.Labels < 0 || !finite(l.LabelWeight) || l.LabelWeight < 0 || l.CRecords < 0 {
+		return fmt.Errorf("%d label records of weight %v", l.Labels, l.LabelWeight)
 	}
 	for _, v := range []float64{l.TopicWeight, l.FreqWeight, l.ScaleA, l.ScaleB} {
 		if !finite(v) {

@@ -58,6 +58,8 @@ type fitFlags struct {
 	calibrate         int
 	wordLayer         bool
 	wordLead          float64
+	wordLabels        float64
+	wordCRecords      int
 	groupField        string
 }
 
@@ -85,6 +87,8 @@ func cmdFit(args []string) int {
 	fl.IntVar(&f.calibrate, "calibrate", defaultCalibrate, "learn the score calibration from up to `N` records people indexed: the held-out ones with --holdout, else a sample of the training records (0 = none)")
 	fl.BoolVar(&f.wordLayer, "word-layer", true, "with --calibrate, also train the discriminative word layer (a linear SVM per concept over the records' words) on the records people indexed, and learn how it combines with the topic scores")
 	fl.Float64Var(&f.wordLead, "word-lead", fit.DefaultWordLead, "weight of the word layer's second part over the words of a record's first field (the title; 0 = none)")
+	fl.IntVar(&f.wordCRecords, "word-c-records", fit.DefaultWordCRecords, "the word layer's SVM of a concept people indexed N > this many records with learns with C·√(this/N), more regularised (0 = the same C for all)")
+	fl.Float64Var(&f.wordLabels, "word-labels", fit.DefaultWordLabelWeight, "how many records' worth the word layer learns each concept's labels as, one record of the concept (0 = none)")
 	fl.StringVar(&f.groupField, "group-field", "", "records `FIELD` whose equal values form a group: --holdout keeps groups out whole, and the word layer is tuned against a layer trained without the tuning records' groups (e.g. debtags' source_package, as its own train/test split)")
 	fl.BoolVar(&f.skipBad, "skip-bad", false, "skip records that are not JSON (counted) instead of stopping")
 	fl.BoolVar(&f.quiet, "quiet", false, "only the summary")
@@ -129,6 +133,8 @@ func cmdFit(args []string) int {
 		{f.calibrate >= 0, "--calibrate", "0 or more", f.calibrate},
 		{f.holdout >= 0 && f.holdout < 1, "--holdout", "a share from 0 up to (not including) 1", f.holdout},
 		{f.wordLead >= 0 && f.wordLead <= 10, "--word-lead", "between 0 and 10", f.wordLead},
+		{f.wordLabels >= 0 && f.wordLabels <= 1000, "--word-labels", "between 0 and 1000", f.wordLabels},
+		{f.wordCRecords >= 0, "--word-c-records", "0 or more", f.wordCRecords},
 	} {
 		if !c.ok {
 			fmt.Fprintf(os.Stderr, "termgrove fit: %s %v: expected %s\n", c.flag, c.got, c.want)
@@ -586,6 +592,14 @@ func trainWordLayer(m *model.Model, corpus *fit.Corpus, calib *calibSample, f *f
 	if f.wordLead == 0 {
 		opt.Lead = -1 // none
 	}
+	opt.Labels, opt.LabelWeight = fit.LabelTerms(m.Prior), f.wordLabels
+	if f.wordLabels == 0 {
+		opt.LabelWeight = -1 // none
+	}
+	opt.CRecords = f.wordCRecords
+	if f.wordCRecords == 0 {
+		opt.CRecords = -1 // one C
+	}
 	full, err := fit.TrainWordLayer(corpus, m.C, opt)
 	if errors.Is(err, fit.ErrNoIndexed) {
 		warnf("%v: no word layer", err)
@@ -609,7 +623,7 @@ func trainWordLayer(m *model.Model, corpus *fit.Corpus, calib *calibSample, f *f
 		m.WordLayer = nil
 		return err
 	}
-	logf("word layer: %d records, %d weights, lead weight %g; topic weight %g, frequency weight %g, tuned on %d records (%.1f s)",
-		full.Records, len(full.Weight), full.Lead, full.TopicWeight, full.FreqWeight, full.Tuned, time.Since(start).Seconds())
+	logf("word layer: %d records and %d concepts' labels (weight %g), %d weights, lead weight %g; topic weight %g, frequency weight %g, tuned on %d records (micro + macro F1@5 %.3f; %.1f s)",
+		full.Records, full.Labels, full.LabelWeight, len(full.Weight), full.Lead, full.TopicWeight, full.FreqWeight, full.Tuned, full.TunedF1, time.Since(start).Seconds())
 	return nil
 }
