@@ -55,7 +55,7 @@ func (a *Annotator) wordScores(st *state, text string, toks []terms.Token, score
 	}
 	pv := st.pv
 	for k := range pv {
-		s := score(int32(k))
+		s := max(score(int32(k)), l.ShareFloor)
 		if !(s > 0) {
 			s = math.SmallestNonzeroFloat64
 		}
@@ -74,14 +74,18 @@ type TuneOptions struct {
 	At int
 }
 
-// Grids TuneWordLayer searches: a (topic weight) and τ (frequency weight).
+// Grids TuneWordLayer searches: a (topic weight), τ (frequency weight)
+// and the share floor (0: none). A share of 1e-4 is about one token of a
+// 50-token record in one of 200 fold-in samples.
 var (
-	tuneTopic = []float64{0, 0.05, 0.1, 0.15, 0.2, 0.3, 0.4, 0.6, 0.8}
+	tuneTopic = []float64{0, 0.02, 0.05, 0.1, 0.15, 0.2, 0.3, 0.4, 0.6, 0.8}
 	tuneFreq  = []float64{0, 0.02, 0.04, 0.06, 0.08, 0.1, 0.12, 0.16}
+	tuneFloor = []float64{0, 1e-4, 1e-3, 1e-2, 3e-2}
 )
 
 // TuneWordLayer learns how annotation combines m.WordLayer with the
-// calibrated topic scores: the weights a and τ that maximise micro plus
+// calibrated topic scores: the weights a and τ and the share floor that
+// maximise micro plus
 // macro F1@At over texts people indexed (DESIGN.md's definitions, macro
 // over the concepts the texts carry), then the scale (g, h) by logistic
 // regression of "k is a subject" on v_k. held is a layer trained without
@@ -141,29 +145,44 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 	if len(rows) == 0 {
 		return ErrNoCalibrationData
 	}
-	for i := range x {
-		if !math.IsNaN(x[i]) {
+	// x holds ln s (NaN: s = 0); z the calibrated log-odds at the floor
+	// being tried, of the share wordScores takes: max(s, floor), and the
+	// smallest float above 0 for 0.
+	z := make([]float64, len(x))
+	setFloor := func(floor float64) {
+		lf := math.Log(max(floor, math.SmallestNonzeroFloat64))
+		for i, lx := range x {
+			if math.IsNaN(lx) || lx < lf {
+				lx = lf
+			}
 			k := i % C
-			x[i] = cal.A[k]*x[i] + cal.B[k]
+			z[i] = cal.A[k]*lx + cal.B[k]
 		}
 	}
 	l := m.WordLayer
 	value := func(i, k int, ta, tf float64) float64 {
-		z := x[i*C+k]
-		if math.IsNaN(z) {
-			return math.Inf(-1)
+		v := d[i*C+k] - tf*float64(l.LnFreq[k])
+		if ta != 0 {
+			v += ta * z[i*C+k]
 		}
-		return d[i*C+k] + ta*z - tf*float64(l.LnFreq[k])
+		return v
 	}
-	best, bestA, bestF := math.Inf(-1), 0.0, 0.0
-	for _, ta := range tuneTopic {
-		for _, tf := range tuneFreq {
-			f := f1At(rows, C, opt.At, y, func(i, k int) float64 { return value(i, k, ta, tf) })
-			if f > best+1e-12 {
-				best, bestA, bestF = f, ta, tf
+	best, bestA, bestF, bestFloor := math.Inf(-1), 0.0, 0.0, 0.0
+	for _, floor := range tuneFloor {
+		setFloor(floor)
+		for _, ta := range tuneTopic {
+			if ta == 0 && floor > 0 {
+				continue // the floor only acts through a
+			}
+			for _, tf := range tuneFreq {
+				f := f1At(rows, C, opt.At, y, func(i, k int) float64 { return value(i, k, ta, tf) })
+				if f > best+1e-12 {
+					best, bestA, bestF, bestFloor = f, ta, tf, floor
+				}
 			}
 		}
 	}
+	setFloor(bestFloor)
 	var p pairs
 	for _, i := range rows {
 		for k := 0; k < C; k++ {
@@ -172,7 +191,8 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 			}
 		}
 	}
-	l.TopicWeight, l.FreqWeight = bestA, bestF
+	l.TopicWeight, l.FreqWeight, l.ShareFloor = bestA, bestF, bestFloor
+	l.Version = model.WordLayerVersion
 	l.ScaleA, l.ScaleB = p.fit(0, 1, 0)
 	l.Tuned, l.TunedF1 = len(rows), best
 	return nil

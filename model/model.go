@@ -156,8 +156,9 @@ func (c *Calibration) Apply(k int, s float64) float64 {
 }
 
 // WordLayerVersion is the WordLayer layout this build writes; it reads
-// this one and version 1 (before lead features: Lead 0).
-const WordLayerVersion = 2
+// this one, version 2 (before ShareFloor: 0) and version 1 (before lead
+// features: Lead 0).
+const WordLayerVersion = 3
 
 // WordLayer is a per-concept linear model over a record's words (a
 // one-vs-rest linear SVM, linear.OneVsRest, trained on the records people
@@ -175,7 +176,10 @@ const WordLayerVersion = 2
 //
 //	v_k = d_k + TopicWeight·z_k − FreqWeight·LnFreq[k]
 //
-// and reports σ(ScaleA·v_k + ScaleB). FreqWeight lowers concepts people
+// and reports σ(ScaleA·v_k + ScaleB). With ShareFloor > 0, z_k is the
+// calibrated log-odds of max(s_k, ShareFloor), s_k the raw score: a
+// concept the fold-in did not reach (s_k = 0) is ranked by its words
+// rather than dropped to the bottom by any TopicWeight > 0. FreqWeight lowers concepts people
 // assign often, which spreads the suggestions over more concepts (macro
 // F1); both weights and the scale are learned on records people indexed.
 //
@@ -197,6 +201,7 @@ type WordLayer struct {
 
 	TopicWeight, FreqWeight float64
 	ScaleA, ScaleB          float64
+	ShareFloor              float64 // least raw score z_k is taken of (0: none; version 1 and 2 files)
 
 	SVMC    float64 // the SVM's loss weight C
 	MinDF   int
@@ -1027,8 +1032,10 @@ func (l *WordLayer) validate(C, W int) error {
 	}
 	W = l.Dim(W)
 	switch {
-	case l.Version != WordLayerVersion && l.Version != 1:
-		return fmt.Errorf("%w: word layer version %d, this build reads 1 and %d", ErrVersion, l.Version, WordLayerVersion)
+	case l.Version < 1 || l.Version > WordLayerVersion:
+		return fmt.Errorf("%w: word layer version %d, this build reads 1 to %d", ErrVersion, l.Version, WordLayerVersion)
+	case l.Version < 3 && l.ShareFloor != 0, !finite(l.ShareFloor) || l.ShareFloor < 0 || l.ShareFloor >= 1:
+		return fmt.Errorf("version %d layer with share floor %v", l.Version, l.ShareFloor)
 	case l.Version == 1 && l.Lead != 0, !finite(l.Lead) || l.Lead < 0:
 		return fmt.Errorf("version %d layer with lead weight %v", l.Version, l.Lead)
 	case len(l.IDF) != W || len(l.Start) != W+1:
