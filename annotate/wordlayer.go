@@ -85,10 +85,9 @@ var (
 
 // TuneWordLayer learns how annotation combines m.WordLayer with the
 // calibrated topic scores: the weights a and τ and the share floor that
-// maximise micro plus
-// macro F1@At over texts people indexed (DESIGN.md's definitions, macro
-// over the concepts the texts carry), then the scale (g, h) by logistic
-// regression of "k is a subject" on v_k. held is a layer trained without
+// maximise micro plus macro F1@At over texts people indexed (DESIGN.md's
+// definitions, macro over the concepts the texts carry), then the scale
+// (g, h) by logistic regression of "k is a subject" on v_k. held is a layer trained without
 // the texts, whose decision values the texts' are (a layer scores its own
 // training texts too well); m.WordLayer receives the weights. m must be
 // calibrated (m.Calibration, learned from raw scores).

@@ -208,8 +208,9 @@ type WordLayer struct {
 	Prune   float64 // weights below this magnitude were dropped
 	Records int     // records the SVMs were trained on
 	Tuned   int     // records the combination was learned on
-	// TunedF1 is micro plus macro F1@5 of the Tuned records ranked with
-	// the chosen weights (0 in files written before).
+	// TunedF1 is micro plus macro F1@k (k = 5 unless TuneOptions.At says
+	// otherwise) of the Tuned records ranked with the chosen weights (0 in
+	// files written before).
 	TunedF1 float64
 	// Labels is how many concepts' label terms the SVMs learned as one
 	// more record of the concept, each weighing LabelWeight records
