@@ -394,5 +394,3 @@ func (a *Annotator) aggOf(own, agg float64, on bool) float64 {
 	}
 	return 1 - (1-own)*math.Exp(agg)
 }
-
-var zzCand, zzAdded int
