@@ -238,7 +238,7 @@ func TestWordLayerLearnsMarker(t *testing.T) {
 				rank, p = i, c.Score
 			}
 		}
-		if has != (p > 0.5) || has && rank >= 2 || rank == 0 {
+		if has != (p > 0.5) || has && rank >= 2 || !has && rank == 0 {
 			t.Errorf("%s: marker %v, structural concept ranks %d with %.3f", tx.ID, has, rank, p)
 		}
 	}
