@@ -9,7 +9,6 @@ import (
 	"os/exec"
 	"path/filepath"
 	"strings"
-	"sync"
 	"syscall"
 	"testing"
 	"time"
@@ -107,7 +106,7 @@ func TestFitKillResume(t *testing.T) {
 	args := []string{"fit", "--vocab", vocab, "--records", recs, "--out", out,
 		"--sweeps", "200", "--free-topics", "3", "--workers", "1", "--checkpoint", "100ms", "--seed", "4"}
 	cmd := exec.Command(bin, args...)
-	var errb fitSyncBuffer
+	var errb lockedBuffer
 	cmd.Stderr = &errb
 	if err := cmd.Start(); err != nil {
 		t.Fatal(err)
@@ -253,7 +252,7 @@ func TestFitInterrupt(t *testing.T) {
 	writeFitCorpus(t, recs, 3000, 60)
 	cmd := exec.Command(bin, "fit", "--vocab", vocab, "--records", recs, "--out", out,
 		"--sweeps", "100000", "--free-topics", "3", "--workers", "1", "--checkpoint", "1h")
-	var errb fitSyncBuffer
+	var errb lockedBuffer
 	cmd.Stderr = &errb
 	if err := cmd.Start(); err != nil {
 		t.Fatal(err)
@@ -275,22 +274,4 @@ func TestFitInterrupt(t *testing.T) {
 	if _, err := os.Stat(out + ".checkpoint"); err != nil {
 		t.Fatalf("no checkpoint after SIGINT: %v", err)
 	}
-}
-
-// fitSyncBuffer is a bytes.Buffer safe to read while a process writes it.
-type fitSyncBuffer struct {
-	mu sync.Mutex
-	b  bytes.Buffer
-}
-
-func (s *fitSyncBuffer) Write(p []byte) (int, error) {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	return s.b.Write(p)
-}
-
-func (s *fitSyncBuffer) String() string {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	return s.b.String()
 }
