@@ -153,78 +153,6 @@ const (
 // With the default 20 free topics 0.3 is best on both.
 const relatedWeight = 0.3
 
-// addRelated adds to each candidate's neighbours γ·s_j·L_jk in st.rel,
-// appending the concepts it reaches to cand (in the order first reached).
-// Scores then no longer sum to 1 with Uncovered; they rank. Dense arrays
-// over the concepts, cleared through st.relT, instead of maps: a debtags
-// record's candidates reach about 6,500 (j, k) pairs, and the maps took
-// two thirds of a concepts-only record's time. The sums are added in the
-// same order as before, so the boosts are the same bits.
-//
-// st.rel holds −0 for a concept not reached: −0 + x = x for every x, so
-// the first pair's sum is the same as from +0, and the sign bit says
-// whether a pair has reached the concept (every γ·s_j·L_jk is +0 or
-// more: Validate keeps L_jk in (0, 1]). Adding −0 to an unreached
-// concept's score leaves it as it was.
-func (a *Annotator) addRelated(st *state, cand []int32, score func(int32) float64) []int32 {
-	if len(st.rel) < a.C {
-		st.rel = make([]float64, a.C)
-		for k := range st.rel {
-			st.rel[k] = negZero
-		}
-	}
-	rel := st.rel
-	st.nextGen()
-	mark, gen := st.mark, st.gen
-	for _, k := range cand {
-		mark[k] = gen
-	}
-	relT := st.relT[:0]
-	if cap(relT) < a.C+1 {
-		relT = make([]int32, 0, a.C+1)
-	}
-	all, n := relT[:a.C+1], 0
-	related := a.m.Related
-	for _, j := range cand {
-		row := related[j]
-		if len(row) == 0 {
-			continue
-		}
-		// (γ·s_j)·L_jk: Go multiplies left to right, as γ·s_j·L_jk did.
-		n = boostRow(row, relatedWeight*score(j), rel, all, n)
-	}
-	relT = all[:n]
-	for _, k := range relT {
-		if mark[k] != gen {
-			cand = append(cand, k)
-		}
-	}
-	st.relT = relT
-	return cand
-}
-
-// negZero is −0, addRelated's mark of a concept no pair has reached.
-var negZero = math.Copysign(0, -1)
-
-// boostRow adds c·L_jk to rel[k] for the pairs of one related row, with
-// c = γ·s_j, and lists each k at all[n] the first time (rel[k] still −0:
-// its sign bit moves n on, without a branch); it returns n. A leaf
-// function of its own, so that the loop keeps its variables in
-// registers (inside addRelated they were reloaded from the stack at
-// every pair).
-//
-//go:noinline
-func boostRow(row []model.ConceptWeight, c float64, rel []float64, all []int32, n int) int {
-	for _, r := range row {
-		k := r.Concept
-		v := rel[k]
-		all[n] = k
-		n += int(math.Float64bits(v) >> 63)
-		rel[k] = v + c*r.Weight
-	}
-	return n
-}
-
 // seedSalt, when not 0, is hashed into every record's seed: tests set it
 // to run other chains on the same texts (TestSweepsQuality's spread).
 var seedSalt uint64
@@ -353,6 +281,9 @@ type Annotator struct {
 	best  []int32   // argmax over concepts k of α_k·φ_kw (-1: no concepts)
 	bestV []float64
 	den   []float64 // n_k + B_k
+	// wh[w] holds what a record reads of word w, on one half cache line
+	// (off, aw and awF sit in three arrays of their own, each a miss).
+	wh []wordHead
 
 	// maxList: a record whose words' topic lists average at most this many
 	// entries has them regrouped by topic up front (group); longer lists
@@ -364,6 +295,16 @@ type Annotator struct {
 	pool sync.Pool // *state
 
 	cal calTables // calibrate.go
+
+	// The related rows turned round (bestRelated): the concepts j whose
+	// rows hold concept k are inJ[inOff[k]:inOff[k+1]], by j, with L_jk
+	// in inL, e.g. k 5 reached from j 2 and 9 with lifts 0.4 and 0.1;
+	// inSum[k] = Σ_j L_jk bounds what the candidates left out of the
+	// exact sums can add to k.
+	inOff []int32
+	inJ   []int32
+	inL   []float64
+	inSum []float64
 }
 
 // New prepares an annotator for m: the alias tables and per-word topic lists.
@@ -411,6 +352,9 @@ func New(m *model.Model) (*Annotator, error) {
 	}
 	sort.SliceStable(a.order, func(i, j int) bool { return dw[a.order[i]] > dw[a.order[j]] })
 	a.cal = newCalTables(m, a.phi0)
+	if len(m.Related) == C {
+		a.invertRelated()
+	}
 	a.corder = make([]int32, C)
 	for k := range a.corder {
 		a.corder[k] = int32(k)
@@ -537,7 +481,23 @@ func New(m *model.Model) (*Annotator, error) {
 		a.awF[w] = free
 		a.best[w], a.bestV[w] = bk, bv
 	}
+	a.wh = make([]wordHead, W)
+	for w := range a.wh {
+		lo, hi := a.off[w], a.off[w+1]
+		c := lo // the concepts' entries come first: the lists are sorted by topic
+		for c < hi && a.ent[c].k < int32(C) {
+			c++
+		}
+		a.wh[w] = wordHead{lo: lo, hi: hi, hiC: c, aw: a.aw[w], awF: a.awF[w]}
+	}
 	return a, nil
+}
+
+// wordHead is word w's list ent[lo:hi], whose entries for concepts are
+// ent[lo:hiC], with A_w and Σ_{k ≥ C} α_k·φ_kw (aw and awF).
+type wordHead struct {
+	lo, hi, hiC, _ int32
+	aw, awF        float64
 }
 
 // defaultMaxList is Annotator.maxList: the debtags model's record words sit
@@ -719,10 +679,18 @@ type state struct {
 	ranked    []scored
 	cand      []int32
 	sup       []Support // support's scratch
-	// addRelated's boosts: rel[k] is concept k's γ·Σ_j s_j·L_jk, or −0
-	// when no pair reached it; relT lists the reached k (reset by put).
+	// The related boosts (related.go): rel[k] is concept k's
+	// γ·Σ_j s_j·L_jk (addRelated writes every k); relC[j] is candidate
+	// j's γ·s_j, 0 for other concepts between calls; relS holds
+	// bestRelated's partial sums, −0 where none reached, relT listing
+	// the reached k (reset by put); own and low its short lists.
 	rel  []float64
+	relC []float64
+	relS []float64
 	relT []int32
+	sc   []float64 // C: bestRelated's own scores
+	own  []scored
+	low  []float64
 	// calibrated's scratch: pv[k] is concept k's calibrated score when
 	// pvMark[k] == pvGen; zs the candidates' log-odds.
 	pv     []float64
@@ -787,7 +755,7 @@ func (a *Annotator) put(st *state) {
 	}
 	st.aggT = st.aggT[:0]
 	for _, k := range st.relT {
-		st.rel[k] = negZero
+		st.relS[k] = negZero
 	}
 	st.relT = st.relT[:0]
 	st.slotTopic, st.pos, st.act, st.out = st.slotTopic[:0], st.pos[:0], st.act[:0], st.out[:0]
@@ -1018,8 +986,8 @@ func (a *Annotator) group(st *state, T int, exp bool) {
 	// loop below would wait for each list in turn.
 	var sink int32
 	for _, w := range st.uw {
-		if lo := a.off[w]; lo < a.off[w+1] {
-			sink += a.ent[lo].k
+		if h := &a.wh[w]; h.lo < h.hi {
+			sink += a.ent[h.lo].k
 		}
 	}
 	st.sink = sink
@@ -1043,7 +1011,8 @@ func (a *Annotator) group(st *state, T int, exp bool) {
 		e0k := st.e0k
 		for u, w := range st.uw {
 			f := float64(st.ucnt[u]) / st.awu[u]
-			lst := a.ent[a.off[w]:a.off[w+1]]
+			h := &a.wh[w]
+			lst := a.ent[h.lo:h.hi]
 			out := bent[i:][:len(lst)]
 			for j := range lst {
 				k, sk := lst[j].k, lst[j].s
@@ -1069,7 +1038,8 @@ func (a *Annotator) group(st *state, T int, exp bool) {
 		return
 	}
 	for u, w := range st.uw {
-		lst := a.ent[a.off[w]:a.off[w+1]]
+		h := &a.wh[w]
+		lst := a.ent[h.lo:h.hi]
 		out := bent[i:][:len(lst)]
 		for j := range lst {
 			k := lst[j].k
@@ -1104,7 +1074,7 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 			st.ucnt = append(st.ucnt, 0)
 			st.cacc = append(st.cacc, 0)
 			st.dacc = append(st.dacc, 0)
-			st.awu = append(st.awu, a.aw[w])
+			st.awu = append(st.awu, a.wh[w].aw)
 			if len(st.nz) < cap(st.nz) {
 				st.nz = st.nz[:len(st.nz)+1]
 				st.wacc = st.wacc[:len(st.wacc)+1]
@@ -1129,7 +1099,8 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 	res.Tokens = N
 	T := 0
 	for _, w := range st.uw {
-		T += int(a.off[w+1] - a.off[w])
+		h := &a.wh[w]
+		T += int(h.hi - h.lo)
 	}
 	st.rows = T > a.maxList*len(st.uw)
 	// Grouped records without known subjects start from the others'
@@ -1151,7 +1122,8 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 		st.uo = slices.Grow(st.uo[:0], len(st.uw))[:len(st.uw)]
 		o := 0
 		for u, w := range st.uw {
-			n := int(a.off[w+1] - a.off[w])
+			h := &a.wh[w]
+			n := int(h.hi - h.lo)
 			st.nz[u], st.wacc[u] = st.nzf[o:o:o+n], st.waccf[o:o:o+n]
 			st.un[u], st.uo[u] = int32(n), int32(o)
 			o += n
@@ -1608,32 +1580,32 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 			}
 		}
 	}
+	calOn := !st.allow && !opt.Uncalibrated && a.m.Calibration != nil
+	quick := opt.ConceptsOnly && !calOn && top <= maxQuickTop
 	if len(a.m.Related) == a.C && !st.allow {
+		if quick {
+			// Only the shown concepts are needed: bestRelated finds
+			// them without boosting every candidate's neighbours.
+			a.showBest(res, a.bestRelated(st, cand, top, norm, rbF), opt.MinScore)
+			st.cand = cand[:0]
+			return
+		}
 		cand = a.addRelated(st, cand, score)
 		relOn = true
 	}
-	calOn := !st.allow && !opt.Uncalibrated && a.m.Calibration != nil
 	switch {
 	case calOn && a.m.WordLayer != nil:
 		cand, score = a.wordScores(st, text, toks, score) // wordlayer.go
 	case calOn:
 		cand, score = a.calibrated(st, cand, score, want, norm, rbF) // calibrate.go
 	}
-	if opt.ConceptsOnly && !calOn && top <= maxQuickTop {
+	if quick {
 		// Only the shown concepts are needed: the best top non-deprecated
 		// candidates, kept sorted in a short list while scanning, instead
 		// of selecting a pool for the paths. The same concepts in the
 		// same order as below (TestConceptsOnly).
-		best := a.bestConcepts(st, cand, top, norm, rbF, relOn)
+		a.showBest(res, a.bestConcepts(st, cand, top, norm, rbF), opt.MinScore)
 		st.cand = cand[:0]
-		if len(best) > 0 {
-			res.Concepts = make([]Concept, 0, len(best))
-		}
-		for _, x := range best {
-			if x.v >= opt.MinScore {
-				res.Concepts = append(res.Concepts, Concept{IRI: a.m.Scheme.Concepts[x.k].IRI, Label: a.labels[x.k], Score: x.v})
-			}
-		}
 		return
 	}
 	ranked := slices.Grow(st.ranked[:0], len(cand))
@@ -1786,10 +1758,11 @@ func (a *Annotator) theta(st *state, samples float64) float64 {
 	st.fu = slices.Grow(st.fu[:0], len(st.uw))[:len(st.uw)]
 	for u, w := range st.uw {
 		dsum += st.dacc[u]
-		f := st.cacc[u] / a.aw[w]
+		h := &a.wh[w]
+		f := st.cacc[u] / h.aw
 		st.fu[u] = f
 		cphi += f
-		sfree += f * (a.awF[w] - a.qFree)
+		sfree += f * (h.awF - a.qFree)
 	}
 	st.sfree = sfree * inv
 	// Locals: stores into th would otherwise make each pass reload the
@@ -1802,13 +1775,12 @@ func (a *Annotator) theta(st *state, samples float64) float64 {
 				th[e.k] += alpha[e.k] * (e.s * fu[e.u])
 			}
 		}
-	} else { // the same entries, from the words' lists (16 bytes each)
+	} else { // the same entries, from the words' lists: their concepts come first
 		for u, w := range st.uw {
 			f := fu[u]
-			for _, e := range a.ent[a.off[w]:a.off[w+1]] {
-				if e.k < C {
-					th[e.k] += alpha[e.k] * (e.s * f)
-				}
+			h := &a.wh[w]
+			for _, e := range a.ent[h.lo:h.hiC] {
+				th[e.k] += alpha[e.k] * (e.s * f)
 			}
 		}
 	}
@@ -1846,11 +1818,11 @@ func (a *Annotator) addAliasS(st *state, k int32, scale float64) {
 const maxQuickTop = 64
 
 // bestConcepts returns the n best candidates that are not deprecated, best
-// first, scored as summarise scores them without a calibration:
-// (θ part + α'_k)·norm, plus the related boost when relOn. An insertion
-// list of n: most candidates fall below its last entry at the first
-// comparison.
-func (a *Annotator) bestConcepts(st *state, cand []int32, n int, norm, rbF float64, relOn bool) []scored {
+// first, scored as summarise scores them without a calibration or related
+// rows: (θ part + α'_k)·norm (bestRelated adds the related boosts). An
+// insertion list of n: most candidates fall below its last entry at the
+// first comparison.
+func (a *Annotator) bestConcepts(st *state, cand []int32, n int, norm, rbF float64) []scored {
 	best := st.ranked[:0]
 	if n <= 0 {
 		return best
@@ -1864,26 +1836,22 @@ func (a *Annotator) bestConcepts(st *state, cand []int32, n int, norm, rbF float
 		if st.allow {
 			ap = ext[k]
 		}
-		x := scored{k, (th[k] + alpha[k]*phi0[k]*rbF + ap) * norm}
-		if relOn {
-			x.v += st.rel[k]
-		}
-		if len(best) == n {
-			if !x.better(best[n-1]) {
-				continue
-			}
-			best = best[:n-1]
-		}
-		i := len(best)
-		best = append(best, x)
-		for i > 0 && x.better(best[i-1]) {
-			best[i] = best[i-1]
-			i--
-		}
-		best[i] = x
+		best = insertBest(best, scored{k, (th[k] + alpha[k]*phi0[k]*rbF + ap) * norm}, n)
 	}
 	st.ranked = best
 	return best
+}
+
+// showBest puts the concepts of best scoring at least min into res.
+func (a *Annotator) showBest(res *Result, best []scored, min float64) {
+	if len(best) > 0 {
+		res.Concepts = make([]Concept, 0, len(best))
+	}
+	for _, x := range best {
+		if x.v >= min {
+			res.Concepts = append(res.Concepts, Concept{IRI: a.m.Scheme.Concepts[x.k].IRI, Label: a.labels[x.k], Score: x.v})
+		}
+	}
 }
 
 // scored is a topic with its score.

@@ -71,26 +71,15 @@ func TestRelatedConcepts(t *testing.T) {
 	}
 }
 
-// TestAddRelatedDense: addRelated's dense boosts are, bit for bit, the
-// sums γ·Σ_j s_j·L_jk taken in candidate order, the concepts it appends
-// are exactly those reached outside the candidates, each once, and put
-// clears the boosts for the next record. Source: the definition in
-// addRelated's comment (a map per record computed the same before).
+// TestAddRelatedDense: addRelated's boosts are, bit for bit, the sums
+// γ·Σ_j s_j·L_jk over the candidates j taken in increasing j, whatever
+// order the candidates come in; the concepts it appends are exactly those
+// reached outside the candidates, each once, in increasing order; and the
+// next call starts clean. Source: the definition in addRelated's comment.
 func TestAddRelatedDense(t *testing.T) {
 	m := modeltest.Synthetic(modeltest.Options{Concepts: 200, Free: 4, Words: 500, WordsPerConcept: 10, Seed: 5})
 	r := rand.New(rand.NewPCG(7, 8))
-	m.Related = make([][]model.ConceptWeight, m.C)
-	for j := range m.Related {
-		for range r.IntN(6) {
-			m.Related[j] = append(m.Related[j], model.ConceptWeight{Concept: int32(r.IntN(m.C)), Weight: r.Float64()})
-		}
-	}
-	// Concept 0 reaches every concept: with it among the candidates the
-	// list of boosted concepts fills up while pairs still come.
-	m.Related[0] = nil
-	for k := range m.C {
-		m.Related[0] = append(m.Related[0], model.ConceptWeight{Concept: int32(k), Weight: r.Float64()})
-	}
+	m.Related = randomRelated(r, m.C)
 	a, err := New(m)
 	if err != nil {
 		t.Fatal(err)
@@ -113,37 +102,145 @@ func TestAddRelatedDense(t *testing.T) {
 		sc := map[int32]float64{}
 		score := func(k int32) float64 {
 			if _, ok := sc[k]; !ok {
-				sc[k] = r.Float64()
+				sc[k] = 0.01 + r.Float64()
 			}
 			return sc[k]
 		}
-		want := map[int32]float64{}
 		n0 := len(cand)
 		got := a.addRelated(st, slices.Clone(cand), score)
-		for _, j := range cand {
-			for _, x := range m.Related[j] {
-				want[x.Concept] += relatedWeight * sc[j] * x.Weight
-			}
-		}
 		if !slices.Equal(got[:n0], cand) {
 			t.Fatalf("trial %d: candidates changed", trial)
 		}
-		added := map[int32]bool{}
-		for _, k := range got[n0:] {
-			if in[k] || added[k] {
-				t.Fatalf("trial %d: concept %d appended twice or already a candidate", trial, k)
+		want := make([]float64, m.C)
+		reached := make([]bool, m.C)
+		for j := range m.C { // increasing j
+			if !in[int32(j)] {
+				continue
 			}
-			added[k] = true
+			for _, x := range m.Related[j] {
+				want[x.Concept] += relatedWeight * sc[int32(j)] * x.Weight
+				reached[x.Concept] = true
+			}
 		}
-		for k := int32(0); k < int32(m.C); k++ {
-			w, ok := want[k]
-			if reached := !math.Signbit(st.rel[k]); reached != ok || st.rel[k] != w {
-				t.Fatalf("trial %d: concept %d boost %v (reached %v), want %v (%v)", trial, k, st.rel[k], reached, w, ok)
+		var added []int32
+		for k := range int32(m.C) {
+			if st.rel[k] != want[k] {
+				t.Fatalf("trial %d: concept %d boost %v, want %v", trial, k, st.rel[k], want[k])
 			}
-			if ok && !in[k] && !added[k] {
-				t.Fatalf("trial %d: boosted concept %d not appended", trial, k)
+			if reached[k] && !in[k] {
+				added = append(added, k)
 			}
+		}
+		if !slices.Equal(got[n0:], added) {
+			t.Fatalf("trial %d: appended %v, want %v", trial, got[n0:], added)
 		}
 		a.put(st)
+	}
+}
+
+// randomRelated makes related rows for C concepts: up to 5 random
+// companions each, concept 0 with every concept (a hub reaching all),
+// and concepts 1–3 in most rows (hubs many reach), as popular debtags
+// concepts are.
+func randomRelated(r *rand.Rand, C int) [][]model.ConceptWeight {
+	rows := make([][]model.ConceptWeight, C)
+	for j := range rows {
+		ks := map[int32]bool{}
+		for range r.IntN(6) {
+			ks[int32(r.IntN(C))] = true
+		}
+		for k := int32(1); k <= 3; k++ {
+			if r.IntN(4) > 0 {
+				ks[k] = true
+			}
+		}
+		if j == 0 {
+			for k := range int32(C) {
+				ks[k] = true
+			}
+		}
+		for k := range int32(C) {
+			if ks[k] {
+				rows[j] = append(rows[j], model.ConceptWeight{Concept: k, Weight: 0.001 + 0.999*r.Float64()})
+			}
+		}
+	}
+	return rows
+}
+
+// TestBestRelated: bestRelated returns, bit for bit, the n best of the
+// candidates and the concepts they reach, scored as summarise scores
+// them after addRelated (own score plus boost), deprecated concepts left
+// out — for random candidate sets and topic mass, n from 1 to past the
+// number ranked. Source: the ranking rule of summarise, computed here by
+// sorting every concept.
+func TestBestRelated(t *testing.T) {
+	m := modeltest.Synthetic(modeltest.Options{Concepts: 200, Free: 4, Words: 500, WordsPerConcept: 10, Seed: 9})
+	for k := 0; k < m.C; k += 17 {
+		m.Scheme.Concepts[k].Deprecated = true
+	}
+	r := rand.New(rand.NewPCG(11, 12))
+	m.Related = randomRelated(r, m.C)
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	gathered := 0
+	for trial := 0; trial < 200; trial++ {
+		st := a.get()
+		var cand []int32
+		for _, k := range r.Perm(m.C)[:1+r.IntN(120)] {
+			if k == 0 && trial%3 > 0 {
+				continue // the hub that reaches all: in a third of the trials
+			}
+			cand = append(cand, int32(k))
+		}
+		// Topic mass: a few concepts carry most, as in a record.
+		for _, k := range cand {
+			if r.IntN(8) == 0 {
+				st.th[k] = 10 * r.Float64()
+			} else {
+				st.th[k] = 0.01 * r.Float64()
+			}
+			st.touched = append(st.touched, k)
+		}
+		norm, rbF := 1/(50+a.sumAlpha), r.Float64()
+		n := []int{1, 3, 10, 64, m.C}[trial%5]
+		score := func(k int32) float64 {
+			return (st.th[k] + a.alpha[k]*a.phi0[k]*rbF + a.alpha[k] + st.ext[k]) * norm
+		}
+		all := a.addRelated(st, slices.Clone(cand), score)
+		var want []scored
+		for _, k := range all {
+			if !a.dep[k] {
+				want = append(want, scored{k, score(k) + st.rel[k]})
+			}
+		}
+		slices.SortFunc(want, func(x, y scored) int {
+			if x.better(y) {
+				return -1
+			}
+			return 1
+		})
+		want = want[:min(n, len(want))]
+		got := slices.Clone(a.bestRelated(st, cand, n, norm, rbF))
+		if !slices.Equal(got, want) {
+			t.Fatalf("trial %d (n %d, %d candidates): got %v, want %v", trial, n, len(cand), got, want)
+		}
+		for k := range int32(m.C) {
+			if st.relC[k] != 0 {
+				t.Fatalf("trial %d: relC[%d] left at %v", trial, k, st.relC[k])
+			}
+		}
+		gathered += len(st.relT)
+		a.put(st)
+		for k := range int32(m.C) {
+			if !math.Signbit(st.relS[k]) || st.relS[k] != 0 {
+				t.Fatalf("trial %d: relS[%d] left at %v", trial, k, st.relS[k])
+			}
+		}
+	}
+	if gathered == 0 {
+		t.Error("no strong candidate reached a concept: the bounds were not tried")
 	}
 }
