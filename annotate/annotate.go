@@ -684,13 +684,14 @@ type state struct {
 	// j's γ·s_j, 0 for other concepts between calls; relS holds
 	// bestRelated's partial sums, −0 where none reached, relT listing
 	// the reached k (reset by put); own and low its short lists.
-	rel  []float64
-	relC []float64
-	relS []float64
-	relT []int32
-	sc   []float64 // C: bestRelated's own scores
-	own  []scored
-	low  []float64
+	rel   []float64
+	relC  []float64
+	relS  []float64
+	relT  []int32
+	sc    []float64 // C: bestRelated's own scores
+	own   []scored
+	low   []float64
+	maybe []int32
 	// calibrated's scratch: pv[k] is concept k's calibrated score when
 	// pvMark[k] == pvGen; zs the candidates' log-odds.
 	pv     []float64

@@ -173,15 +173,25 @@ func (a *Annotator) bestRelated(st *state, cand []int32, n int, norm, rbF float6
 	}
 	st.nextGen()
 	c, mark, gen := st.relC[:C], st.mark[:C], st.gen
-	top := st.own[:0]
+	// The n best own scores; and the candidates that may be strong: τ
+	// from the n best so far is at most the final τ, so every strong
+	// candidate passes it.
+	top, maybe := st.own[:0], st.maybe[:0]
+	tauSoFar := 0.0
 	for _, k := range cand {
 		s := sc[k]
 		c[k], mark[k] = relatedWeight*s, gen // as setRelC
+		if c[k] >= tauSoFar {
+			maybe = append(maybe, k)
+		}
 		if !dep[k] {
 			top = insertBest(top, scored{k, s}, n)
+			if len(top) == n {
+				tauSoFar = relatedFloor * relatedWeight * top[n-1].v
+			}
 		}
 	}
-	st.own = top
+	st.own, st.maybe = top, maybe
 	tau := 0.0
 	if len(top) == n {
 		tau = relatedFloor * relatedWeight * top[n-1].v
@@ -201,23 +211,26 @@ func (a *Annotator) bestRelated(st *state, cand []int32, n int, norm, rbF float6
 	}
 	all, m := relT[:C+1], 0
 	related := a.m.Related
-	for _, j := range cand {
+	for _, j := range maybe {
 		if row := related[j]; len(row) > 0 && c[j] >= tau {
 			m = boostRow(row, c[j], relS, all, m)
 		}
 	}
 	st.relT = all[:m]
 
-	// L: the n-th best lower bound of the concepts in the ranking.
+	// L: the n-th best lower bound of the concepts in the ranking. Those
+	// the strong rows reach, and the n best candidates by own score they
+	// do not: every other candidate's bound, its own score, is at most
+	// those n candidates'.
 	low := st.low[:0]
-	for _, k := range cand {
+	for _, k := range st.relT {
 		if !dep[k] {
-			low = insertLow(low, sc[k]+max(relS[k], 0), n)
+			low = insertLow(low, sc[k]+relS[k], n)
 		}
 	}
-	for _, k := range st.relT {
-		if mark[k] != gen && !dep[k] {
-			low = insertLow(low, sc[k]+relS[k], n)
+	for _, x := range top {
+		if math.Signbit(relS[x.k]) {
+			low = insertLow(low, x.v, n)
 		}
 	}
 	st.low = low
@@ -229,7 +242,8 @@ func (a *Annotator) bestRelated(st *state, cand []int32, n int, norm, rbF float6
 	// The exact boosts of the concepts whose upper bound reaches L.
 	inSum := a.inSum[:C]
 	for k, s := range sc {
-		if (s+max(relS[k], 0)+tau*inSum[k])*(1+boundSlack) < cut || dep[k] {
+		// relS[k] is −0 where no strong row reached k: s + −0 = s.
+		if (s+relS[k]+tau*inSum[k])*(1+boundSlack) < cut || dep[k] {
 			continue
 		}
 		r := a.boost(int32(k), c)
