@@ -679,12 +679,11 @@ type state struct {
 	ranked    []scored
 	cand      []int32
 	sup       []Support // support's scratch
-	// The related boosts (related.go): rel[k] is concept k's
-	// γ·Σ_j s_j·L_jk (addRelated writes every k); relC[j] is candidate
-	// j's γ·s_j, 0 for other concepts between calls; relS holds
-	// bestRelated's partial sums, −0 where none reached, relT listing
-	// the reached k (reset by put); own and low its short lists.
-	rel   []float64
+	// The related boosts (related.go): relS[k] is concept k's
+	// γ·Σ_j s_j·L_jk after addRelated (bestRelated: over the strong
+	// candidates only), −0 where no row reached k, relT listing the
+	// reached k (reset by put); relC[j] is candidate j's γ·s_j, 0 for
+	// other concepts between calls; sc, own, low and maybe bestRelated's.
 	relC  []float64
 	relS  []float64
 	relT  []int32
@@ -1536,7 +1535,7 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 	score := func(k int32) float64 {
 		v := (st.th[k] + a.alpha[k]*a.phi0[k]*rbF + alphaP(k)) * norm
 		if relOn {
-			v += st.rel[k]
+			v += st.relS[k] // −0 where no row reached k: v as it was
 		}
 		return v
 	}

@@ -92,33 +92,48 @@ func gather(js []int32, ls []float64, c []float64) float64 {
 	return r
 }
 
-// addRelated sets st.rel[k] to γ·Σ_j s_j·L_jk for every concept k, the
-// sum over the candidates j whose rows hold k, and appends to cand the
-// concepts it reaches that are not candidates (by concept). Scores then
-// no longer sum to 1 with Uncovered; they rank.
+// addRelated sets st.relS[k] to γ·Σ_j s_j·L_jk for every concept k, the
+// sum over the candidates j whose rows hold k (−0 where none does), and
+// appends to cand the concepts it reaches that are not candidates, by
+// concept. Scores then no longer sum to 1 with Uncovered; they rank.
 //
-// Each boost is gathered through the related rows turned round (inJ),
-// in increasing j, rather than scattered from each candidate's row: the
-// sum has one order however the candidates come, and bestRelated can
-// compute one concept's boost alone, the same bits. A concept is reached
-// when its boost is above 0: every candidate's γ·s_j·L_jk is (α_j > 0,
-// and Validate keeps L_jk in (0, 1]).
+// The rows are added in increasing j, whatever order the candidates
+// come in: each boost is then the sum bestRelated gathers for one
+// concept alone through the rows turned round, the same bits.
 func (a *Annotator) addRelated(st *state, cand []int32, score func(int32) float64) []int32 {
 	a.setRelC(st, cand, score)
-	n := len(cand)
-	if len(st.rel) < a.C {
-		st.rel = make([]float64, a.C)
-	}
-	rel, c, mark, gen := st.rel, st.relC, st.mark, st.gen
-	for k := int32(0); int(k) < a.C; k++ {
-		r := a.boost(k, c)
-		rel[k] = r
-		if r > 0 && mark[k] != gen {
-			cand = append(cand, k)
+	C := a.C
+	relS, all := st.relSList(C)
+	c, mark, gen, related := st.relC[:C], st.mark[:C], st.gen, a.m.Related
+	m := 0
+	for j := range c {
+		if mark[j] == gen && len(related[j]) > 0 {
+			m = boostRow(related[j], c[j], relS, all, m)
 		}
 	}
-	clearRelC(st, cand[:n])
+	st.relT = all[:m]
+	for k := range relS {
+		if !math.Signbit(relS[k]) && mark[k] != gen {
+			cand = append(cand, int32(k))
+		}
+	}
+	clearRelC(st, cand)
 	return cand
+}
+
+// relSList returns st.relS, −0 for every concept, and room for the list
+// of the concepts boostRow reaches (st.relT, by which put clears relS).
+func (st *state) relSList(C int) (relS []float64, all []int32) {
+	if len(st.relS) < C {
+		st.relS = make([]float64, C)
+		for k := range st.relS {
+			st.relS[k] = negZero
+		}
+	}
+	if cap(st.relT) < C+1 {
+		st.relT = make([]int32, 0, C+1)
+	}
+	return st.relS[:C], st.relT[:C+1]
 }
 
 // boostRow adds c·L_jk to rel[k] for the pairs of one related row, with
@@ -197,19 +212,9 @@ func (a *Annotator) bestRelated(st *state, cand []int32, n int, norm, rbF float6
 		tau = relatedFloor * relatedWeight * top[n-1].v
 	}
 
-	// The strong candidates' rows, summed in any order: for the bounds only.
-	if len(st.relS) < C {
-		st.relS = make([]float64, C)
-		for k := range st.relS {
-			st.relS[k] = negZero
-		}
-	}
-	relS := st.relS[:C]
-	relT := st.relT[:0]
-	if cap(relT) < C+1 {
-		relT = make([]int32, 0, C+1)
-	}
-	all, m := relT[:C+1], 0
+	// The strong candidates' rows, in any order: for the bounds only.
+	relS, all := st.relSList(C)
+	m := 0
 	related := a.m.Related
 	for _, j := range maybe {
 		if row := related[j]; len(row) > 0 && c[j] >= tau {

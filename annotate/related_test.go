@@ -124,8 +124,8 @@ func TestAddRelatedDense(t *testing.T) {
 		}
 		var added []int32
 		for k := range int32(m.C) {
-			if st.rel[k] != want[k] {
-				t.Fatalf("trial %d: concept %d boost %v, want %v", trial, k, st.rel[k], want[k])
+			if st.relS[k] != want[k] || math.Signbit(st.relS[k]) == reached[k] {
+				t.Fatalf("trial %d: concept %d boost %v, want %v (reached %v)", trial, k, st.relS[k], want[k], reached[k])
 			}
 			if reached[k] && !in[k] {
 				added = append(added, k)
@@ -196,26 +196,30 @@ func TestBestRelated(t *testing.T) {
 			cand = append(cand, int32(k))
 		}
 		// Topic mass: a few concepts carry most, as in a record.
+		ref := a.get() // the same record, for addRelated
 		for _, k := range cand {
 			if r.IntN(8) == 0 {
 				st.th[k] = 10 * r.Float64()
 			} else {
 				st.th[k] = 0.01 * r.Float64()
 			}
+			ref.th[k] = st.th[k]
 			st.touched = append(st.touched, k)
+			ref.touched = append(ref.touched, k)
 		}
 		norm, rbF := 1/(50+a.sumAlpha), r.Float64()
 		n := []int{1, 3, 10, 64, m.C}[trial%5]
 		score := func(k int32) float64 {
 			return (st.th[k] + a.alpha[k]*a.phi0[k]*rbF + a.alpha[k] + st.ext[k]) * norm
 		}
-		all := a.addRelated(st, slices.Clone(cand), score)
+		all := a.addRelated(ref, slices.Clone(cand), score)
 		var want []scored
 		for _, k := range all {
 			if !a.dep[k] {
-				want = append(want, scored{k, score(k) + st.rel[k]})
+				want = append(want, scored{k, score(k) + ref.relS[k]})
 			}
 		}
+		a.put(ref)
 		slices.SortFunc(want, func(x, y scored) int {
 			if x.better(y) {
 				return -1
