@@ -199,8 +199,9 @@ func (a *Annotator) bestRelated(st *state, cand []int32, n int, norm, rbF float6
 		if c[k] >= tauSoFar {
 			maybe = append(maybe, k)
 		}
-		if !dep[k] {
-			top = insertBest(top, scored{k, s}, n)
+		// Most candidates fall below the n-th at once: no call for them.
+		if x := (scored{k, s}); !dep[k] && (len(top) < n || x.better(top[n-1])) {
+			top = insertBest(top, x, n)
 			if len(top) == n {
 				tauSoFar = relatedFloor * relatedWeight * top[n-1].v
 			}
