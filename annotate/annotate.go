@@ -276,13 +276,11 @@ type Annotator struct {
 	off   []int32
 	ent   []wEntry
 	entP  []float64 // ent's alias keep-probabilities
-	aw    []float64 // A_w = q + Σ_k α_k·s_kw
-	awF   []float64 // Σ_{k ≥ C} α_k·φ_kw
 	best  []int32   // argmax over concepts k of α_k·φ_kw (-1: no concepts)
 	bestV []float64
 	den   []float64 // n_k + B_k
 	// wh[w] holds what a record reads of word w, on one half cache line
-	// (off, aw and awF sit in three arrays of their own, each a miss).
+	// (off, aw and awF in three arrays were three misses a word).
 	wh []wordHead
 
 	// maxList: a record whose words' topic lists average at most this many
@@ -434,8 +432,7 @@ func New(m *model.Model) (*Annotator, error) {
 		}
 	}
 	// Topics were visited in increasing order, so each list is sorted.
-	a.aw = make([]float64, W)
-	a.awF = make([]float64, W)
+	a.wh = make([]wordHead, W)
 	a.best = make([]int32, W)
 	a.bestV = make([]float64, W)
 	var buf, prob []float64
@@ -477,24 +474,19 @@ func New(m *model.Model) (*Annotator, error) {
 			e := &a.ent[lo+int32(i)]
 			a.entP[lo+int32(i)], e.alt = t.prob[i], a.ent[lo+t.alias[i]].k
 		}
-		a.aw[w] = a.q + sumW
-		a.awF[w] = free
-		a.best[w], a.bestV[w] = bk, bv
-	}
-	a.wh = make([]wordHead, W)
-	for w := range a.wh {
-		lo, hi := a.off[w], a.off[w+1]
 		c := lo // the concepts' entries come first: the lists are sorted by topic
 		for c < hi && a.ent[c].k < int32(C) {
 			c++
 		}
-		a.wh[w] = wordHead{lo: lo, hi: hi, hiC: c, aw: a.aw[w], awF: a.awF[w]}
+		a.wh[w] = wordHead{lo: lo, hi: hi, hiC: c, aw: a.q + sumW, awF: free}
+		a.best[w], a.bestV[w] = bk, bv
 	}
 	return a, nil
 }
 
 // wordHead is word w's list ent[lo:hi], whose entries for concepts are
-// ent[lo:hiC], with A_w and Σ_{k ≥ C} α_k·φ_kw (aw and awF).
+// ent[lo:hiC], with A_w = q + Σ_k α_k·s_kw and Σ_{k ≥ C} α_k·φ_kw (aw
+// and awF).
 type wordHead struct {
 	lo, hi, hiC, _ int32
 	aw, awF        float64
@@ -1474,7 +1466,7 @@ func (a *Annotator) postAt(st *state, u, k, s int32, acc, sk, samples float64) f
 	if s >= 0 {
 		p += st.dacc[u] / n * st.dsm[s] / samples
 	}
-	return p + st.cacc[u]/n*a.alpha[k]*(a.phi0[k]+sk)/a.aw[st.uw[u]]
+	return p + st.cacc[u]/n*a.alpha[k]*(a.phi0[k]+sk)/a.wh[st.uw[u]].aw
 }
 
 // freePost returns word type u's posterior mass on all free topics.
@@ -1487,7 +1479,7 @@ func (a *Annotator) freePost(st *state, u int32, samples float64) float64 {
 		}
 	}
 	w := st.uw[u]
-	return p/n + st.dacc[u]/n*a.freeDSM(st)/samples + st.cacc[u]/n*a.awF[w]/a.aw[w]
+	return p/n + st.dacc[u]/n*a.freeDSM(st)/samples + st.cacc[u]/n*a.wh[w].awF/a.wh[w].aw
 }
 
 // freeDSM is the free topics' total share of the smoothing bucket.
@@ -2020,7 +2012,7 @@ func (a *Annotator) words(res *Result, text string, toks []terms.Token, st *stat
 		// post(u, k), with the word type's factors taken out.
 		n := float64(st.ucnt[u]) * samples
 		invN := 1 / n
-		dn, cn := st.dacc[u]*invN/samples, st.cacc[u]*invN/a.aw[w]
+		dn, cn := st.dacc[u]*invN/samples, st.cacc[u]*invN/a.wh[w].aw
 		// Candidates: the record's concepts that hold the word; the
 		// concept taking most of the smoothing bucket (dk); the best
 		// concept by α_k·φ_kw alone (best), which no concept without
@@ -2052,7 +2044,7 @@ func (a *Annotator) words(res *Result, text string, toks []terms.Token, st *stat
 			}
 			try(b, p)
 		}
-		pf := free/n + st.dacc[u]/n*dsF/samples + st.cacc[u]/n*a.awF[w]/a.aw[w]
+		pf := free/n + st.dacc[u]/n*dsF/samples + st.cacc[u]/n*a.wh[w].awF/a.wh[w].aw
 		if pf > bp || bk < 0 {
 			ch[u] = choice{"", pf}
 		} else {

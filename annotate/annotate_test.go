@@ -129,7 +129,7 @@ func (a *Annotator) conditional(st *state, u int32) []float64 {
 	}
 	aw := 0.0
 	if !st.allow {
-		aw = a.aw[w]
+		aw = a.wh[w].aw
 		for k, d := range a.dense.pmf() {
 			p[k] += a.q * d
 		}
@@ -324,7 +324,7 @@ func testDrawFrequencies(t *testing.T, maxList int) {
 				}
 			}
 			if !st.allow {
-				p += dc * a.alpha[k] * (a.phi0[k] + a.sv(w, int32(k))) / a.aw[w]
+				p += dc * a.alpha[k] * (a.phi0[k] + a.sv(w, int32(k))) / a.wh[w].aw
 			}
 			if math.Abs(p-want[k]) > 1e-12 {
 				t.Errorf("%+v: topic %d accumulated %v, conditional %v", opt, k, p, want[k])
@@ -1088,7 +1088,7 @@ func TestStartExpected(t *testing.T) {
 			if s[u][k] < 1e-15 {
 				s[u][k] = 0
 			}
-			e0[k] += float64(st.ucnt[u]) * m.Alpha[k] * s[u][k] / a.aw[w]
+			e0[k] += float64(st.ucnt[u]) * m.Alpha[k] * s[u][k] / a.wh[w].aw
 		}
 	}
 	for _, k := range st.bT {
@@ -1104,7 +1104,7 @@ func TestStartExpected(t *testing.T) {
 		z1[u] = a.q
 		for k := 0; k < K; k++ {
 			if s[u][k] > 0 {
-				v1[u][k] = (e0[k] - m.Alpha[k]*s[u][k]/a.aw[w] + m.Alpha[k]) * m.Phi(k, int(w))
+				v1[u][k] = (e0[k] - m.Alpha[k]*s[u][k]/a.wh[w].aw + m.Alpha[k]) * m.Phi(k, int(w))
 				z1[u] += v1[u][k]
 			}
 		}
