@@ -1185,3 +1185,43 @@ func TestSearchSorted(t *testing.T) {
 		}
 	}
 }
+
+// TestWordHeads: each word's packed header bounds its list, splits it
+// where the concepts' entries end (theta reads only those) and holds
+// A_w = q + Σ_k α_k·s_kw and the free topics' Σ α_k·φ_kw, computed here
+// from the model's φ. Source: the definitions in the package comment.
+func TestWordHeads(t *testing.T) {
+	m := modeltest.Synthetic(modeltest.Options{Concepts: 60, Free: 5, Words: 400, WordsPerConcept: 12, Seed: 21})
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	mixed := 0
+	for w, h := range a.wh {
+		if h.lo != a.off[w] || h.hi != a.off[w+1] || h.hiC < h.lo || h.hiC > h.hi {
+			t.Fatalf("word %d: head %+v, list [%d, %d)", w, h, a.off[w], a.off[w+1])
+		}
+		for i := h.lo; i < h.hi; i++ {
+			if isConcept := int(a.ent[i].k) < a.C; isConcept != (i < h.hiC) {
+				t.Fatalf("word %d: entry %d (topic %d) on the wrong side of %d", w, i, a.ent[i].k, h.hiC)
+			}
+		}
+		if h.lo < h.hiC && h.hiC < h.hi {
+			mixed++
+		}
+		aw, awF := 0.0, 0.0
+		for k := 0; k < a.K; k++ {
+			v := a.alpha[k] * m.Phi(k, w)
+			aw += v
+			if k >= a.C {
+				awF += v
+			}
+		}
+		if math.Abs(h.aw-aw) > 1e-12*aw || math.Abs(h.awF-awF) > 1e-12*aw {
+			t.Fatalf("word %d: A_w %v free %v, want %v and %v", w, h.aw, h.awF, aw, awF)
+		}
+	}
+	if mixed == 0 {
+		t.Error("no word is held by both concepts and free topics: the split was not tried")
+	}
+}
