@@ -19,7 +19,7 @@ const relatedFloor = 0.05
 // order than the exact boosts, so their last bits may differ.
 const boundSlack = 1e-9
 
-// negZero is −0, bestRelated's mark of a concept no pair has reached.
+// negZero is −0, the boost of a concept no pair has reached (x + −0 = x).
 var negZero = math.Copysign(0, -1)
 
 // invertRelated fills inOff, inJ, inL and inSum from the model's related
@@ -102,7 +102,7 @@ func gather(js []int32, ls []float64, c []float64) float64 {
 // concept alone through the rows turned round, the same bits.
 func (a *Annotator) addRelated(st *state, cand []int32, score func(int32) float64) []int32 {
 	a.setRelC(st, cand, score)
-	C := a.C
+	C, n := a.C, len(cand)
 	relS, all := st.relSList(C)
 	c, mark, gen, related := st.relC[:C], st.mark[:C], st.gen, a.m.Related
 	m := 0
@@ -117,8 +117,19 @@ func (a *Annotator) addRelated(st *state, cand []int32, score func(int32) float6
 			cand = append(cand, int32(k))
 		}
 	}
-	clearRelC(st, cand)
+	clearRelC(st, cand[:n])
 	return cand
+}
+
+// reached reports whether a candidate's row holds concept k (r > 0 says
+// so unless every such pair's γ·s_j·L_jk rounded to 0).
+func (a *Annotator) reached(k int32, mark []uint32, gen uint32) bool {
+	for _, j := range a.inJ[a.inOff[k]:a.inOff[k+1]] {
+		if mark[j] == gen {
+			return true
+		}
+	}
+	return false
 }
 
 // relSList returns st.relS, −0 for every concept, and room for the list
@@ -253,7 +264,7 @@ func (a *Annotator) bestRelated(st *state, cand []int32, n int, norm, rbF float6
 			continue
 		}
 		r := a.boost(int32(k), c)
-		if !(r > 0) && mark[k] != gen {
+		if !(r > 0) && mark[k] != gen && !a.reached(int32(k), mark, gen) {
 			continue // neither a candidate nor reached: not ranked
 		}
 		best = insertBest(best, scored{int32(k), s + r}, n)
