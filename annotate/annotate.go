@@ -709,6 +709,8 @@ type state struct {
 	wVal []float32
 	wSc  model.VectorScratch
 	wd   []float64
+	wK   []float64 // the neighbour vote K_k
+	wNb  model.NeighbourScratch
 
 	startW, startZ []float64
 	tl             []topicLocal // grouped with startExpected: per topic of bT

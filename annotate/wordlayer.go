@@ -20,15 +20,17 @@ import (
 // concepts (macro F1@5 0.30 against 0.22). A calibrated model with a word
 // layer ranks by
 //
-//	v_k = d_k + a·z_k − τ·ln(1 + n_k)
+//	v_k = d_k + b·K_k + a·z_k − τ·ln(1 + n_k)
 //
-// d_k the SVM's decision value, z_k the calibrated topic log-odds
-// (calibrate.go), n_k the records people indexed with k, and reports
-// σ(g·v_k + h). a, τ (TuneWordLayer) and (g, h) are learned on records
-// people indexed; τ > 0 lowers the concepts people assign most and so
-// spreads the suggestions over more concepts, which the macro average
-// rewards. It is the layered stacking of Wolpert (1992), "Stacked
-// generalization", with a grid over two weights instead of a learner.
+// d_k the SVM's decision value, K_k the vote of the record's most similar
+// training records (model.Neighbours; b = 0 without one), z_k the
+// calibrated topic log-odds (calibrate.go), n_k the records people
+// indexed with k, and reports σ(g·v_k + h). b, a, τ (TuneWordLayer) and
+// (g, h) are learned on records people indexed; τ > 0 lowers the concepts
+// people assign most and so spreads the suggestions over more concepts,
+// which the macro average rewards. It is the layered stacking of Wolpert
+// (1992), "Stacked generalization", with a grid over three weights
+// instead of a learner.
 
 // wordScores returns the ranking candidates (every concept) and the
 // combined score, for a calibrated model with a word layer. score gives
@@ -43,6 +45,16 @@ func (a *Annotator) wordScores(st *state, text string, toks []terms.Token, score
 	}
 	d := st.wd[:a.C]
 	l.Decision(st.wIdx, st.wVal, d)
+	if nb := l.KNN; nb != nil && nb.Weight != 0 {
+		if len(st.wK) < a.C {
+			st.wK = make([]float64, a.C)
+		}
+		kv := st.wK[:a.C]
+		nb.Vote(st.wIdx, st.wVal, len(a.m.Words)+l.Bigrams, &st.wNb, kv)
+		for k, v := range kv {
+			d[k] += nb.Weight * v
+		}
+	}
 	cand := st.cand[:0]
 	for k := 0; k < a.C; k++ {
 		cand = append(cand, int32(k))
@@ -74,10 +86,13 @@ type TuneOptions struct {
 	At int
 }
 
-// Grids TuneWordLayer searches: a (topic weight), τ (frequency weight)
-// and the share floor (0: none). A share of 1e-4 is about one token of a
-// 50-token record in one of 200 fold-in samples.
+// Grids TuneWordLayer searches: b (neighbour vote weight), a (topic
+// weight), τ (frequency weight) and the share floor (0: none). A share of
+// 1e-4 is about one token of a 50-token record in one of 200 fold-in
+// samples. The vote's best weights on a validation slice of debtags' train
+// split were 0.2–0.8 (bench/quality.md, sixth round).
 var (
+	tuneVote  = []float64{0, 0.15, 0.3, 0.5, 0.8}
 	tuneTopic = []float64{0, 0.02, 0.05, 0.1, 0.15, 0.2, 0.3, 0.4, 0.6, 0.8}
 	tuneFreq  = []float64{0, 0.02, 0.04, 0.06, 0.08, 0.1, 0.12, 0.16}
 	tuneFloor = []float64{0, 1e-4, 1e-3, 1e-2, 3e-2}
@@ -86,11 +101,14 @@ var (
 // TuneWordLayer learns how annotation combines m.WordLayer with the
 // calibrated topic scores: the weights a and τ and the share floor that
 // maximise micro plus macro F1@At over texts people indexed (DESIGN.md's
-// definitions, macro over the concepts the texts carry), then the scale
-// (g, h) by logistic regression of "k is a subject" on v_k. held is a layer trained without
-// the texts, whose decision values the texts' are (a layer scores its own
-// training texts too well); m.WordLayer receives the weights. m must be
-// calibrated (m.Calibration, learned from raw scores).
+// definitions, macro over the concepts the texts carry), with the
+// neighbour vote's weight b when both layers have a vote, then the scale
+// (g, h) by logistic regression of "k is a subject" on v_k. held is a
+// layer trained without the texts, whose decision values and vote the
+// texts' are (a layer scores its own training texts too well, and finds
+// them among its neighbours); m.WordLayer receives the weights, and loses
+// its vote when b = 0 is chosen. m must be calibrated (m.Calibration,
+// learned from raw scores).
 func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, opt TuneOptions) error {
 	if m.Calibration == nil || m.WordLayer == nil || held == nil {
 		return errors.New("annotate: tuning the word layer needs a calibrated model and two layers")
@@ -108,9 +126,14 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 	C := m.C
 	cal := m.Calibration
 	// z[i*C+k] calibrated topic log-odds (NaN: not ranked), d the held-out
-	// layer's decision values, y the subjects.
+	// layer's decision values, kv its neighbour votes, y the subjects.
+	vote := m.WordLayer.KNN != nil && held.KNN != nil
 	x := make([]float64, len(texts)*C)
 	d := make([]float64, len(texts)*C)
+	var kv []float64
+	if vote {
+		kv = make([]float64, len(texts)*C)
+	}
 	y := make([]bool, len(texts)*C)
 	use := make([]bool, len(texts))
 	errs := make([]error, len(texts))
@@ -119,6 +142,7 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 		var seq, ids []int32
 		var val []float32
 		var sc model.VectorScratch
+		var nsc model.NeighbourScratch
 		return func(i int) {
 			t := &texts[i]
 			errs[i] = a.rawScores(t, opt.CalibrateOptions, x[i*C:(i+1)*C], y[i*C:(i+1)*C], &use[i])
@@ -130,6 +154,9 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 			seq, lead = knownWords(t.Text, toks, len(m.Words), seq[:0])
 			ids, val = held.Vector(seq, lead, len(m.Words), &sc, ids, val)
 			held.Decision(ids, val, d[i*C:(i+1)*C])
+			if vote {
+				held.KNN.Vote(ids, val, len(m.Words)+held.Bigrams, &nsc, kv[i*C:(i+1)*C])
+			}
 		}
 	})
 	var rows []int
@@ -159,24 +186,33 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 		}
 	}
 	l := m.WordLayer
-	value := func(i, k int, ta, tf float64) float64 {
+	value := func(i, k int, tb, ta, tf float64) float64 {
 		v := d[i*C+k] - tf*float64(l.LnFreq[k])
+		if tb != 0 {
+			v += tb * kv[i*C+k]
+		}
 		if ta != 0 {
 			v += ta * z[i*C+k]
 		}
 		return v
 	}
-	best, bestA, bestF, bestFloor := math.Inf(-1), 0.0, 0.0, 0.0
+	votes := tuneVote
+	if !vote {
+		votes = []float64{0}
+	}
+	best, bestB, bestA, bestF, bestFloor := math.Inf(-1), 0.0, 0.0, 0.0, 0.0
 	for _, floor := range tuneFloor {
 		setFloor(floor)
 		for _, ta := range tuneTopic {
 			if ta == 0 && floor > 0 {
 				continue // the floor only acts through a
 			}
-			for _, tf := range tuneFreq {
-				f := f1At(rows, C, opt.At, y, func(i, k int) float64 { return value(i, k, ta, tf) })
-				if f > best+1e-12 {
-					best, bestA, bestF, bestFloor = f, ta, tf, floor
+			for _, tb := range votes {
+				for _, tf := range tuneFreq {
+					f := f1At(rows, C, opt.At, y, func(i, k int) float64 { return value(i, k, tb, ta, tf) })
+					if f > best+1e-12 {
+						best, bestB, bestA, bestF, bestFloor = f, tb, ta, tf, floor
+					}
 				}
 			}
 		}
@@ -185,12 +221,18 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 	var p pairs
 	for _, i := range rows {
 		for k := 0; k < C; k++ {
-			if v := value(i, k, bestA, bestF); !math.IsInf(v, 0) {
+			if v := value(i, k, bestB, bestA, bestF); !math.IsInf(v, 0) {
 				p.add(v, y[i*C+k])
 			}
 		}
 	}
 	l.TopicWeight, l.FreqWeight, l.ShareFloor = bestA, bestF, bestFloor
+	if l.KNN != nil {
+		l.KNN.Weight = bestB
+		if bestB == 0 {
+			l.KNN = nil // no weight: the file need not carry the vote
+		}
+	}
 	l.Version = model.WordLayerVersion
 	l.ScaleA, l.ScaleB = p.fit(0, 1, 0)
 	l.Tuned, l.TunedF1 = len(rows), best

@@ -185,3 +185,82 @@ func TestWordLayerCRecords(t *testing.T) {
 		t.Errorf("the smaller C moved concept 0's decisions by only %v", moved)
 	}
 }
+
+// TestWordLayerNeighbours: the layer's neighbour vote stores each indexed
+// record's whole-text vector (the first part of WordLayer.Vector, lead
+// part left out) and its subjects, records in corpus order without the
+// unindexed and skipped ones; a record's own vote then ranks it first (its
+// similarity to itself is 1); Neighbours 0 stores none. Common practice,
+// no source: the definition in model.Neighbours, recomputed here.
+func TestWordLayerNeighbours(t *testing.T) {
+	const W = 30
+	r := rand.New(rand.NewPCG(9, 10))
+	c := &Corpus{W: W}
+	for i := 0; i < 60; i++ {
+		d := Doc{Lead: 2}
+		for j := 0; j < 6; j++ {
+			d.Words = append(d.Words, int32(r.IntN(W)))
+		}
+		if i%5 != 0 { // every fifth unindexed
+			d.Subjects = []int32{int32(r.IntN(4)), int32(4 + r.IntN(2))}
+		}
+		c.Docs = append(c.Docs, d)
+	}
+	skip := func(i int) bool { return i%7 == 0 }
+	l, err := TrainWordLayer(c, 6, WordLayerOptions{Skip: skip, Neighbours: 30})
+	if err != nil {
+		t.Fatal(err)
+	}
+	nb := l.KNN
+	if nb == nil || nb.N != 30 || nb.Power != DefaultWordNeighbourPower || nb.Weight != 0 {
+		t.Fatalf("vote %+v, want N 30, power %v, weight 0", nb, DefaultWordNeighbourPower)
+	}
+	// Rebuild each stored record's vector from the postings.
+	stored := make([]map[int32]float32, nb.Records())
+	for i := range stored {
+		stored[i] = map[int32]float32{}
+	}
+	for f := 0; f < W; f++ {
+		for j := nb.Start[f]; j < nb.Start[f+1]; j++ {
+			stored[nb.Record[j]][int32(f)] = nb.Value[j]
+		}
+	}
+	var sc model.VectorScratch
+	var nsc model.NeighbourScratch
+	K := make([]float64, 6)
+	n := 0
+	for i, d := range c.Docs {
+		if len(d.Subjects) == 0 || skip(i) {
+			continue
+		}
+		idx, val := l.Vector(d.Words, int(d.Lead), W, &sc, nil, nil)
+		want := map[int32]float32{}
+		for j, f := range idx {
+			if f < W {
+				want[f] = val[j]
+			}
+		}
+		if !reflect.DeepEqual(stored[n], want) {
+			t.Fatalf("record %d (stored %d): vector %v, want %v", i, n, stored[n], want)
+		}
+		subj := nb.Subject[nb.SubjectStart[n]:nb.SubjectStart[n+1]]
+		if !reflect.DeepEqual(subj, d.Subjects) {
+			t.Fatalf("record %d: subjects %v, want %v", i, subj, d.Subjects)
+		}
+		one := *nb
+		one.N = 1
+		one.Vote(idx, val, W, &nsc, K)
+		for _, k := range d.Subjects {
+			if math.Abs(K[k]-1) > 1e-6 {
+				t.Fatalf("record %d: its own vote K_%d = %v, want 1", i, k, K[k])
+			}
+		}
+		n++
+	}
+	if n != nb.Records() {
+		t.Fatalf("%d records stored, want %d", nb.Records(), n)
+	}
+	if l, err := TrainWordLayer(c, 6, WordLayerOptions{}); err != nil || l.KNN != nil {
+		t.Errorf("Neighbours 0: vote %v, %v", l.KNN, err)
+	}
+}

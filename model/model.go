@@ -156,9 +156,9 @@ func (c *Calibration) Apply(k int, s float64) float64 {
 }
 
 // WordLayerVersion is the WordLayer layout this build writes; it reads
-// this one, version 2 (before ShareFloor: 0) and version 1 (before lead
-// features: Lead 0).
-const WordLayerVersion = 3
+// this one, version 3 (before KNN: nil), version 2 (before ShareFloor: 0)
+// and version 1 (before lead features: Lead 0).
+const WordLayerVersion = 4
 
 // WordLayer is a per-concept linear model over a record's words (a
 // one-vs-rest linear SVM, linear.OneVsRest, trained on the records people
@@ -188,6 +188,9 @@ const WordLayerVersion = 3
 // field, the title, when records are joined), as features numbered from
 // W + Bigrams with their own IDF, scaled to length Lead. The words of a
 // title say more about a record's subjects than the same words further down.
+//
+// With KNN (version 4) annotation also adds KNN.Weight·K_k to d_k, K_k
+// the vote of the record's most similar training records (Neighbours).
 type WordLayer struct {
 	Version int
 	Bigrams int       // bigram buckets (0: words only)
@@ -220,6 +223,9 @@ type WordLayer struct {
 	// CRecords: concepts with n > CRecords records people indexed were
 	// trained with C·√(CRecords/n) instead of SVMC (0: SVMC for all).
 	CRecords int
+	// KNN, when set, is the nearest-neighbour vote (nil in files before
+	// version 4, and when tuning gave it no weight).
+	KNN *Neighbours
 }
 
 // ConceptWeight is a concept index with a weight.
@@ -1030,6 +1036,14 @@ func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 func (l *WordLayer) validate(C, W int) error {
 	if l.Bigrams < 0 || l.Bigrams > 1<<26 {
 		return fmt.Errorf("%d bigram buckets", l.Bigrams)
+	}
+	if l.KNN != nil {
+		if l.Version < 4 {
+			return fmt.Errorf("version %d layer with a neighbour vote", l.Version)
+		}
+		if err := l.KNN.validate(C, W+l.Bigrams); err != nil {
+			return fmt.Errorf("neighbour vote: %w", err)
+		}
 	}
 	W = l.Dim(W)
 	switch {
