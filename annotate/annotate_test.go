@@ -839,7 +839,40 @@ func FuzzAnnotate(f *testing.F) {
 	}
 	rows, _ := New(m) // topic rows read per visited topic (row mode)
 	rows.maxList = 0
+	// The same model with related rows: concepts-only (bestRelated)
+	// must rank as the full annotation (addRelated) does.
+	mr := *m
+	mr.Related = make([][]model.ConceptWeight, mr.C)
+	for j := range mr.Related {
+		for k := range int32(mr.C) {
+			if (int(k)+j)%3 != 1 {
+				mr.Related[j] = append(mr.Related[j], model.ConceptWeight{Concept: k, Weight: 0.1 + 0.1*float64((int(k)*7+j)%9)})
+			}
+		}
+	}
+	related, err := New(&mr)
+	if err != nil {
+		f.Fatal(err)
+	}
 	f.Fuzz(func(t *testing.T, text string) {
+		for _, top := range []int{1, 3} {
+			full, err := related.Annotate("f", text, Options{Top: top})
+			if err != nil {
+				t.Fatal(err)
+			}
+			quick, err := related.Annotate("f", text, Options{Top: top, ConceptsOnly: true})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if len(quick.Concepts) != len(full.Concepts) {
+				t.Fatalf("Top %d: concepts only gives %d concepts, full %d", top, len(quick.Concepts), len(full.Concepts))
+			}
+			for i, c := range quick.Concepts {
+				if c.IRI != full.Concepts[i].IRI || c.Score != full.Concepts[i].Score {
+					t.Fatalf("Top %d rank %d: concepts only %s %v, full %s %v", top, i, c.IRI, c.Score, full.Concepts[i].IRI, full.Concepts[i].Score)
+				}
+			}
+		}
 		for _, a := range []*Annotator{a, rows} {
 			res, err := a.Annotate("f", text, Options{Top: -1, IncludeWords: true})
 			if err != nil {
