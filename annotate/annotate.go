@@ -1322,7 +1322,6 @@ func (a *Annotator) setExt(st *state, k int32, e float64) {
 // list nz[u], usually a handful) and the smoothing bucket D = Σ c_k·φ⁰_k,
 // whose total is kept up to date (SparseLDA, Yao, Mimno & McCallum 2009).
 func (a *Annotator) draw(st *state, u int32, rng *splitMix, record bool) int32 {
-	w := st.uw[u]
 	nz := st.nz[u]
 	if cap(st.buf) < len(nz) || cap(st.cum) < len(nz) {
 		st.grow(len(nz))
@@ -1348,7 +1347,16 @@ func (a *Annotator) draw(st *state, u int32, rng *splitMix, record bool) int32 {
 	if x < bt { // bt is cum's last entry, so the search stops
 		return st.slotTopic[nz[search(cum, x)].s]
 	}
-	x -= bt
+	return a.drawOut(st, u, rng, x-bt, d, aw)
+}
+
+// drawOut is draw past the word bucket (about one draw in twenty on
+// debtags records): x, reduced by the word bucket's total, falls in the
+// smoothing bucket d or the α·φ part aw. A function of its own, so that
+// draw's common path keeps a small frame.
+//
+//go:noinline
+func (a *Annotator) drawOut(st *state, u int32, rng *splitMix, x, d, aw float64) int32 {
 	if x < d || aw == 0 {
 		last := int32(-1)
 		for _, s := range st.act {
@@ -1367,6 +1375,7 @@ func (a *Annotator) draw(st *state, u int32, rng *splitMix, record bool) int32 {
 		}
 	}
 	x -= d
+	w := st.uw[u]
 	if x < a.q || a.off[w] == a.off[w+1] {
 		return a.dense.draw(rng)
 	}
