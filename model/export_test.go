@@ -20,3 +20,10 @@ func FixChecksum(b []byte) []byte {
 	copy(b[24:], s[:])
 	return b
 }
+
+// SetEncodeOptionsAsMap makes Save write Provenance.Options as builds before
+// meta.Options did, until the returned function is called.
+func SetEncodeOptionsAsMap() (undo func()) {
+	encodeOptionsAsMap = true
+	return func() { encodeOptionsAsMap = false }
+}

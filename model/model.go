@@ -42,6 +42,7 @@ import (
 	"fmt"
 	"hash"
 	"io"
+	"maps"
 	"math"
 	"os"
 	"path/filepath"
@@ -672,6 +673,13 @@ type meta struct {
 	Calibration *Calibration
 	// WordLayer is Model.WordLayer; older files decode to nil (no layer).
 	WordLayer *WordLayer
+	// Options is Provenance.Options as pairs sorted by key: gob writes a
+	// map in Go's random iteration order, which made the bytes, and so the
+	// checksum that seeds annotation, differ from one encoding of the same
+	// model to the next. Provenance.Options itself is written empty; files
+	// from before hold the map there, and older builds reading a newer file
+	// ignore this field (gob skips fields it does not know).
+	Options [][2]string
 }
 
 // enc packs the flat arrays.
@@ -719,8 +727,18 @@ func (e *enc) ints(xs []int) {
 	}
 }
 
+// encodeOptionsAsMap: tests set it to write Provenance.Options as files
+// written before meta.Options did.
+var encodeOptionsAsMap bool
+
 func encode(w io.Writer, m *Model) error {
 	md := meta{Analyzer: m.Analyzer, Provenance: m.Provenance, Related: m.Related, Calibration: m.Calibration, WordLayer: m.WordLayer}
+	if !encodeOptionsAsMap {
+		md.Provenance.Options = nil
+		for _, k := range slices.Sorted(maps.Keys(m.Provenance.Options)) {
+			md.Options = append(md.Options, [2]string{k, m.Provenance.Options[k]})
+		}
+	}
 	if m.Scheme != nil {
 		md.HasScheme = true
 		md.SchemeIRI, md.Title, md.Collections = m.Scheme.IRI, m.Scheme.Title, m.Scheme.Collections
@@ -911,6 +929,12 @@ func decode(b []byte) (*Model, error) {
 	}
 	d.off += gn
 	m := &Model{Analyzer: md.Analyzer, Provenance: md.Provenance, Related: md.Related, Calibration: md.Calibration, WordLayer: md.WordLayer}
+	if len(md.Options) > 0 {
+		m.Provenance.Options = make(map[string]string, len(md.Options))
+		for _, kv := range md.Options {
+			m.Provenance.Options[kv[0]] = kv[1]
+		}
+	}
 	m.C = d.count(1)
 	m.F = d.count(1)
 	if d.err == nil && m.C+m.F > len(b) {

@@ -3,6 +3,7 @@ package model_test
 import (
 	"bytes"
 	"errors"
+	"fmt"
 	"io"
 	"math"
 	"os"
@@ -25,6 +26,10 @@ func small() *model.Model {
 
 func TestSaveLoadRoundTrip(t *testing.T) {
 	m := small()
+	// Enough options that Go's random map order would show in the bytes.
+	for i := range 12 {
+		m.Provenance.Options[fmt.Sprintf("option-%02d", i)] = fmt.Sprint(i * i)
+	}
 	p := filepath.Join(t.TempDir(), "m.grove")
 	if err := model.Save(p, m); err != nil {
 		t.Fatal(err)
@@ -519,5 +524,40 @@ func TestFeatures(t *testing.T) {
 	}
 	if ids, cnt := model.Features(nil, 10, 1000, nil, nil); len(ids) != 0 || len(cnt) != 0 {
 		t.Errorf("empty record: %v %v", ids, cnt)
+	}
+}
+
+// TestOptionsDeterministic: a model with many provenance options encodes to
+// the same bytes every time, so its checksum, which seeds annotation, is
+// the same for the same model (gob writes maps in random order; meta keeps
+// them as sorted pairs). Files written before, with the map, still load
+// with their options. Common practice, no source.
+func TestOptionsDeterministic(t *testing.T) {
+	m := small()
+	for i := range 16 {
+		m.Provenance.Options[fmt.Sprintf("k%02d", i)] = fmt.Sprint(i)
+	}
+	want, err := m.Sum()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range 20 {
+		if got, _ := m.Sum(); got != want {
+			t.Fatalf("encoding %d gave checksum %x, the first %x", i, got, want)
+		}
+	}
+	undo := model.SetEncodeOptionsAsMap()
+	p := filepath.Join(t.TempDir(), "old.grove")
+	err = model.Save(p, m)
+	undo()
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := model.Load(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(got.Provenance.Options, m.Provenance.Options) {
+		t.Errorf("options of a file with the map: %v, want %v", got.Provenance.Options, m.Provenance.Options)
 	}
 }

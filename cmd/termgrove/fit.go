@@ -383,7 +383,6 @@ func runFit(f *fitFlags) int {
 
 	m := res.Model
 	m.Provenance.TermgroveVersion = version
-	m.Provenance.Created = time.Now().UTC().Format(time.RFC3339)
 	m.Provenance.VocabFile = f.vocab
 	m.Provenance.VocabSHA256, _ = fitHashPath(f.vocab)
 	m.Provenance.CorpusFile = f.recs
@@ -414,6 +413,10 @@ func runFit(f *fitFlags) int {
 			}
 		}
 	}
+	// The time goes in last: the model's checksum seeds the annotations
+	// that the calibration and the word layer's tuning learn from, and a
+	// clock in it would make two fits with the same seed differ.
+	m.Provenance.Created = time.Now().UTC().Format(time.RFC3339)
 	if err := model.Save(f.out, m); err != nil {
 		return fail(1, "%v", err)
 	}
@@ -618,6 +621,12 @@ func trainWordLayer(m *model.Model, corpus *fit.Corpus, calib *calibSample, f *f
 	}
 	opt.Skip = func(i int) bool { return tuning[corpus.Docs[i].HoldKey()] }
 	held, err := fit.TrainWordLayer(corpus, m.C, opt)
+	if errors.Is(err, fit.ErrNoIndexed) {
+		// Every record people indexed is a tuning record: there is nothing
+		// to train the layer that scores them on. Keep the fit.
+		warnf("all %d records people indexed are calibration records, so none is left to learn how the word layer combines with the topics: no word layer (use --holdout, or --calibrate below %d)", full.Records, full.Records)
+		return nil
+	}
 	if err != nil {
 		return err
 	}

@@ -8,6 +8,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"reflect"
 	"strings"
 	"syscall"
 	"testing"
@@ -273,5 +274,95 @@ func TestFitInterrupt(t *testing.T) {
 	}
 	if _, err := os.Stat(out + ".checkpoint"); err != nil {
 		t.Fatalf("no checkpoint after SIGINT: %v", err)
+	}
+}
+
+// TestFitReproducible fits twice with the same seed, with the score
+// calibration and the word layer, a second apart, and wants the same model
+// but for the time it was made (README: "the same seed and number of
+// workers give the same model, bit for bit"). The calibration and the
+// tuning annotate records with seeds drawn from the model's checksum, so a
+// clock in the checksum made them differ. Common practice, no source.
+func TestFitReproducible(t *testing.T) {
+	dir := t.TempDir()
+	vocab, recs := filepath.Join(dir, "v.ttl"), filepath.Join(dir, "r.jsonl")
+	if err := os.WriteFile(vocab, []byte(fitTestVocab), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	writeFitCorpus(t, recs, 3000, 20) // about 450 records people indexed
+	var ms [2]*model.Model
+	for i := range ms {
+		if i > 0 {
+			time.Sleep(1100 * time.Millisecond) // the next second of Created
+		}
+		out := filepath.Join(dir, fmt.Sprintf("m%d.grove", i))
+		if code := cmdFit([]string{"--vocab", vocab, "--records", recs, "--out", out, "--free-topics", "1",
+			"--sweeps", "10", "--workers", "1", "--calibrate", "200", "--checkpoint", "0", "--quiet"}); code != 0 {
+			t.Fatalf("fit %d: exit %d", i, code)
+		}
+		m, err := model.Load(out)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if m.Calibration == nil || m.WordLayer == nil {
+			t.Fatalf("fit %d: calibration %v, word layer %v: want both", i, m.Calibration != nil, m.WordLayer != nil)
+		}
+		ms[i] = m
+	}
+	if ms[0].Provenance.Created == ms[1].Provenance.Created {
+		t.Fatalf("both fits made at %s: the test needs them a second apart", ms[0].Provenance.Created)
+	}
+	// Saved again with one time, the two must be the same bytes.
+	ms[1].Provenance.Created = ms[0].Provenance.Created
+	var saved [2][]byte
+	for i, m := range ms {
+		p := filepath.Join(dir, fmt.Sprintf("again%d.grove", i))
+		if err := model.Save(p, m); err != nil {
+			t.Fatal(err)
+		}
+		b, err := os.ReadFile(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		saved[i] = b
+	}
+	if !bytes.Equal(saved[0], saved[1]) {
+		var diff []string
+		va, vb := reflect.ValueOf(ms[0]).Elem(), reflect.ValueOf(ms[1]).Elem()
+		for i := range va.NumField() {
+			if f := va.Type().Field(i); f.IsExported() && !reflect.DeepEqual(va.Field(i).Interface(), vb.Field(i).Interface()) {
+				diff = append(diff, f.Name)
+			}
+		}
+		t.Errorf("two fits with seed 1 differ beyond Created, in %v", diff)
+	}
+}
+
+// TestFitWordLayerNoneLeft: when the calibration sample takes every record
+// people indexed (no --holdout, --calibrate above their number), no record
+// is left to tune the word layer on. The fit warns and keeps the model,
+// calibrated, without the layer, instead of failing after all its sweeps.
+func TestFitWordLayerNoneLeft(t *testing.T) {
+	dir := t.TempDir()
+	vocab, recs, out := filepath.Join(dir, "v.ttl"), filepath.Join(dir, "r.jsonl"), filepath.Join(dir, "m.grove")
+	if err := os.WriteFile(vocab, []byte(fitTestVocab), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	writeFitCorpus(t, recs, 1500, 20) // about 225 records people indexed
+	bin := buildTermgrove(t)
+	_, stderr, code := runTG(t, bin, "fit", "--vocab", vocab, "--records", recs, "--out", out, "--free-topics", "1",
+		"--sweeps", "5", "--workers", "1", "--calibrate", "1000", "--checkpoint", "0", "--quiet")
+	if code != 0 {
+		t.Fatalf("exit %d, want 0; stderr:\n%s", code, stderr)
+	}
+	if !strings.Contains(stderr, "none is left to learn how the word layer combines") {
+		t.Errorf("stderr does not say why there is no word layer:\n%s", stderr)
+	}
+	m, err := model.Load(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m.Calibration == nil || m.WordLayer != nil {
+		t.Errorf("calibration %v, word layer %v: want a calibrated model without the layer", m.Calibration != nil, m.WordLayer != nil)
 	}
 }
