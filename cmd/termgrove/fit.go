@@ -382,10 +382,7 @@ func runFit(f *fitFlags) int {
 	}
 
 	m := res.Model
-	m.Provenance.TermgroveVersion = version
-	m.Provenance.VocabFile = f.vocab
 	m.Provenance.VocabSHA256, _ = fitHashPath(f.vocab)
-	m.Provenance.CorpusFile = f.recs
 	m.Provenance.CorpusSHA256, _ = fitHashPath(f.recs)
 	m.Provenance.Options["lang"] = strings.Join(langs, ",")
 	m.Provenance.Options["fields"] = strings.Join(fields, ",")
@@ -413,9 +410,13 @@ func runFit(f *fitFlags) int {
 			}
 		}
 	}
-	// The time goes in last: the model's checksum seeds the annotations
-	// that the calibration and the word layer's tuning learn from, and a
-	// clock in it would make two fits with the same seed differ.
+	// The build, the paths and the time go in last: the model's checksum
+	// seeds the annotations that the calibration and the word layer's
+	// tuning learn from, and these would make two fits of the same files
+	// with the same seed differ.
+	m.Provenance.TermgroveVersion = version
+	m.Provenance.VocabFile = f.vocab
+	m.Provenance.CorpusFile = f.recs
 	m.Provenance.Created = time.Now().UTC().Format(time.RFC3339)
 	if err := model.Save(f.out, m); err != nil {
 		return fail(1, "%v", err)

@@ -278,8 +278,9 @@ func TestFitInterrupt(t *testing.T) {
 }
 
 // TestFitReproducible fits twice with the same seed, with the score
-// calibration and the word layer, a second apart, and wants the same model
-// but for the time it was made (README: "the same seed and number of
+// calibration and the word layer, a second apart and from copies of the
+// records under two names, and wants the same model but for the time it
+// was made and the file name (README: "the same seed and number of
 // workers give the same model, bit for bit"). The calibration and the
 // tuning annotate records with seeds drawn from the model's checksum, so a
 // clock in the checksum made them differ. Common practice, no source.
@@ -290,13 +291,20 @@ func TestFitReproducible(t *testing.T) {
 		t.Fatal(err)
 	}
 	writeFitCorpus(t, recs, 3000, 20) // about 450 records people indexed
+	// The second fit reads a copy of the records under another name.
+	recs2 := filepath.Join(dir, "copy.jsonl")
+	if b, err := os.ReadFile(recs); err != nil || os.WriteFile(recs2, b, 0o644) != nil {
+		t.Fatal("copying the records", err)
+	}
 	var ms [2]*model.Model
 	for i := range ms {
+		in := recs
 		if i > 0 {
 			time.Sleep(1100 * time.Millisecond) // the next second of Created
+			in = recs2
 		}
 		out := filepath.Join(dir, fmt.Sprintf("m%d.grove", i))
-		if code := cmdFit([]string{"--vocab", vocab, "--records", recs, "--out", out, "--free-topics", "1",
+		if code := cmdFit([]string{"--vocab", vocab, "--records", in, "--out", out, "--free-topics", "1",
 			"--sweeps", "10", "--workers", "1", "--calibrate", "200", "--checkpoint", "0", "--quiet"}); code != 0 {
 			t.Fatalf("fit %d: exit %d", i, code)
 		}
@@ -312,8 +320,9 @@ func TestFitReproducible(t *testing.T) {
 	if ms[0].Provenance.Created == ms[1].Provenance.Created {
 		t.Fatalf("both fits made at %s: the test needs them a second apart", ms[0].Provenance.Created)
 	}
-	// Saved again with one time, the two must be the same bytes.
+	// Saved again with one time and file name, the two must be the same bytes.
 	ms[1].Provenance.Created = ms[0].Provenance.Created
+	ms[1].Provenance.CorpusFile = ms[0].Provenance.CorpusFile
 	var saved [2][]byte
 	for i, m := range ms {
 		p := filepath.Join(dir, fmt.Sprintf("again%d.grove", i))
