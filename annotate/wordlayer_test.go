@@ -245,28 +245,7 @@ func TestWordLayerLearnsMarker(t *testing.T) {
 	for i := 0; i < 340; i++ {
 		texts = append(texts, text(i))
 	}
-	a, err := New(m)
-	if err != nil {
-		t.Fatal(err)
-	}
-	corpus := &fit.Corpus{W: len(m.Words)}
-	for _, tx := range texts[:300] {
-		d := fit.Doc{ID: tx.ID}
-		for _, tk := range a.analyze(tx.Text, "", nil) {
-			d.Words = append(d.Words, tk.ID)
-		}
-		for _, s := range tx.Subjects {
-			k, _ := m.ConceptIndex(s)
-			d.Subjects = append(d.Subjects, int32(k))
-		}
-		corpus.Docs = append(corpus.Docs, d)
-	}
-	tune := texts[:100]
-	cal, err := Calibrate(m, tune, CalibrateOptions{Samples: 30, Workers: 2})
-	if err != nil {
-		t.Fatal(err)
-	}
-	m.Calibration = cal
+	corpus, tune := calibratedCorpus(t, m, texts)
 	full, err := fit.TrainWordLayer(corpus, m.C, fit.WordLayerOptions{Workers: 2})
 	if err != nil {
 		t.Fatal(err)
@@ -352,28 +331,7 @@ func TestTuneWordLayerVote(t *testing.T) {
 	for i := 0; i < 400; i++ {
 		texts = append(texts, text(i))
 	}
-	a, err := New(m)
-	if err != nil {
-		t.Fatal(err)
-	}
-	corpus := &fit.Corpus{W: len(m.Words)}
-	for _, tx := range texts[:300] {
-		d := fit.Doc{ID: tx.ID}
-		for _, tk := range a.analyze(tx.Text, "", nil) {
-			d.Words = append(d.Words, tk.ID)
-		}
-		for _, s := range tx.Subjects {
-			k, _ := m.ConceptIndex(s)
-			d.Subjects = append(d.Subjects, int32(k))
-		}
-		corpus.Docs = append(corpus.Docs, d)
-	}
-	tune := texts[:100]
-	cal, err := Calibrate(m, tune, CalibrateOptions{Samples: 30, Workers: 2})
-	if err != nil {
-		t.Fatal(err)
-	}
-	m.Calibration = cal
+	corpus, tune := calibratedCorpus(t, m, texts)
 	hits := func(neighbours int) (int, *model.WordLayer) {
 		opt := fit.WordLayerOptions{Workers: 2, Neighbours: neighbours}
 		full, err := fit.TrainWordLayer(corpus, m.C, opt)
@@ -426,4 +384,34 @@ func TestTuneWordLayerVote(t *testing.T) {
 	if with < 90 || with < without+15 {
 		t.Errorf("structural concept placed right in %d of 100 texts with the vote, %d without", with, without)
 	}
+}
+
+// calibratedCorpus analyses the first 300 texts into a fit corpus whose
+// records carry their subjects, and sets m's calibration learned on the
+// first 100, which it returns as the tuning texts.
+func calibratedCorpus(t *testing.T, m *model.Model, texts []LabeledText) (*fit.Corpus, []LabeledText) {
+	t.Helper()
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	corpus := &fit.Corpus{W: len(m.Words)}
+	for _, tx := range texts[:300] {
+		d := fit.Doc{ID: tx.ID}
+		for _, tk := range a.analyze(tx.Text, "", nil) {
+			d.Words = append(d.Words, tk.ID)
+		}
+		for _, s := range tx.Subjects {
+			k, _ := m.ConceptIndex(s)
+			d.Subjects = append(d.Subjects, int32(k))
+		}
+		corpus.Docs = append(corpus.Docs, d)
+	}
+	tune := texts[:100]
+	cal, err := Calibrate(m, tune, CalibrateOptions{Samples: 30, Workers: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	m.Calibration = cal
+	return corpus, tune
 }
