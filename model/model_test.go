@@ -305,26 +305,15 @@ func TestRelatedRoundTrip(t *testing.T) {
 	m := small()
 	m.Related = make([][]model.ConceptWeight, m.C)
 	m.Related[3] = []model.ConceptWeight{{Concept: 3, Weight: 0.9}, {Concept: 17, Weight: 0.25}}
-	p := filepath.Join(t.TempDir(), "m.grove")
-	if err := model.Save(p, m); err != nil {
-		t.Fatal(err)
-	}
-	got, err := model.Load(p)
-	if err != nil {
-		t.Fatal(err)
-	}
+	got := saveLoad(t, m)
 	if !reflect.DeepEqual(got.Related[3], m.Related[3]) || len(got.Related) != m.C {
 		t.Errorf("related rows after load: %v", got.Related[3])
 	}
-	plain := small()
-	if err := model.Save(p, plain); err != nil {
-		t.Fatal(err)
-	}
-	if got, err := model.Load(p); err != nil || got.Related != nil {
-		t.Errorf("model without related rows: %v, %v", got.Related, err)
+	if got := saveLoad(t, small()); got.Related != nil {
+		t.Errorf("model without related rows: %v", got.Related)
 	}
 	m.Related[3][1].Concept = int32(m.C)
-	if err := model.Save(p, m); err == nil {
+	if err := model.Save(filepath.Join(t.TempDir(), "bad.grove"), m); err == nil {
 		t.Error("related concept out of range saved")
 	}
 }
@@ -340,14 +329,8 @@ func TestCalibrationRoundTrip(t *testing.T) {
 		cal.A[k], cal.B[k] = 1+float64(k)/10, -float64(k)
 	}
 	m.Calibration = cal
+	got := saveLoad(t, m)
 	p := filepath.Join(t.TempDir(), "m.grove")
-	if err := model.Save(p, m); err != nil {
-		t.Fatal(err)
-	}
-	got, err := model.Load(p)
-	if err != nil {
-		t.Fatal(err)
-	}
 	if !reflect.DeepEqual(got.Calibration, cal) {
 		t.Errorf("calibration after load: %+v, want %+v", got.Calibration, cal)
 	}
@@ -402,14 +385,8 @@ func TestWordLayerRoundTrip(t *testing.T) {
 		l.Bias[k], l.LnFreq[k] = -1, float32(k)/10
 	}
 	m.WordLayer = l
+	got := saveLoad(t, m)
 	p := filepath.Join(t.TempDir(), "m.grove")
-	if err := model.Save(p, m); err != nil {
-		t.Fatal(err)
-	}
-	got, err := model.Load(p)
-	if err != nil {
-		t.Fatal(err)
-	}
 	if !reflect.DeepEqual(got.WordLayer, l) {
 		t.Error("word layer changed by Save and Load")
 	}
@@ -560,4 +537,18 @@ func TestOptionsDeterministic(t *testing.T) {
 	if !reflect.DeepEqual(got.Provenance.Options, m.Provenance.Options) {
 		t.Errorf("options of a file with the map: %v, want %v", got.Provenance.Options, m.Provenance.Options)
 	}
+}
+
+// saveLoad writes m to a new file and reads it back.
+func saveLoad(t *testing.T, m *model.Model) *model.Model {
+	t.Helper()
+	p := filepath.Join(t.TempDir(), "m.grove")
+	if err := model.Save(p, m); err != nil {
+		t.Fatal(err)
+	}
+	got, err := model.Load(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return got
 }

@@ -81,14 +81,7 @@ func TestNeighbourVote(t *testing.T) {
 			if trial%2 == 1 {
 				q = randomQuery(r, parts) // not a training record
 			}
-			var idx []int32
-			var val []float32
-			for f := int32(0); f < parts; f++ {
-				if x, ok := q[f]; ok {
-					idx = append(idx, f)
-					val = append(val, float32(x))
-				}
-			}
+			idx, val := sparseOf(q, parts)
 			idx = append(idx, parts, parts+3) // a lead part: ignored
 			val = append(val, 0.5, 0.5)
 			got := make([]float64, C)
@@ -175,14 +168,8 @@ func TestNeighboursRoundTrip(t *testing.T) {
 	l.KNN = indexOf(vecs, subj, W, 3, 2)
 	l.KNN.Weight = 0.3
 	m.WordLayer = l
+	got := saveLoad(t, m)
 	p := filepath.Join(t.TempDir(), "m.grove")
-	if err := model.Save(p, m); err != nil {
-		t.Fatal(err)
-	}
-	got, err := model.Load(p)
-	if err != nil {
-		t.Fatal(err)
-	}
 	if !reflect.DeepEqual(got.WordLayer.KNN, l.KNN) {
 		t.Error("neighbour vote changed by Save and Load")
 	}
@@ -240,18 +227,24 @@ func BenchmarkNeighbourVote(b *testing.B) {
 	}
 	nb := indexOf(vecs, subj, parts, 30, 2)
 	q := draw()
-	var idx []int32
-	var val []float32
-	for f := int32(0); f < parts; f++ {
-		if x, ok := q[f]; ok {
-			idx = append(idx, f)
-			val = append(val, float32(x))
-		}
-	}
+	idx, val := sparseOf(q, parts)
 	var sc model.NeighbourScratch
 	dst := make([]float64, C)
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
 		nb.Vote(idx, val, parts, &sc, dst)
 	}
+}
+
+// sparseOf lists q's features in increasing order with their values.
+func sparseOf(q map[int32]float64, parts int) ([]int32, []float32) {
+	var idx []int32
+	var val []float32
+	for f := int32(0); f < int32(parts); f++ {
+		if x, ok := q[f]; ok {
+			idx = append(idx, f)
+			val = append(val, float32(x))
+		}
+	}
+	return idx, val
 }
