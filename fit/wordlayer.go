@@ -257,27 +257,10 @@ func TrainWordLayer(c *Corpus, C int, opt WordLayerOptions) (*model.WordLayer, e
 		return nil, err
 	}
 	// Concept-major to word-major.
-	l.Start = make([]int32, W+1)
-	for k, s := range svms {
-		l.Bias[k] = float32(s.Bias)
-		for _, w := range s.Index {
-			l.Start[w+1]++
-		}
+	for k, sv := range svms {
+		l.Bias[k] = float32(sv.Bias)
 	}
-	for w := 0; w < W; w++ {
-		l.Start[w+1] += l.Start[w]
-	}
-	n := l.Start[W]
-	l.Concept = make([]int32, n)
-	l.Weight = make([]float32, n)
-	fill := slices.Clone(l.Start[:W])
-	for k, s := range svms { // k ascending: concepts come out sorted within a word
-		for j, w := range s.Index {
-			l.Concept[fill[w]] = int32(k)
-			l.Weight[fill[w]] = s.Weight[j]
-			fill[w]++
-		}
-	}
+	l.Start, l.Concept, l.Weight = byColumn(len(svms), W, func(k int) ([]int32, []float32) { return svms[k].Index, svms[k].Weight })
 	return l, nil
 }
 
@@ -286,32 +269,46 @@ func TrainWordLayer(c *Corpus, C int, opt WordLayerOptions) (*model.WordLayer, e
 // whole-text part) feature-major, records in order. The vote's weight is
 // left 0 (annotate.TuneWordLayer learns it).
 func neighbours(xs []linear.Vector, subjects [][]int32, parts, n int, power float64) *model.Neighbours {
-	nb := &model.Neighbours{N: n, Power: power, Start: make([]int32, parts+1), SubjectStart: make([]int32, 1, len(xs)+1)}
-	for _, x := range xs {
-		for _, f := range x.Index {
-			if int(f) < parts {
-				nb.Start[f+1]++
-			}
-		}
-	}
-	for f := 0; f < parts; f++ {
-		nb.Start[f+1] += nb.Start[f]
-	}
-	nb.Record = make([]int32, nb.Start[parts])
-	nb.Value = make([]float32, nb.Start[parts])
-	fill := slices.Clone(nb.Start[:parts])
-	for r, x := range xs { // r ascending: records come out sorted within a feature
-		for j, f := range x.Index {
-			if int(f) < parts {
-				nb.Record[fill[f]] = int32(r)
-				nb.Value[fill[f]] = x.Value[j]
-				fill[f]++
-			}
-		}
+	nb := &model.Neighbours{N: n, Power: power, SubjectStart: make([]int32, 1, len(xs)+1)}
+	nb.Start, nb.Record, nb.Value = byColumn(len(xs), parts, func(r int) ([]int32, []float32) { return xs[r].Index, xs[r].Value })
+	for r := range xs {
 		ks := slices.Clone(subjects[r])
 		slices.Sort(ks)
 		nb.Subject = append(nb.Subject, slices.Compact(ks)...)
 		nb.SubjectStart = append(nb.SubjectStart, int32(len(nb.Subject)))
 	}
 	return nb
+}
+
+// byColumn turns n sparse rows (row(i): column indices and values) into
+// column-major form over the columns below cols: start[c]..start[c+1]
+// index the rows holding column c, ascending, and their values. Columns
+// at or above cols are left out.
+func byColumn(n, cols int, row func(i int) ([]int32, []float32)) (start, rows []int32, vals []float32) {
+	start = make([]int32, cols+1)
+	for i := 0; i < n; i++ {
+		idx, _ := row(i)
+		for _, c := range idx {
+			if int(c) < cols {
+				start[c+1]++
+			}
+		}
+	}
+	for c := 0; c < cols; c++ {
+		start[c+1] += start[c]
+	}
+	rows = make([]int32, start[cols])
+	vals = make([]float32, start[cols])
+	fill := slices.Clone(start[:cols])
+	for i := 0; i < n; i++ { // i ascending: rows come out sorted within a column
+		idx, val := row(i)
+		for j, c := range idx {
+			if int(c) < cols {
+				rows[fill[c]] = int32(i)
+				vals[fill[c]] = val[j]
+				fill[c]++
+			}
+		}
+	}
+	return start, rows, vals
 }
