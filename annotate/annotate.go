@@ -713,11 +713,13 @@ type state struct {
 	wNb  model.NeighbourScratch
 
 	startW, startZ []float64
-	tl             []topicLocal // grouped with startExpected: per topic of bT
-	tk             []int32      // K: k's index in tl, valid while bh[k] > 0
-	e0k            []float64    // K: group's sums for E⁰_k, 0 between records
-	un, uo         []int32      // word type → list length, offset in bent
-	samples        int          // the sampling sweeps infer ran
+	// tl[k]: startExpected's data of topic k (K entries, made for the
+	// first grouped record without known subjects), set by group for the
+	// record's topics; e0k[k]: group's sum for E⁰_k, 0 between records.
+	tl      []topicLocal
+	e0k     []float64
+	un, uo  []int32 // word type → list length, offset in bent
+	samples int     // the sampling sweeps infer ran
 }
 
 func (a *Annotator) get() *state {
@@ -775,6 +777,7 @@ func (a *Annotator) put(st *state) {
 	if cap(st.toks) > 1<<16 || cap(st.bent) > 1<<20 || len(st.nz) > 1<<14 || cap(st.nzf) > 1<<20 || cap(st.startW) > 1<<20 {
 		// do not keep a huge record's buffers
 		st.toks, st.bent, st.nz, st.wacc, st.tu, st.z = nil, nil, nil, nil, nil, nil
+		st.bT = nil
 		st.nzf, st.waccf = nil, nil
 		st.startW, st.startZ, st.un, st.uo = nil, nil, nil, nil
 	}
@@ -852,13 +855,12 @@ type nzEntry struct {
 // next is the topic's next entry (-1: none).
 type bEntry struct {
 	u, k, next int32
-	t          int32 // grouped with startExpected: k's index in st.tl
 	s          float64
 }
 
-// topicLocal is startExpected's data of one topic in the record's word
-// lists, together on one cache line's half: α_k, φ⁰_k and the expected
-// counts of its two steps plus α_k.
+// topicLocal is startExpected's data of one topic, together on one cache
+// line's half: α_k, φ⁰_k and the expected counts of its two steps plus
+// α_k.
 type topicLocal struct {
 	alpha, phi0, e0, e1 float64
 }
@@ -973,8 +975,13 @@ func (a *Annotator) fillRow(st *state, k int32) {
 // group regroups the word lists of the record's word types by topic (one
 // linked list per topic, in one pass), so that a new slot finds the
 // record's words its topic holds without reading the topic's whole row.
+// T is the lists' total length. With exp it also adds up each word's own
+// expected counts n_u·α_k·s_kw/A_w per topic for startExpected: tl[k].e0
+// becomes α_k + E⁰_k, tl[k].e1 α_k (α_k, the same for all of a topic's
+// entries, multiplied in at the end).
 func (a *Annotator) group(st *state, T int, exp bool) {
 	bent := slices.Grow(st.bent[:0], T)[:T]
+	bT := slices.Grow(st.bT[:0], T)[:T] // room for every entry's topic
 	// Load each list's first entry up front: these loads do not depend on
 	// each other, so the memory system serves them together, where the
 	// loop below would wait for each list in turn.
@@ -985,69 +992,77 @@ func (a *Annotator) group(st *state, T int, exp bool) {
 		}
 	}
 	st.sink = sink
-	// Locals: stores into bent cannot then make the loop reload the
-	// state's slice headers.
-	bh, bT := st.bh, st.bT
-	i := int32(0)
-	if exp {
-		// The same, adding up each word's own expected counts
-		// n_u·α_k·s_kw/A_w (startExpected) per topic in e0k, indexed by
-		// k straight from the entry (not by its local index, which waits
-		// for bh and tk), with α_k, the same for all of a topic's
-		// entries, multiplied in at the end.
-		if len(st.tk) < a.K { // grouped records only: not for a row-mode state
-			st.tk = make([]int32, a.K)
+	if exp && len(st.tl) < a.K {
+		st.tl = make([]topicLocal, a.K)
+		for k := range st.tl {
+			st.tl[k].alpha, st.tl[k].phi0 = a.alpha[k], a.phi0[k]
 		}
-		tl, alpha, phi0, tk := st.tl[:0], a.alpha, a.phi0, st.tk
-		if len(st.e0k) < a.K {
-			st.e0k = make([]float64, a.K)
-		}
-		e0k := st.e0k
-		for u, w := range st.uw {
-			f := float64(st.ucnt[u]) / st.awu[u]
-			h := &a.wh[w]
-			lst := a.ent[h.lo:h.hi]
-			out := bent[i:][:len(lst)]
-			for j := range lst {
-				k, sk := lst[j].k, lst[j].s
-				e0k[k] += f * sk
-				h := bh[k]
-				if h == 0 {
-					bT = append(bT, k)
-					tk[k] = int32(len(tl))
-					ak := alpha[k]
-					tl = append(tl, topicLocal{alpha: ak, phi0: phi0[k], e1: ak})
-				}
-				b := &out[j]
-				b.u, b.k, b.next, b.t, b.s = int32(u), k, h-1, tk[k], sk
-				i++
-				bh[k] = i
-			}
-		}
-		for j, k := range bT { // E⁰_k = α_k·Σ_u f_u·s_kw, plus α_k
-			tl[j].e0 = tl[j].alpha * (1 + e0k[k])
-			e0k[k] = 0
-		}
-		st.bent, st.bT, st.tl = bent, bT, tl
-		return
+		st.e0k = make([]float64, a.K)
 	}
+	i, nb := 0, 0
 	for u, w := range st.uw {
 		h := &a.wh[w]
 		lst := a.ent[h.lo:h.hi]
-		out := bent[i:][:len(lst)]
-		for j := range lst {
-			k := lst[j].k
-			h := bh[k]
-			if h == 0 {
-				bT = append(bT, k)
-			}
-			b := &out[j]
-			b.u, b.k, b.next, b.s = int32(u), k, h-1, lst[j].s
-			i++
-			bh[k] = i
+		out := bent[i : i+len(lst)]
+		if exp {
+			nb = groupOwn(lst, out, st.e0k, st.bh, bT, nb, int32(i), int32(u), float64(st.ucnt[u])/st.awu[u])
+		} else {
+			nb = groupList(lst, out, st.bh, bT, nb, int32(i), int32(u))
+		}
+		i += len(lst)
+	}
+	bT = bT[:nb]
+	if exp {
+		tl, e0k := st.tl, st.e0k
+		for _, k := range bT { // E⁰_k = α_k·Σ_u f_u·s_kw, plus α_k
+			t := &tl[k]
+			t.e0 = t.alpha * (1 + e0k[k])
+			t.e1 = t.alpha
+			e0k[k] = 0
 		}
 	}
 	st.bent, st.bT = bent, bT
+}
+
+// groupList links word type u's entries es into the topics' lists: out
+// (bent from index i on) gets them, each pointing to its topic's previous
+// entry, bh[k] to the last; a topic not seen before (bh[k] = 0) is
+// appended to bT[:nb], which must have room. Returns the new nb. A leaf,
+// so that the loop keeps its variables in registers; no branch on the
+// data (about one entry in five is a new topic).
+//
+//go:noinline
+func groupList(es []wEntry, out []bEntry, bh, bT []int32, nb int, i, u int32) int {
+	out = out[:len(es)]
+	for j := range es {
+		k := es[j].k
+		h := bh[k]
+		bT[nb] = k
+		nb += int(uint32(h-1) >> 31) // 1 when h = 0
+		out[j] = bEntry{u: u, k: k, next: h - 1, s: es[j].s}
+		i++
+		bh[k] = i
+	}
+	return nb
+}
+
+// groupOwn is groupList that also adds f·s_kw to e0k[k] (f = n_u/A_w:
+// E⁰'s sum without α_k).
+//
+//go:noinline
+func groupOwn(es []wEntry, out []bEntry, e0k []float64, bh, bT []int32, nb int, i, u int32, f float64) int {
+	out = out[:len(es)]
+	for j := range es {
+		k, sk := es[j].k, es[j].s
+		e0k[k] += f * sk
+		h := bh[k]
+		bT[nb] = k
+		nb += int(uint32(h-1) >> 31) // 1 when h = 0
+		out[j] = bEntry{u: u, k: k, next: h - 1, s: sk}
+		i++
+		bh[k] = i
+	}
+	return nb
 }
 
 // infer runs the sampler over toks and fills res.
@@ -2083,7 +2098,7 @@ func (a *Annotator) words(res *Result, text string, toks []terms.Token, st *stat
 // topic counts (grouped mode, no known subjects; see Start in the package
 // comment). group has put E⁰_k = Σ_u n_u·α_k·s_kw/A_w, the record's
 // expected tokens per topic from each word's own posterior (its list
-// part), in st.tl. Each step is one pass over the record's entries.
+// part), in st.tl[k].e0. Each step is one pass over the record's entries.
 func (a *Annotator) startExpected(st *state, rng *splitMix) {
 	T, U := len(st.bent), len(st.uw)
 	if cap(st.startW) < T {
@@ -2108,7 +2123,7 @@ func (a *Annotator) startExpected(st *state, rng *splitMix) {
 		gs := g[o : o+n]
 		for j := range es {
 			e := &es[j]
-			t := &tl[e.t]
+			t := &tl[e.k]
 			v := (t.e0 - t.alpha*e.s*inv) * (t.phi0 + e.s)
 			if v < 0 {
 				v = 0
@@ -2119,7 +2134,7 @@ func (a *Annotator) startExpected(st *state, rng *splitMix) {
 		Z[u] = z
 		f := float64(st.ucnt[u]) / z
 		for j := range es {
-			tl[es[j].t].e1 += f * gs[j]
+			tl[es[j].k].e1 += f * gs[j]
 		}
 		o += n
 	}
@@ -2133,7 +2148,7 @@ func (a *Annotator) startExpected(st *state, rng *splitMix) {
 		gs := g[o : o+n]
 		for j := range es {
 			e := &es[j]
-			t := &tl[e.t]
+			t := &tl[e.k]
 			v := (t.e1 - gs[j]*inv) * (t.phi0 + e.s)
 			if v > 0 {
 				c += v

@@ -1125,7 +1125,7 @@ func TestStartExpected(t *testing.T) {
 		}
 	}
 	for _, k := range st.bT {
-		if got := st.tl[st.tk[k]].e0 - m.Alpha[k]; math.Abs(got-e0[k]) > 1e-12*(e0[k]+m.Alpha[k]) { // e0 holds α_k + E⁰_k
+		if got := st.tl[k].e0 - m.Alpha[k]; math.Abs(got-e0[k]) > 1e-12*(e0[k]+m.Alpha[k]) { // e0 holds α_k + E⁰_k
 			t.Errorf("E⁰ of topic %d: %v, want %v", k, got, e0[k])
 		}
 	}
@@ -1256,5 +1256,78 @@ func TestWordHeads(t *testing.T) {
 	}
 	if mixed == 0 {
 		t.Error("no word is held by both concepts and free topics: the split was not tried")
+	}
+}
+
+// TestGroupLists: group's linked lists hold, for every topic, exactly the
+// record's word types whose s_kw > 0 (from the model's φ, not the word
+// lists), each once with its s_kw; bT lists each such topic once, in the
+// order the words' lists first meet it; E⁰ is summed for the start only.
+// With and without the start, on records with repeated words. Common
+// practice, no source.
+func TestGroupLists(t *testing.T) {
+	m := modeltest.Synthetic(modeltest.Options{Concepts: 40, Free: 5, Words: 300, WordsPerConcept: 12, Seed: 31})
+	a, err := New(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := rand.New(rand.NewPCG(32, 33))
+	for trial := 0; trial < 40; trial++ {
+		ids := make([]int32, 1+r.IntN(60))
+		for i := range ids {
+			ids[i] = int32(r.IntN(80))
+		}
+		_, toks := tokens(ids, m.Words)
+		st := a.get()
+		opt := Options{}
+		if trial%2 == 1 { // known subjects: the own-posterior start, no E⁰
+			opt.Subjects = []string{m.Scheme.Concepts[trial%40].IRI}
+			opt.SubjectMode = Boost
+		}
+		if _, err := a.infer(&Result{}, "", toks, opt, st); err != nil {
+			t.Fatal(err)
+		}
+		if st.rows {
+			t.Fatal("want the grouped path")
+		}
+		var order []int32 // topics as the words' lists first meet them
+		seen := map[int32]bool{}
+		for _, w := range st.uw {
+			for k := 0; k < a.K; k++ {
+				if m.Phi(k, int(w))-a.phi0[k] > 1e-15 && !seen[int32(k)] {
+					seen[int32(k)] = true
+					order = append(order, int32(k))
+				}
+			}
+		}
+		if !slices.Equal(st.bT, order) {
+			t.Fatalf("trial %d: bT %v, want %v", trial, st.bT, order)
+		}
+		for k := int32(0); k < int32(a.K); k++ {
+			got := map[int32]float64{}
+			for i := st.bh[k] - 1; i >= 0; i = st.bent[i].next {
+				e := st.bent[i]
+				if e.k != k {
+					t.Fatalf("trial %d: topic %d's list holds an entry of topic %d", trial, k, e.k)
+				}
+				if _, dup := got[e.u]; dup {
+					t.Fatalf("trial %d: topic %d lists word type %d twice", trial, k, e.u)
+				}
+				got[e.u] = e.s
+			}
+			for u, w := range st.uw {
+				want := m.Phi(int(k), int(w)) - a.phi0[k]
+				s, ok := got[int32(u)]
+				if want > 1e-15 != ok || (ok && math.Abs(s-want) > 1e-12*want) {
+					t.Fatalf("trial %d: topic %d word type %d: listed %v with %v, want s_kw %v", trial, k, u, ok, s, want)
+				}
+			}
+		}
+		for k, v := range st.e0k {
+			if v != 0 {
+				t.Fatalf("trial %d: e0k[%d] = %v left after the record", trial, k, v)
+			}
+		}
+		a.put(st)
 	}
 }
