@@ -805,10 +805,19 @@ func (a *Annotator) slotOf(st *state, k int32) int32 {
 // link adds slot s (topic k) to the lists nz of the record's word types
 // that topic k holds.
 func (a *Annotator) link(st *state, s, k int32) {
-	for i := a.first(st, k); i >= 0; {
-		e := &st.bent[i]
-		st.nz[e.u] = append(st.nz[e.u], nzEntry{s, e.s})
-		st.wacc[e.u] = append(st.wacc[e.u], 0)
+	linkList(st.bent, a.first(st, k), s, st.nz, st.wacc)
+}
+
+// linkList appends slot s to nz[u] (and a 0 to wacc[u]) for the entries
+// of one topic's list in bent, from index i on. A leaf, so that the loop
+// keeps its variables in registers.
+//
+//go:noinline
+func linkList(bent []bEntry, i, s int32, nz [][]nzEntry, wacc [][]float64) {
+	for i >= 0 {
+		e := &bent[i]
+		nz[e.u] = append(nz[e.u], nzEntry{s, e.s})
+		wacc[e.u] = append(wacc[e.u], 0)
 		i = e.next
 	}
 }
