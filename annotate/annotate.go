@@ -75,19 +75,16 @@
 // texts are limited by Options.MaxBytes (default 1 MiB).
 //
 // The random seed is a hash of the model's checksum, the text and the
-// options, so the same model and text always give the same result, whatever
-// runs beside them.
+// options (recordSeed), so the same model and text always give the same
+// result, whatever runs beside them.
 package annotate
 
 import (
-	"crypto/sha256"
-	"encoding/binary"
 	"errors"
 	"fmt"
 	"math"
 	"slices"
 	"sort"
-	"strconv"
 	"strings"
 	"sync"
 
@@ -153,7 +150,7 @@ const (
 // With the default 20 free topics 0.3 is best on both.
 const relatedWeight = 0.3
 
-// seedSalt, when not 0, is hashed into every record's seed: tests set it
+// seedSalt is hashed into every record's seed: tests set it
 // to run other chains on the same texts (TestSweepsQuality's spread).
 var seedSalt uint64
 
@@ -253,7 +250,7 @@ type Annotator struct {
 	m                   *model.Model
 	an                  *terms.Analyzer
 	langs               map[string]bool // the model's languages, lower-case, with their base tags
-	seed                [32]byte
+	seedKey             [2]uint64       // recordSeed's, from the model's checksum
 	K, C                int
 	alpha               []float64
 	phi0                []float64 // φ⁰_k
@@ -320,7 +317,7 @@ func New(m *model.Model) (*Annotator, error) {
 		return nil, fmt.Errorf("annotate: %w", err)
 	}
 	K, C, W := m.K(), m.C, len(m.Words)
-	a := &Annotator{m: m, an: an, seed: sum, K: K, C: C, alpha: m.Alpha,
+	a := &Annotator{m: m, an: an, seedKey: seedKey(sum), K: K, C: C, alpha: m.Alpha,
 		phi0: make([]float64, K), invDen: make([]float64, K), langs: map[string]bool{}, maxList: defaultMaxList}
 	for _, l := range m.Analyzer.Languages {
 		l = strings.ToLower(l)
@@ -690,17 +687,16 @@ type state struct {
 	pvGen  uint32
 	zs     []scored
 
-	uw      []int32   // word type u → word id
-	ucnt    []int32   // occurrences of u
-	cacc    []float64 // u → Σ A_w/Z
-	awu     []float64 // u → A_w
-	tu      []int32   // token → u
-	z       []int32   // token → topic
-	uOf     []int32   // W: word id → word type, -1 when not in the record
-	buf     []float64
-	cum     []float64 // draw's running sums of buf
-	seedBuf []byte    // the bytes the record's seed hashes
-	allow   bool      // restricted: no α·φ part
+	uw    []int32   // word type u → word id
+	ucnt  []int32   // occurrences of u
+	cacc  []float64 // u → Σ A_w/Z
+	awu   []float64 // u → A_w
+	tu    []int32   // token → u
+	z     []int32   // token → topic
+	uOf   []int32   // W: word id → word type, -1 when not in the record
+	buf   []float64
+	cum   []float64 // draw's running sums of buf
+	allow bool      // restricted: no α·φ part
 
 	// Word layer scratch (wordlayer.go): the record's vector and the
 	// concepts' decision values.
@@ -1177,31 +1173,7 @@ func (a *Annotator) infer(res *Result, text string, toks []terms.Token, opt Opti
 		return res, nil
 	}
 
-	// Seed: model checksum, text, and the options that change sampling,
-	// gathered in a buffer the state keeps (the bytes fmt.Fprintf of
-	// "\x00%d\x00%v\x00%d\x00%d" wrote before, without its allocations).
-	b := append(st.seedBuf[:0], a.seed[:]...)
-	b = binary.LittleEndian.AppendUint64(b, uint64(len(text)))
-	b = append(b, text...)
-	b = append(b, 0)
-	b = strconv.AppendInt(b, int64(opt.SubjectMode), 10)
-	b = append(b, 0)
-	b = strconv.AppendFloat(b, opt.BoostFactor, 'g', -1, 64)
-	b = append(b, 0)
-	b = strconv.AppendInt(b, int64(opt.BurnIn), 10)
-	b = append(b, 0)
-	b = strconv.AppendInt(b, int64(opt.Samples), 10)
-	for _, k := range subj {
-		b = binary.LittleEndian.AppendUint32(b, uint32(k))
-	}
-	if seedSalt != 0 {
-		b = binary.LittleEndian.AppendUint64(b, seedSalt)
-	}
-	seed := sha256.Sum256(b)
-	if cap(b) <= 1<<16 {
-		st.seedBuf = b
-	}
-	rng := &splitMix{binary.LittleEndian.Uint64(seed[:8])}
+	rng := &splitMix{a.recordSeed(text, opt, subj)}
 
 	burn, samples := opt.BurnIn, opt.Samples
 	switch {
