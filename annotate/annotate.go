@@ -707,6 +707,8 @@ type state struct {
 	wd   []float64
 	wK   []float64 // the neighbour vote K_k
 	wNb  model.NeighbourScratch
+	wG   []float64 // the network's log-probabilities g_k
+	wNet model.NetScratch
 
 	startW, startZ []float64
 	// tl[k]: startExpected's data of topic k (K entries, made for the

@@ -20,10 +20,12 @@ import (
 // concepts (macro F1@5 0.30 against 0.22). A calibrated model with a word
 // layer ranks by
 //
-//	v_k = d_k + b·K_k + a·z_k − τ·ln(1 + n_k)
+//	v_k = d_k + b·K_k + c·g_k + a·z_k − τ·ln(1 + n_k)
 //
 // d_k the SVM's decision value, K_k the vote of the record's most similar
-// training records (model.Neighbours; b = 0 without one), z_k the
+// training records (model.Neighbours; b = 0 without one), g_k the
+// log-probability of k under the layer's network (model.WordNet; c = 0
+// without one), z_k the
 // calibrated topic log-odds (calibrate.go), n_k the records people
 // indexed with k, and reports σ(g·v_k + h). b, a, τ (TuneWordLayer) and
 // (g, h) are learned on records people indexed; τ > 0 lowers the concepts
@@ -53,6 +55,16 @@ func (a *Annotator) wordScores(st *state, text string, toks []terms.Token, score
 		nb.Vote(st.wIdx, st.wVal, len(a.m.Words)+l.Bigrams, &st.wNb, kv)
 		for k, v := range kv {
 			d[k] += nb.Weight * v
+		}
+	}
+	if net := l.Net; net != nil && net.Weight != 0 {
+		if len(st.wG) < a.C {
+			st.wG = make([]float64, a.C)
+		}
+		g := st.wG[:a.C]
+		net.LogProb(st.wIdx, st.wVal, &st.wNet, g)
+		for k, v := range g {
+			d[k] += net.Weight * v
 		}
 	}
 	cand := st.cand[:0]
@@ -86,13 +98,16 @@ type TuneOptions struct {
 	At int
 }
 
-// Grids TuneWordLayer searches: b (neighbour vote weight), a (topic
+// Grids TuneWordLayer searches: b (neighbour vote weight), c (network
+// weight), a (topic
 // weight), τ (frequency weight) and the share floor (0: none). A share of
 // 1e-4 is about one token of a 50-token record in one of 200 fold-in
 // samples. The vote's best weights on a validation slice of debtags' train
-// split were 0.2–0.8 (bench/quality.md, sixth round).
+// split were 0.2–0.8 (bench/quality.md, sixth round), the network's
+// 0.02–0.05 (seventh round).
 var (
 	tuneVote  = []float64{0, 0.15, 0.3, 0.5, 0.8}
+	tuneNet   = []float64{0, 0.02, 0.05, 0.1, 0.2}
 	tuneTopic = []float64{0, 0.02, 0.05, 0.1, 0.15, 0.2, 0.3, 0.4, 0.6, 0.8}
 	tuneFreq  = []float64{0, 0.02, 0.04, 0.06, 0.08, 0.1, 0.12, 0.16}
 	tuneFloor = []float64{0, 1e-4, 1e-3, 1e-2, 3e-2}
@@ -102,13 +117,14 @@ var (
 // calibrated topic scores: the weights a and τ and the share floor that
 // maximise micro plus macro F1@At over texts people indexed (DESIGN.md's
 // definitions, macro over the concepts the texts carry), with the
-// neighbour vote's weight b when both layers have a vote, then the scale
-// (g, h) by logistic regression of "k is a subject" on v_k. held is a
-// layer trained without the texts, whose decision values and vote the
-// texts' are (a layer scores its own training texts too well, and finds
-// them among its neighbours); m.WordLayer receives the weights, and loses
-// its vote when b = 0 is chosen. m must be calibrated (m.Calibration,
-// learned from raw scores).
+// neighbour vote's weight b when both layers have a vote and the
+// network's weight c when both have a network, then the scale (g, h) by
+// logistic regression of "k is a subject" on v_k. held is a layer trained
+// without the texts, whose decision values, vote and network the texts'
+// are (a layer scores its own training texts too well, and finds them
+// among its neighbours); m.WordLayer receives the weights, and loses its
+// vote when b = 0 is chosen and its network when c = 0 is. m must be
+// calibrated (m.Calibration, learned from raw scores).
 func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, opt TuneOptions) error {
 	if m.Calibration == nil || m.WordLayer == nil || held == nil {
 		return errors.New("annotate: tuning the word layer needs a calibrated model and two layers")
@@ -128,11 +144,15 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 	// z[i*C+k] calibrated topic log-odds (NaN: not ranked), d the held-out
 	// layer's decision values, kv its neighbour votes, y the subjects.
 	vote := m.WordLayer.KNN != nil && held.KNN != nil
+	net := m.WordLayer.Net != nil && held.Net != nil
 	x := make([]float64, len(texts)*C)
 	d := make([]float64, len(texts)*C)
-	var kv []float64
+	var kv, gv []float64
 	if vote {
 		kv = make([]float64, len(texts)*C)
+	}
+	if net {
+		gv = make([]float64, len(texts)*C)
 	}
 	y := make([]bool, len(texts)*C)
 	use := make([]bool, len(texts))
@@ -143,6 +163,7 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 		var val []float32
 		var sc model.VectorScratch
 		var nsc model.NeighbourScratch
+		var gsc model.NetScratch
 		return func(i int) {
 			t := &texts[i]
 			errs[i] = a.rawScores(t, opt.CalibrateOptions, x[i*C:(i+1)*C], y[i*C:(i+1)*C], &use[i])
@@ -156,6 +177,9 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 			held.Decision(ids, val, d[i*C:(i+1)*C])
 			if vote {
 				held.KNN.Vote(ids, val, len(m.Words)+held.Bigrams, &nsc, kv[i*C:(i+1)*C])
+			}
+			if net {
+				held.Net.LogProb(ids, val, &gsc, gv[i*C:(i+1)*C])
 			}
 		}
 	})
@@ -186,21 +210,27 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 		}
 	}
 	l := m.WordLayer
-	value := func(i, k int, tb, ta, tf float64) float64 {
+	value := func(i, k int, tb, tc, ta, tf float64) float64 {
 		v := d[i*C+k] - tf*float64(l.LnFreq[k])
 		if tb != 0 {
 			v += tb * kv[i*C+k]
+		}
+		if tc != 0 {
+			v += tc * gv[i*C+k]
 		}
 		if ta != 0 {
 			v += ta * z[i*C+k]
 		}
 		return v
 	}
-	votes := tuneVote
+	votes, nets := tuneVote, tuneNet
 	if !vote {
 		votes = []float64{0}
 	}
-	best, bestB, bestA, bestF, bestFloor := math.Inf(-1), 0.0, 0.0, 0.0, 0.0
+	if !net {
+		nets = []float64{0}
+	}
+	best, bestB, bestC, bestA, bestF, bestFloor := math.Inf(-1), 0.0, 0.0, 0.0, 0.0, 0.0
 	for _, floor := range tuneFloor {
 		setFloor(floor)
 		for _, ta := range tuneTopic {
@@ -208,10 +238,12 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 				continue // the floor only acts through a
 			}
 			for _, tb := range votes {
-				for _, tf := range tuneFreq {
-					f := f1At(rows, C, opt.At, y, func(i, k int) float64 { return value(i, k, tb, ta, tf) })
-					if f > best+1e-12 {
-						best, bestB, bestA, bestF, bestFloor = f, tb, ta, tf, floor
+				for _, tc := range nets {
+					for _, tf := range tuneFreq {
+						f := f1At(rows, C, opt.At, y, func(i, k int) float64 { return value(i, k, tb, tc, ta, tf) })
+						if f > best+1e-12 {
+							best, bestB, bestC, bestA, bestF, bestFloor = f, tb, tc, ta, tf, floor
+						}
 					}
 				}
 			}
@@ -221,7 +253,7 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 	var p pairs
 	for _, i := range rows {
 		for k := 0; k < C; k++ {
-			if v := value(i, k, bestB, bestA, bestF); !math.IsInf(v, 0) {
+			if v := value(i, k, bestB, bestC, bestA, bestF); !math.IsInf(v, 0) {
 				p.add(v, y[i*C+k])
 			}
 		}
@@ -231,6 +263,12 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 		l.KNN.Weight = bestB
 		if bestB == 0 {
 			l.KNN = nil // no weight: the file need not carry the vote
+		}
+	}
+	if l.Net != nil {
+		l.Net.Weight = bestC
+		if bestC == 0 {
+			l.Net = nil
 		}
 	}
 	l.Version = model.WordLayerVersion

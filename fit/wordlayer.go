@@ -51,6 +51,9 @@ type WordLayerOptions struct {
 	// NeighbourPower is the power similarities are raised to in the vote
 	// (default DefaultWordNeighbourPower).
 	NeighbourPower float64
+	// Net is the network's training (model.WordNet; its Seed is replaced
+	// by Seed); Net.Hidden < 0: no network.
+	Net WordNetOptions
 }
 
 // DefaultWordNeighbourPower: votes weigh by squared cosine. On a validation
@@ -117,8 +120,9 @@ var ErrNoIndexed = errors.New("no record people indexed has words to train the w
 
 // TrainWordLayer trains the discriminative word layer (model.WordLayer) on
 // the corpus records that have subjects: one linear SVM per concept
-// (linear.OneVsRest) over the records' TF-IDF vectors. The combination
-// weights are left zero (annotate.TuneWordLayer learns them). C is the
+// (linear.OneVsRest) over the records' TF-IDF vectors, and unless
+// opt.Net.Hidden < 0 a network over the same vectors (TrainWordNet). The
+// combination weights are left zero (annotate.TuneWordLayer learns them). C is the
 // number of concepts.
 func TrainWordLayer(c *Corpus, C int, opt WordLayerOptions) (*model.WordLayer, error) {
 	if opt.C == 0 {
@@ -251,10 +255,31 @@ func TrainWordLayer(c *Corpus, C int, opt WordLayerOptions) (*model.WordLayer, e
 			l.Labels++
 		}
 	}
+	// The network learns from the same vectors, records and weights as
+	// the SVMs; with more than one worker, beside them.
+	var netErr error
+	netDone := make(chan struct{})
+	trainNet := func() {
+		defer close(netDone)
+		if opt.Net.Hidden >= 0 {
+			no := opt.Net
+			no.Seed = opt.Seed
+			l.Net, netErr = TrainWordNet(xs, labels, weight, C, W, no)
+		}
+	}
+	if opt.Workers > 1 {
+		go trainNet()
+	} else {
+		trainNet()
+	}
 	svms, err := linear.OneVsRest(xs, labels, C, W, linear.OneVsRestOptions{
 		SVM: linear.SVMOptions{C: opt.C, Seed: opt.Seed, Weight: weight}, LabelC: labelC, Prune: opt.Prune, Workers: opt.Workers})
+	<-netDone
 	if err != nil {
 		return nil, err
+	}
+	if netErr != nil {
+		return nil, netErr
 	}
 	// Concept-major to word-major.
 	for k, sv := range svms {

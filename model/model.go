@@ -157,9 +157,10 @@ func (c *Calibration) Apply(k int, s float64) float64 {
 }
 
 // WordLayerVersion is the WordLayer layout this build writes; it reads
-// this one, version 3 (before KNN: nil), version 2 (before ShareFloor: 0)
-// and version 1 (before lead features: Lead 0).
-const WordLayerVersion = 4
+// this one, version 4 (before Net: nil), version 3 (before KNN: nil),
+// version 2 (before ShareFloor: 0) and version 1 (before lead features:
+// Lead 0).
+const WordLayerVersion = 5
 
 // WordLayer is a per-concept linear model over a record's words (a
 // one-vs-rest linear SVM, linear.OneVsRest, trained on the records people
@@ -192,6 +193,8 @@ const WordLayerVersion = 4
 //
 // With KNN (version 4) annotation also adds KNN.Weight·K_k to d_k, K_k
 // the vote of the record's most similar training records (Neighbours).
+// With Net (version 5) it adds Net.Weight·g_k, g_k the log-probability of
+// k under a one-hidden-layer network over the same vector (WordNet).
 type WordLayer struct {
 	Version int
 	Bigrams int       // bigram buckets (0: words only)
@@ -227,6 +230,10 @@ type WordLayer struct {
 	// KNN, when set, is the nearest-neighbour vote (nil in files before
 	// version 4, and when tuning gave it no weight).
 	KNN *Neighbours
+	// Net, when set, is the network whose log-probabilities join the
+	// decision values (nil in files before version 5, and when tuning
+	// gave it no weight).
+	Net *WordNet
 }
 
 // ConceptWeight is a concept index with a weight.
@@ -1061,12 +1068,23 @@ func (l *WordLayer) validate(C, W int) error {
 	if l.Bigrams < 0 || l.Bigrams > 1<<26 {
 		return fmt.Errorf("%d bigram buckets", l.Bigrams)
 	}
+	if l.Version < 1 || l.Version > WordLayerVersion {
+		return fmt.Errorf("%w: word layer version %d, this build reads 1 to %d", ErrVersion, l.Version, WordLayerVersion)
+	}
 	if l.KNN != nil {
 		if l.Version < 4 {
 			return fmt.Errorf("version %d layer with a neighbour vote", l.Version)
 		}
 		if err := l.KNN.validate(C, W+l.Bigrams); err != nil {
 			return fmt.Errorf("neighbour vote: %w", err)
+		}
+	}
+	if l.Net != nil {
+		if l.Version < 5 {
+			return fmt.Errorf("version %d layer with a network", l.Version)
+		}
+		if err := l.Net.validate(C, l.Dim(W)); err != nil {
+			return fmt.Errorf("word network: %w", err)
 		}
 	}
 	W = l.Dim(W)

@@ -58,6 +58,7 @@ type fitFlags struct {
 	calibrate         int
 	wordLayer         bool
 	wordNeighbours    int
+	wordNet           int
 	wordLead          float64
 	wordLabels        float64
 	wordCRecords      int
@@ -89,6 +90,7 @@ func cmdFit(args []string) int {
 	fl.BoolVar(&f.wordLayer, "word-layer", true, "with --calibrate, also train the discriminative word layer (a linear SVM per concept over the records' words) on the records people indexed, and learn how it combines with the topic scores")
 	fl.Float64Var(&f.wordLead, "word-lead", fit.DefaultWordLead, "weight of the word layer's second part over the words of a record's first field (the title; 0 = none)")
 	fl.IntVar(&f.wordCRecords, "word-c-records", fit.DefaultWordCRecords, "the word layer's SVM of a concept people indexed N > this many records with learns with C·√(this/N), more regularised (0 = the same C for all)")
+	fl.IntVar(&f.wordNet, "word-net", fit.DefaultWordNetHidden, "with the word layer, the hidden units of a network over the same words whose log-probabilities join the SVMs' decision values with a weight fit tunes (0 = no network)")
 	fl.IntVar(&f.wordNeighbours, "word-neighbours", 0, "with the word layer, how many of a record's most similar training records vote for their concepts, a vote whose weight fit tunes; the model then keeps the records' vectors (0 = no vote; 30 measured on debtags: no gain, annotation about 3.5 times slower)")
 	fl.Float64Var(&f.wordLabels, "word-labels", fit.DefaultWordLabelWeight, "how many records' worth the word layer learns each concept's labels as, one record of the concept (0 = none)")
 	fl.StringVar(&f.groupField, "group-field", "", "records `FIELD` whose equal values form a group: --holdout keeps groups out whole, and the word layer is tuned against a layer trained without the tuning records' groups (e.g. debtags' source_package, as its own train/test split)")
@@ -138,6 +140,7 @@ func cmdFit(args []string) int {
 		{f.wordLabels >= 0 && f.wordLabels <= 1000, "--word-labels", "between 0 and 1000", f.wordLabels},
 		{f.wordCRecords >= 0, "--word-c-records", "0 or more", f.wordCRecords},
 		{f.wordNeighbours >= 0 && f.wordNeighbours <= 10000, "--word-neighbours", "between 0 and 10000", f.wordNeighbours},
+		{f.wordNet >= 0 && f.wordNet <= 4096, "--word-net", "between 0 and 4096", f.wordNet},
 	} {
 		if !c.ok {
 			fmt.Fprintf(os.Stderr, "termgrove fit: %s %v: expected %s\n", c.flag, c.got, c.want)
@@ -608,6 +611,10 @@ func trainWordLayer(m *model.Model, corpus *fit.Corpus, calib *calibSample, f *f
 		opt.CRecords = -1 // one C
 	}
 	opt.Neighbours = f.wordNeighbours
+	opt.Net.Hidden = f.wordNet
+	if f.wordNet == 0 {
+		opt.Net.Hidden = -1 // none
+	}
 	full, err := fit.TrainWordLayer(corpus, m.C, opt)
 	if errors.Is(err, fit.ErrNoIndexed) {
 		warnf("%v: no word layer", err)
@@ -637,11 +644,14 @@ func trainWordLayer(m *model.Model, corpus *fit.Corpus, calib *calibSample, f *f
 		m.WordLayer = nil
 		return err
 	}
-	vote := 0.0
+	vote, netW := 0.0, 0.0
 	if full.KNN != nil {
 		vote = full.KNN.Weight
 	}
-	logf("word layer: %d records and %d concepts' labels (weight %g), %d weights, lead weight %g; neighbour vote weight %g, topic weight %g, frequency weight %g, share floor %g, tuned on %d records (micro + macro F1@5 %.3f; %.1f s)",
-		full.Records, full.Labels, full.LabelWeight, len(full.Weight), full.Lead, vote, full.TopicWeight, full.FreqWeight, full.ShareFloor, full.Tuned, full.TunedF1, time.Since(start).Seconds())
+	if full.Net != nil {
+		netW = full.Net.Weight
+	}
+	logf("word layer: %d records and %d concepts' labels (weight %g), %d weights, lead weight %g; neighbour vote weight %g, network weight %g, topic weight %g, frequency weight %g, share floor %g, tuned on %d records (micro + macro F1@5 %.3f; %.1f s)",
+		full.Records, full.Labels, full.LabelWeight, len(full.Weight), full.Lead, vote, netW, full.TopicWeight, full.FreqWeight, full.ShareFloor, full.Tuned, full.TunedF1, time.Since(start).Seconds())
 	return nil
 }
