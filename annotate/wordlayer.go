@@ -96,6 +96,33 @@ type TuneOptions struct {
 	// At is the cut-off whose micro plus macro F1 the weights maximise
 	// (default 5, the cut-off of issue 7's targets).
 	At int
+	// MacroFloor, when above 0, changes what the weights maximise: micro
+	// F1@At among the weights whose macro F1@At reaches MacroFloor, for a
+	// library that states how well rare concepts must at least do and
+	// wants the most right suggestions beyond that. When no weights reach
+	// it, micro plus macro as without it.
+	MacroFloor float64
+}
+
+// tunePoint is one setting's micro and macro F1@At on the tuning texts.
+type tunePoint struct{ micro, macro float64 }
+
+// better reports whether p beats q under floor (see
+// TuneOptions.MacroFloor); equal within 1e-12 is not better, so the
+// first of equal settings in grid order is kept.
+func (p tunePoint) better(q tunePoint, floor float64) bool {
+	if floor > 0 {
+		pin, qin := p.macro >= floor, q.macro >= floor
+		switch {
+		case pin && !qin:
+			return true
+		case qin && !pin:
+			return false
+		case pin && qin:
+			return p.micro > q.micro+1e-12
+		}
+	}
+	return p.micro+p.macro > q.micro+q.macro+1e-12
 }
 
 // Grids TuneWordLayer searches: b (neighbour vote weight), c (network
@@ -116,7 +143,8 @@ var (
 // TuneWordLayer learns how annotation combines m.WordLayer with the
 // calibrated topic scores: the weights a and τ and the share floor that
 // maximise micro plus macro F1@At over texts people indexed (DESIGN.md's
-// definitions, macro over the concepts the texts carry), with the
+// definitions, macro over the concepts the texts carry; or micro F1@At
+// with macro at least opt.MacroFloor), with the
 // neighbour vote's weight b when both layers have a vote and the
 // network's weight c when both have a network, then the scale (g, h) by
 // logistic regression of "k is a subject" on v_k. held is a layer trained
@@ -131,6 +159,9 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 	}
 	if opt.At <= 0 {
 		opt.At = 5
+	}
+	if !(opt.MacroFloor >= 0 && opt.MacroFloor <= 1) {
+		return fmt.Errorf("annotate: macro F1 floor %v: expected a value from 0 to 1", opt.MacroFloor)
 	}
 	opt.setDefaults()
 	raw := *m
@@ -230,7 +261,8 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 	if !net {
 		nets = []float64{0}
 	}
-	best, bestB, bestC, bestA, bestF, bestFloor := math.Inf(-1), 0.0, 0.0, 0.0, 0.0, 0.0
+	best := tunePoint{math.Inf(-1), math.Inf(-1)}
+	bestB, bestC, bestA, bestF, bestFloor := 0.0, 0.0, 0.0, 0.0, 0.0
 	for _, floor := range tuneFloor {
 		setFloor(floor)
 		for _, ta := range tuneTopic {
@@ -240,8 +272,9 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 			for _, tb := range votes {
 				for _, tc := range nets {
 					for _, tf := range tuneFreq {
-						f := f1At(rows, C, opt.At, y, func(i, k int) float64 { return value(i, k, tb, tc, ta, tf) })
-						if f > best+1e-12 {
+						var f tunePoint
+						f.micro, f.macro = f1At(rows, C, opt.At, y, func(i, k int) float64 { return value(i, k, tb, tc, ta, tf) })
+						if f.better(best, opt.MacroFloor) {
 							best, bestB, bestC, bestA, bestF, bestFloor = f, tb, tc, ta, tf, floor
 						}
 					}
@@ -273,7 +306,8 @@ func TuneWordLayer(m *model.Model, held *model.WordLayer, texts []LabeledText, o
 	}
 	l.Version = model.WordLayerVersion
 	l.ScaleA, l.ScaleB = p.fit(0, 1, 0)
-	l.Tuned, l.TunedF1 = len(rows), best
+	l.Tuned, l.TunedF1 = len(rows), best.micro+best.macro
+	l.TunedMicro, l.TunedMacro, l.TunedMacroFloor = best.micro, best.macro, opt.MacroFloor
 	return nil
 }
 
@@ -304,9 +338,9 @@ func (a *Annotator) analyze(text, lang string, dst []terms.Token) []terms.Token 
 	return dst
 }
 
-// f1At is micro plus macro F1@at (DESIGN.md "Scoring definitions", macro
+// f1At is micro and macro F1@at (DESIGN.md "Scoring definitions", macro
 // over the concepts some row carries) of ranking each row's concepts by v.
-func f1At(rows []int, C, at int, y []bool, v func(i, k int) float64) float64 {
+func f1At(rows []int, C, at int, y []bool, v func(i, k int) float64) (micro, macro float64) {
 	tp := make([]int, C)
 	pp := make([]int, C)
 	gp := make([]int, C)
@@ -340,11 +374,9 @@ func f1At(rows []int, C, at int, y []bool, v func(i, k int) float64) float64 {
 	if gold > 0 {
 		R = float64(tpAll) / float64(gold)
 	}
-	micro := 0.0
 	if P+R > 0 {
 		micro = 2 * P * R / (P + R)
 	}
-	var macro float64
 	n := 0
 	for k := 0; k < C; k++ {
 		if gp[k] > 0 {
@@ -355,5 +387,5 @@ func f1At(rows []int, C, at int, y []bool, v func(i, k int) float64) float64 {
 	if n > 0 {
 		macro /= float64(n)
 	}
-	return micro + macro
+	return micro, macro
 }

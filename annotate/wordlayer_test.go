@@ -501,3 +501,100 @@ func calibratedCorpus(t *testing.T, m *model.Model, texts []LabeledText) (*fit.C
 	m.Calibration = cal
 	return corpus, tune
 }
+
+// TestTuneMacroFloor: with TuneOptions.MacroFloor the tuning keeps to the
+// settings whose macro F1 reaches the floor and takes the most micro F1
+// among them. Checked against the tuning for micro plus macro on the same
+// layers: a floor at that tuning's own macro F1 can only keep or raise its
+// micro F1 (its point is allowed), a floor no setting reaches falls back
+// to the same weights as no floor, and a floor outside 0..1 is refused.
+// Source: the definition of the objective (constrained maximisation over a
+// grid), on synthetic data.
+func TestTuneMacroFloor(t *testing.T) {
+	x := newXORCase(t)
+	opt := fit.WordLayerOptions{Workers: 2, Net: fit.WordNetOptions{Hidden: -1}}
+	full, err := fit.TrainWordLayer(x.corpus, x.m.C, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	opt.Skip = func(i int) bool { return i < len(x.tune) }
+	held, err := fit.TrainWordLayer(x.corpus, x.m.C, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	tune := func(floor float64) (*model.WordLayer, error) {
+		l := *full
+		m := *x.m
+		m.WordLayer = &l
+		err := TuneWordLayer(&m, held, x.tune, TuneOptions{At: 2, MacroFloor: floor, CalibrateOptions: CalibrateOptions{Samples: 20, Workers: 2}})
+		return &l, err
+	}
+	sum, err := tune(0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(sum.TunedMicro+sum.TunedMacro-sum.TunedF1) > 1e-12 || !(sum.TunedMicro > 0) || !(sum.TunedMacro > 0) || sum.TunedMacroFloor != 0 {
+		t.Fatalf("micro %v + macro %v, sum %v, floor %v", sum.TunedMicro, sum.TunedMacro, sum.TunedF1, sum.TunedMacroFloor)
+	}
+	for _, floor := range []float64{sum.TunedMacro, sum.TunedMacro - 0.05, sum.TunedMacro - 0.15} {
+		at, err := tune(floor)
+		if err != nil {
+			t.Fatal(err)
+		}
+		t.Logf("floor %.4f: micro %.4f macro %.4f (micro + macro: %.4f / %.4f)", floor, at.TunedMicro, at.TunedMacro, sum.TunedMicro, sum.TunedMacro)
+		if at.TunedMacro < floor || at.TunedMicro < sum.TunedMicro-1e-12 || at.TunedMacroFloor != floor {
+			t.Errorf("floor %.4f: micro %.4f macro %.4f, against %.4f / %.4f for micro + macro", floor, at.TunedMicro, at.TunedMacro, sum.TunedMicro, sum.TunedMacro)
+		}
+	}
+	// Above that macro F1, a setting that reaches the floor has less micro
+	// F1 (it has no more micro + macro); if none does, the weights are
+	// micro + macro's.
+	for _, floor := range []float64{sum.TunedMacro + 0.005, sum.TunedMacro + 0.02} {
+		at, err := tune(floor)
+		if err != nil {
+			t.Fatal(err)
+		}
+		t.Logf("floor %.4f: micro %.4f macro %.4f", floor, at.TunedMicro, at.TunedMacro)
+		reached := at.TunedMacro >= floor && at.TunedMicro <= sum.TunedMicro
+		fell := at.TunedMacro == sum.TunedMacro && at.TunedMicro == sum.TunedMicro && at.FreqWeight == sum.FreqWeight
+		if !reached && !fell {
+			t.Errorf("floor %.4f: micro %.4f macro %.4f, against %.4f / %.4f for micro + macro", floor, at.TunedMicro, at.TunedMacro, sum.TunedMicro, sum.TunedMacro)
+		}
+	}
+	none, err := tune(1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if none.TunedMacro < 1 && (none.TopicWeight != sum.TopicWeight || none.FreqWeight != sum.FreqWeight || none.ShareFloor != sum.ShareFloor || none.TunedF1 != sum.TunedF1) {
+		t.Errorf("unreachable floor: weights %v %v %v (%v), want those of micro + macro %v %v %v (%v)",
+			none.TopicWeight, none.FreqWeight, none.ShareFloor, none.TunedF1, sum.TopicWeight, sum.FreqWeight, sum.ShareFloor, sum.TunedF1)
+	}
+	for _, bad := range []float64{-0.1, 1.5, math.NaN()} {
+		if _, err := tune(bad); err == nil {
+			t.Errorf("floor %v: no error", bad)
+		}
+	}
+}
+
+// TestTunePointBetter: the order of tuning points under a macro floor.
+// Source: the definition in TuneOptions.MacroFloor.
+func TestTunePointBetter(t *testing.T) {
+	for _, c := range []struct {
+		p, q  tunePoint
+		floor float64
+		want  bool
+	}{
+		{tunePoint{0.5, 0.3}, tunePoint{0.4, 0.3}, 0, true},
+		{tunePoint{0.5, 0.3}, tunePoint{0.4, 0.45}, 0, false},     // sum 0.8 against 0.85
+		{tunePoint{0.5, 0.36}, tunePoint{0.55, 0.34}, 0.35, true}, // only p reaches the floor
+		{tunePoint{0.55, 0.34}, tunePoint{0.5, 0.36}, 0.35, false},
+		{tunePoint{0.53, 0.35}, tunePoint{0.52, 0.40}, 0.35, true}, // both reach it: micro decides
+		{tunePoint{0.52, 0.40}, tunePoint{0.53, 0.35}, 0.35, false},
+		{tunePoint{0.50, 0.30}, tunePoint{0.45, 0.34}, 0.35, true}, // neither: the sum decides
+		{tunePoint{0.5, 0.3}, tunePoint{0.5, 0.3}, 0.35, false},    // equal is not better
+	} {
+		if got := c.p.better(c.q, c.floor); got != c.want {
+			t.Errorf("%v better than %v at floor %v: %v, want %v", c.p, c.q, c.floor, got, c.want)
+		}
+	}
+}

@@ -219,6 +219,10 @@ type WordLayer struct {
 	// otherwise) of the Tuned records ranked with the chosen weights (0 in
 	// files written before).
 	TunedF1 float64
+	// TunedMicro and TunedMacro are its two parts, and TunedMacroFloor
+	// the floor macro F1 had to reach (annotate.TuneOptions.MacroFloor;
+	// 0: micro plus macro was maximised). All 0 in files written before.
+	TunedMicro, TunedMacro, TunedMacroFloor float64
 	// Labels is how many concepts' label terms the SVMs learned as one
 	// more record of the concept, each weighing LabelWeight records
 	// (0: none, as in files written before).
