@@ -440,6 +440,10 @@ func runFit(f *fitFlags) int {
 		fmt.Fprintf(os.Stderr, "held-out log-likelihood per token: %.4f (perplexity %.1f) over %d records, %d tokens\n",
 			res.HeldOutLLPerWord, expNeg(res.HeldOutLLPerWord), res.HeldOutDocs, res.HeldOutTokens)
 	}
+	if l := m.WordLayer; l != nil && l.Tuned > 0 {
+		fmt.Fprintf(os.Stderr, "word layer tuned on %d tuning records: micro F1@5 %.3f, macro F1@5 %.3f%s\n",
+			l.Tuned, l.TunedMicro, l.TunedMacro, floorNote(l.TunedMacroFloor, l.TunedMacro))
+	}
 	fmt.Println(res.String())
 	return 0
 }
