@@ -17,8 +17,8 @@
 # empty = by record), EVAL_MACRO_FLOOR (the word layer's combination is
 # tuned for the most micro F1@5 on the tuning records among settings whose
 # macro F1@5 there reaches this; default 0.35, issue 7's macro target;
-# 0 = tuned for micro + macro F1@5, fit's default), EVAL_ANCHORS=0 (skip
-# the anchors).
+# 0 = tuned for micro + macro F1@5, fit's default), EVAL_SEED (fit's
+# --seed, default 1), EVAL_ANCHORS=0 (skip the anchors).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 tg=bin/termgrove
@@ -36,11 +36,12 @@ calibrate=${EVAL_CALIBRATE:-5000}
 holdout=${EVAL_HOLDOUT:-0.2}
 group=${EVAL_GROUP-source_package}
 macro_floor=${EVAL_MACRO_FLOOR:-0.35}
+seed=${EVAL_SEED:-1}
 start=$(date +%s)
 
 echo "== fit on the train split (free topics $free, sweeps $sweeps, workers $workers)"
 $tg fit --vocab "$data/vocabulary.ttl" --records "$data/train.jsonl" --out "$out/debtags.grove" \
-  --free-topics "$free" --sweeps "$sweeps" --workers "$workers" --lambda "$lambda" --calibrate "$calibrate" --holdout "$holdout" --group-field "$group" --word-macro-floor "$macro_floor" --checkpoint 0 --quiet \
+  --free-topics "$free" --sweeps "$sweeps" --workers "$workers" --lambda "$lambda" --calibrate "$calibrate" --holdout "$holdout" --group-field "$group" --word-macro-floor "$macro_floor" --seed "$seed" --checkpoint 0 --quiet \
   | tee "$out/fit.txt"
 fit_end=$(date +%s)
 
@@ -55,9 +56,9 @@ if [ "${EVAL_ANCHORS:-1}" = 1 ]; then
   /usr/bin/python3 scripts/anchors.py "$data" > "$out/anchors.json"
 fi
 
-/usr/bin/python3 - "$out" "$((fit_end - start))" "$((score_end - fit_end))" "$free" "$sweeps" "$workers" "$lambda" "$calibrate" "$holdout" "$group" "$macro_floor" <<'EOF'
+/usr/bin/python3 - "$out" "$((fit_end - start))" "$((score_end - fit_end))" "$free" "$sweeps" "$workers" "$lambda" "$calibrate" "$holdout" "$group" "$macro_floor" "$seed" <<'EOF'
 import json, os, sys, datetime, platform, re
-out, fit_s, score_s, free, sweeps, workers, lam, cal, hold, group, mfloor = sys.argv[1:]
+out, fit_s, score_s, free, sweeps, workers, lam, cal, hold, group, mfloor, seed = sys.argv[1:]
 tg = json.load(open(os.path.join(out, "score.json")))
 rows = [("termgrove", tg["metrics"])]
 anchors = {}
@@ -71,8 +72,8 @@ for line in open("/proc/cpuinfo"):
     if line.startswith("model name"):
         cpu = line.split(":", 1)[1].strip(); break
 lines = []
-lines.append("Measured %s on %s (%d cores), `make eval` (EVAL_FREE=%s EVAL_SWEEPS=%s EVAL_WORKERS=%s EVAL_LAMBDA=%s EVAL_CALIBRATE=%s EVAL_HOLDOUT=%s EVAL_GROUP=%s EVAL_MACRO_FLOOR=%s)." % (
-    datetime.date.today().isoformat(), cpu, os.cpu_count(), free, sweeps, workers, lam, cal, hold, group, mfloor))
+lines.append("Measured %s on %s (%d cores), `make eval` (EVAL_FREE=%s EVAL_SWEEPS=%s EVAL_WORKERS=%s EVAL_LAMBDA=%s EVAL_CALIBRATE=%s EVAL_HOLDOUT=%s EVAL_GROUP=%s EVAL_MACRO_FLOOR=%s EVAL_SEED=%s)." % (
+    datetime.date.today().isoformat(), cpu, os.cpu_count(), free, sweeps, workers, lam, cal, hold, group, mfloor, seed))
 lines.append("Test split: %d records scored. termgrove fit %s s, scoring %s s." % (tg["records"], fit_s, score_s))
 if anchors:
     svm = anchors["anchors"].get("tfidf-svm", {})
