@@ -504,29 +504,59 @@ func calibratedCorpus(t *testing.T, m *model.Model, texts []LabeledText) (*fit.C
 
 // TestTuneMacroFloor: with TuneOptions.MacroFloor the tuning keeps to the
 // settings whose macro F1 reaches the floor and takes the most micro F1
-// among them. Checked against the tuning for micro plus macro on the same
-// layers: a floor at that tuning's own macro F1 can only keep or raise its
-// micro F1 (its point is allowed), a floor no setting reaches falls back
-// to the same weights as no floor, and a floor outside 0..1 is refused.
+// among them. The collection trades one for the other: every text is
+// indexed with its own concept (one of ten, told by two of its ten words,
+// the others drawn from the ten concepts' words) and half of them also
+// with one frequent concept, which is the surest first suggestion (micro)
+// but leaves the ten rarer ones unsuggested (macro). Tuned for F1@1:
+//   - for micro plus macro, it reaches some macro F1 M;
+//   - with a floor below M it finds more micro F1 (the constraint binds:
+//     without it, the same point as micro plus macro would come back);
+//   - with a floor just above M, either a setting reaches it, with no
+//     more micro F1, or none does and the weights are micro plus macro's;
+//   - with a floor no setting reaches, micro plus macro's weights;
+//   - a floor outside 0..1 is refused.
+//
 // Source: the definition of the objective (constrained maximisation over a
 // grid), on synthetic data.
 func TestTuneMacroFloor(t *testing.T) {
-	x := newXORCase(t)
+	m := modeltest.Synthetic(modeltest.Options{Concepts: 30, Free: 3, Words: 400, WordsPerConcept: 15, Seed: 5})
+	const frequent = 29
+	r := rand.New(rand.NewPCG(9, 10))
+	var texts []LabeledText
+	for i := 0; i < 400; i++ {
+		c := i % 10
+		var words []string
+		own := m.TopWords(c, 8)
+		for n := 0; n < 2; n++ {
+			words = append(words, m.Words[own[r.IntN(len(own))].Word])
+		}
+		for n := 0; n < 8; n++ {
+			other := m.TopWords(r.IntN(10), 8)
+			words = append(words, m.Words[other[r.IntN(len(other))].Word])
+		}
+		subj := []string{m.Scheme.Concepts[c].IRI}
+		if i%2 != 0 {
+			subj = append(subj, m.Scheme.Concepts[frequent].IRI)
+		}
+		texts = append(texts, LabeledText{ID: "f" + strings.Repeat("x", i%7) + string(rune('a'+i%26)) + string(rune('a'+i/26)), Text: strings.Join(words, " "), Subjects: subj})
+	}
+	corpus, tuneTexts := calibratedCorpus(t, m, texts)
 	opt := fit.WordLayerOptions{Workers: 2, Net: fit.WordNetOptions{Hidden: -1}}
-	full, err := fit.TrainWordLayer(x.corpus, x.m.C, opt)
+	full, err := fit.TrainWordLayer(corpus, m.C, opt)
 	if err != nil {
 		t.Fatal(err)
 	}
-	opt.Skip = func(i int) bool { return i < len(x.tune) }
-	held, err := fit.TrainWordLayer(x.corpus, x.m.C, opt)
+	opt.Skip = func(i int) bool { return i < len(tuneTexts) }
+	held, err := fit.TrainWordLayer(corpus, m.C, opt)
 	if err != nil {
 		t.Fatal(err)
 	}
 	tune := func(floor float64) (*model.WordLayer, error) {
 		l := *full
-		m := *x.m
-		m.WordLayer = &l
-		err := TuneWordLayer(&m, held, x.tune, TuneOptions{At: 2, MacroFloor: floor, CalibrateOptions: CalibrateOptions{Samples: 20, Workers: 2}})
+		mm := *m
+		mm.WordLayer = &l
+		err := TuneWordLayer(&mm, held, tuneTexts, TuneOptions{At: 1, MacroFloor: floor, CalibrateOptions: CalibrateOptions{Samples: 20, Workers: 2}})
 		return &l, err
 	}
 	sum, err := tune(0)
@@ -536,38 +566,34 @@ func TestTuneMacroFloor(t *testing.T) {
 	if math.Abs(sum.TunedMicro+sum.TunedMacro-sum.TunedF1) > 1e-12 || !(sum.TunedMicro > 0) || !(sum.TunedMacro > 0) || sum.TunedMacroFloor != 0 {
 		t.Fatalf("micro %v + macro %v, sum %v, floor %v", sum.TunedMicro, sum.TunedMacro, sum.TunedF1, sum.TunedMacroFloor)
 	}
-	for _, floor := range []float64{sum.TunedMacro, sum.TunedMacro - 0.05, sum.TunedMacro - 0.15} {
-		at, err := tune(floor)
-		if err != nil {
-			t.Fatal(err)
-		}
-		t.Logf("floor %.4f: micro %.4f macro %.4f (micro + macro: %.4f / %.4f)", floor, at.TunedMicro, at.TunedMacro, sum.TunedMicro, sum.TunedMacro)
-		if at.TunedMacro < floor || at.TunedMicro < sum.TunedMicro-1e-12 || at.TunedMacroFloor != floor {
-			t.Errorf("floor %.4f: micro %.4f macro %.4f, against %.4f / %.4f for micro + macro", floor, at.TunedMicro, at.TunedMacro, sum.TunedMicro, sum.TunedMacro)
-		}
+	same := func(l *model.WordLayer) bool {
+		return l.TopicWeight == sum.TopicWeight && l.FreqWeight == sum.FreqWeight && l.ShareFloor == sum.ShareFloor && l.TunedF1 == sum.TunedF1
 	}
-	// Above that macro F1, a setting that reaches the floor has less micro
-	// F1 (it has no more micro + macro); if none does, the weights are
-	// micro + macro's.
-	for _, floor := range []float64{sum.TunedMacro + 0.005, sum.TunedMacro + 0.02} {
-		at, err := tune(floor)
-		if err != nil {
-			t.Fatal(err)
-		}
-		t.Logf("floor %.4f: micro %.4f macro %.4f", floor, at.TunedMicro, at.TunedMacro)
-		reached := at.TunedMacro >= floor && at.TunedMicro <= sum.TunedMicro
-		fell := at.TunedMacro == sum.TunedMacro && at.TunedMicro == sum.TunedMicro && at.FreqWeight == sum.FreqWeight
-		if !reached && !fell {
-			t.Errorf("floor %.4f: micro %.4f macro %.4f, against %.4f / %.4f for micro + macro", floor, at.TunedMicro, at.TunedMacro, sum.TunedMicro, sum.TunedMacro)
-		}
-	}
-	none, err := tune(1)
+	// 0.472 / 0.343 for micro plus macro when written; floor 0.2: 0.480 / 0.320.
+	floor := sum.TunedMacro - 0.1
+	below, err := tune(floor)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if none.TunedMacro < 1 && (none.TopicWeight != sum.TopicWeight || none.FreqWeight != sum.FreqWeight || none.ShareFloor != sum.ShareFloor || none.TunedF1 != sum.TunedF1) {
-		t.Errorf("unreachable floor: weights %v %v %v (%v), want those of micro + macro %v %v %v (%v)",
-			none.TopicWeight, none.FreqWeight, none.ShareFloor, none.TunedF1, sum.TopicWeight, sum.FreqWeight, sum.ShareFloor, sum.TunedF1)
+	t.Logf("micro + macro: %.4f / %.4f; floor %.4f: %.4f / %.4f", sum.TunedMicro, sum.TunedMacro, floor, below.TunedMicro, below.TunedMacro)
+	if below.TunedMacro < floor || below.TunedMicro <= sum.TunedMicro || below.TunedMacroFloor != floor {
+		t.Errorf("floor %.4f: micro %.4f macro %.4f, want more micro than %.4f with macro at least the floor", floor, below.TunedMicro, below.TunedMacro, sum.TunedMicro)
+	}
+	floor = sum.TunedMacro + 0.005
+	above, err := tune(floor)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if reached := above.TunedMacro >= floor && above.TunedMicro <= sum.TunedMicro; !reached && !same(above) {
+		t.Errorf("floor %.4f: micro %.4f macro %.4f, against %.4f / %.4f for micro + macro", floor, above.TunedMicro, above.TunedMacro, sum.TunedMicro, sum.TunedMacro)
+	}
+	none, err := tune(0.9)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if none.TunedMacro >= 0.9 || !same(none) {
+		t.Errorf("unreachable floor: weights %v %v %v (%v / %v), want micro + macro's %v %v %v",
+			none.TopicWeight, none.FreqWeight, none.ShareFloor, none.TunedMicro, none.TunedMacro, sum.TopicWeight, sum.FreqWeight, sum.ShareFloor)
 	}
 	for _, bad := range []float64{-0.1, 1.5, math.NaN()} {
 		if _, err := tune(bad); err == nil {
