@@ -150,6 +150,9 @@ func cmdFit(args []string) int {
 			return 2
 		}
 	}
+	if f.wordMacroFloor > 0 && (!f.wordLayer || f.calibrate == 0) {
+		fmt.Fprintf(os.Stderr, "termgrove fit: warning: --word-macro-floor tunes the word layer, which needs --calibrate and --word-layer: it has no effect here\n")
+	}
 	if f.vocab == "-" && f.recs == "-" {
 		fmt.Fprintln(os.Stderr, "termgrove fit: --vocab and --records cannot both read standard input")
 		return 2

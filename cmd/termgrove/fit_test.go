@@ -224,11 +224,16 @@ func TestFitBadInput(t *testing.T) {
 		t.Errorf("missing records file: exit %d\n%s", code, stderr)
 	}
 	// An out-of-range option is named with its value and what was expected.
-	for _, c := range [][2]string{{"--word-lead", "-1"}, {"--holdout", "NaN"}, {"--workers", "0"}} {
+	for _, c := range [][2]string{{"--word-lead", "-1"}, {"--holdout", "NaN"}, {"--workers", "0"}, {"--word-macro-floor", "1.5"}} {
 		_, stderr, code = runTG(t, bin, append(base, "--records", bad, "--skip-bad", c[0], c[1])...)
 		if code != 2 || !strings.Contains(stderr, c[0]+" "+c[1]+": expected") {
 			t.Errorf("%s %s: exit %d\n%s", c[0], c[1], code, stderr)
 		}
+	}
+	// A macro floor without the word layer says it does nothing.
+	_, stderr, code = runTG(t, bin, append(base, "--records", bad, "--skip-bad", "--calibrate", "0", "--word-macro-floor", "0.3")...)
+	if code != 0 || !strings.Contains(stderr, "--word-macro-floor tunes the word layer") {
+		t.Errorf("--word-macro-floor without the word layer: exit %d\n%s", code, stderr)
 	}
 	_, stderr, code = runTG(t, bin, append(base, "--records", bad, "--skip-bad", "--group-field", "shelf")...)
 	if code != 0 || !strings.Contains(stderr, "--group-field shelf: 2 of 2 records have no such field") {
