@@ -384,7 +384,11 @@ func testDistributions(t *testing.T, maxList int) {
 		samples := float64(st.samples)
 		// The sparse θ of summarise equals the dense sum of the word types'
 		// posteriors over all K topics.
-		th := a.thetaDense(st, samples)
+		var start [][]float64
+		if !st.rows && len(opt.Subjects) == 0 { // began with startExpected
+			start, _ = a.startDense(st)
+		}
+		th := a.thetaDense(st, samples, start)
 		for _, c := range res.Concepts {
 			k, _ := m.ConceptIndex(c.IRI)
 			if d := math.Abs(c.Score - th[k]); d > 1e-12 {
@@ -1111,54 +1115,48 @@ func TestStartExpected(t *testing.T) {
 		t.Fatal("want the grouped path")
 	}
 	K, U := a.K, len(st.uw)
-	// Dense: s_kw over all topics, E⁰, the two steps, the start's pmf.
-	s := make([][]float64, U)
-	e0 := make([]float64, K)
-	for u, w := range st.uw {
-		s[u] = make([]float64, K)
-		for k := 0; k < K; k++ {
-			s[u][k] = m.Phi(k, int(w)) - a.phi0[k]
-			if s[u][k] < 1e-15 {
-				s[u][k] = 0
-			}
-			e0[k] += float64(st.ucnt[u]) * m.Alpha[k] * s[u][k] / a.wh[w].aw
-		}
-	}
+	// Dense: E⁰, the two steps, the start's pmf.
+	want, e0 := a.startDense(st)
 	for _, k := range st.bT {
 		if got := st.tl[k].e0 - m.Alpha[k]; math.Abs(got-e0[k]) > 1e-12*(e0[k]+m.Alpha[k]) { // e0 holds α_k + E⁰_k
 			t.Errorf("E⁰ of topic %d: %v, want %v", k, got, e0[k])
 		}
 	}
-	v1 := make([][]float64, U)
-	z1 := make([]float64, U)
-	e1 := make([]float64, K)
-	for u, w := range st.uw {
-		v1[u] = make([]float64, K)
-		z1[u] = a.q
-		for k := 0; k < K; k++ {
-			if s[u][k] > 0 {
-				v1[u][k] = (e0[k] - m.Alpha[k]*s[u][k]/a.wh[w].aw + m.Alpha[k]) * m.Phi(k, int(w))
-				z1[u] += v1[u][k]
-			}
+	// The start's sample for theta: th gets n_u·v²_k/Z² on the lists and
+	// startF the α_k·φ⁰_k part, n_u·q/Z² summed, so that
+	// th_k + α_k·φ⁰_k·startF = Σ_u n_u·p_u(k) exactly.
+	for k := range st.th {
+		st.th[k] = 0
+	}
+	for j := range st.tl {
+		st.tl[j].e1 = st.tl[j].alpha
+	}
+	st.startF = 0
+	a.startExpected(st, &splitMix{5})
+	if !st.startOn {
+		t.Fatal("startExpected did not mark its sample")
+	}
+	for u, w := range st.uw { // theta's pass, without the sweeps' part (f = 0)
+		h := &a.wh[w]
+		o := int(st.uo[u])
+		thetaStart(st.th, a.alpha, a.ent[h.lo:h.hi], int(h.hiC-h.lo), st.startW[o:o+int(h.hi-h.lo)], 0, float64(st.ucnt[u])/st.startZ[u])
+	}
+	total := 0.0
+	for k := 0; k < K; k++ {
+		w := 0.0
+		for u := range want {
+			w += float64(st.ucnt[u]) * want[u][k]
 		}
-		for k := 0; k < K; k++ {
-			e1[k] += float64(st.ucnt[u]) * v1[u][k] / z1[u]
+		got := st.th[k] + m.Alpha[k]*a.phi0[k]*st.startF
+		total += got
+		if math.Abs(got-w) > 1e-12*w {
+			t.Errorf("start's sample, topic %d: %v, want %v", k, got, w)
 		}
 	}
-	want := make([][]float64, U)
-	for u, w := range st.uw {
-		want[u] = make([]float64, K)
-		z2 := a.q
-		for k := 0; k < K; k++ {
-			if s[u][k] > 0 {
-				want[u][k] = max(0, (e1[k]-v1[u][k]/z1[u]+m.Alpha[k])*m.Phi(k, int(w)))
-				z2 += want[u][k]
-			}
-		}
-		for k := 0; k < K; k++ {
-			want[u][k] = (want[u][k] + m.Alpha[k]*a.phi0[k]) / z2
-		}
+	if math.Abs(total-float64(len(st.tu))) > 1e-9 {
+		t.Errorf("start's sample sums to %v, want the %d tokens", total, len(st.tu))
 	}
+	st.startOn, st.startF = false, 0
 	const n = 20000
 	got := make([][]float64, U)
 	for u := range got {

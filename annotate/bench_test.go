@@ -449,7 +449,8 @@ func exportIDs(b *testing.B, a *Annotator, path string, texts []string) {
 // against the spread one chain gives. TG_ANN_SWEEPS picks the settings,
 // e.g. "-1+3,3+6" (burn-in -1: none); TG_ANN_CHAIN0 starts the seed salts
 // elsewhere; TG_ANN_OWNSTART=1 starts every record from its words' own
-// posteriors (the start before the expected counts').
+// posteriors (the start before the expected counts'); TG_ANN_NOSTARTSAMPLE=1
+// leaves the start's distributions out of the scores (before annot7).
 //
 //	TG_ANN_MODEL=.cache/annbench/debtags.grove TG_ANN_RECORDS=.cache/debtags/test.jsonl \
 //	    go test -run SweepsQuality -v ./annotate
@@ -480,7 +481,7 @@ func TestSweepsQuality(t *testing.T) {
 		return nil
 	})
 	// Burn-in -1: none.
-	settings := [][2]int{{-1, ExpectedSamples}, {-1, 2}, {-1, 4}, {-1, 6}, {DefaultBurnIn, DefaultSamples}, {10, 20}}
+	settings := [][2]int{{-1, ExpectedSamples}, {-1, 1}, {-1, 3}, {-1, 4}, {DefaultBurnIn, DefaultSamples}, {10, 20}}
 	if v := os.Getenv("TG_ANN_SWEEPS"); v != "" {
 		settings = nil
 		for _, f := range strings.Split(v, ",") {
@@ -504,7 +505,8 @@ func TestSweepsQuality(t *testing.T) {
 		}
 	}
 	ownStart = os.Getenv("TG_ANN_OWNSTART") != ""
-	defer func() { seedSalt, ownStart = 0, false }()
+	noStartSample = os.Getenv("TG_ANN_NOSTARTSAMPLE") != ""
+	defer func() { seedSalt, ownStart, noStartSample = 0, false, false }()
 	for _, c := range settings {
 		var ps []float64
 		t0 := time.Now()

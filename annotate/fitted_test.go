@@ -101,7 +101,8 @@ func TestFittedBars(t *testing.T) {
 		if _, err := a.infer(&Result{Concepts: []Concept{}}, text, toks, Options{}, st); err != nil {
 			t.Fatal(err)
 		}
-		got := a.thetaDense(st, float64(st.samples))
+		start, _ := a.startDense(st)
+		got := a.thetaDense(st, float64(st.samples), start)
 		a.put(st)
 		for b := range bars {
 			l1 += math.Abs(got[match[b]]-th[b]) / docs
@@ -115,8 +116,11 @@ func TestFittedBars(t *testing.T) {
 }
 
 // thetaDense returns θ over all K topics from a finished state, from the
-// word types' posteriors (post): Σ_u n_u·p_u(k) + α_k, normalised.
-func (a *Annotator) thetaDense(st *state, samples float64) []float64 {
+// word types' posteriors (post): Σ_u n_u·p_u(k) + α_k, normalised. start,
+// when not nil, holds the start's distributions per word type
+// (startDense): they count as one more sample beside the sweeps', as
+// theta counts them after startExpected.
+func (a *Annotator) thetaDense(st *state, samples float64, start [][]float64) []float64 {
 	th := make([]float64, a.K)
 	alpha := func(k int) float64 { // α as the options changed it
 		if st.allow {
@@ -130,11 +134,71 @@ func (a *Annotator) thetaDense(st *state, samples float64) []float64 {
 	}
 	N := float64(len(st.tu))
 	for k := range th {
-		th[k] = alpha(k)
+		e := 0.0
 		for u := range st.uw {
-			th[k] += float64(st.ucnt[u]) * a.post(st, int32(u), int32(k), samples)
+			e += float64(st.ucnt[u]) * a.post(st, int32(u), int32(k), samples)
 		}
-		th[k] /= N + sumA
+		if start != nil {
+			s := 0.0
+			for u := range st.uw {
+				s += float64(st.ucnt[u]) * start[u][k]
+			}
+			e = (e*samples + s) / (samples + 1)
+		}
+		th[k] = (alpha(k) + e) / (N + sumA)
 	}
 	return th
+}
+
+// startDense returns the start's distribution over all K topics for each
+// word type of a state that startExpected began (the package comment's
+// formula, "Start", computed densely: E⁰, v¹ and E¹, then v² and Z²),
+// with the α_k·φ⁰_k part q spread over all topics. It also returns E⁰ by
+// topic.
+func (a *Annotator) startDense(st *state) (start [][]float64, e0 []float64) {
+	m := a.m
+	K, U := a.K, len(st.uw)
+	s := make([][]float64, U)
+	e0 = make([]float64, K)
+	for u, w := range st.uw {
+		s[u] = make([]float64, K)
+		for k := 0; k < K; k++ {
+			s[u][k] = m.Phi(k, int(w)) - a.phi0[k]
+			if s[u][k] < 1e-15 {
+				s[u][k] = 0
+			}
+			e0[k] += float64(st.ucnt[u]) * m.Alpha[k] * s[u][k] / a.wh[w].aw
+		}
+	}
+	v1 := make([][]float64, U)
+	z1 := make([]float64, U)
+	e1 := make([]float64, K)
+	for u, w := range st.uw {
+		v1[u] = make([]float64, K)
+		z1[u] = a.q
+		for k := 0; k < K; k++ {
+			if s[u][k] > 0 {
+				v1[u][k] = (e0[k] - m.Alpha[k]*s[u][k]/a.wh[w].aw + m.Alpha[k]) * m.Phi(k, int(w))
+				z1[u] += v1[u][k]
+			}
+		}
+		for k := 0; k < K; k++ {
+			e1[k] += float64(st.ucnt[u]) * v1[u][k] / z1[u]
+		}
+	}
+	start = make([][]float64, U)
+	for u, w := range st.uw {
+		start[u] = make([]float64, K)
+		z2 := a.q
+		for k := 0; k < K; k++ {
+			if s[u][k] > 0 {
+				start[u][k] = max(0, (e1[k]-v1[u][k]/z1[u]+m.Alpha[k])*m.Phi(k, int(w)))
+				z2 += start[u][k]
+			}
+		}
+		for k := 0; k < K; k++ {
+			start[u][k] = (start[u][k] + m.Alpha[k]*a.phi0[k]) / z2
+		}
+	}
+	return start, e0
 }
