@@ -71,9 +71,10 @@
 // The start's own distributions are a fold-in estimate of the same
 // conditionals the sweeps average, already computed, so they are counted
 // as one sample beside the sweeps' (theta): with them 0 + 2 sweeps rank
-// better than 0 + 3 without on all three sets, by 0.003 to 0.006 of P@5
-// (20 chains a record; bench/annotate.md, "annot7"), at two thirds of the
-// sweeps. Word attributions average the sweeps only.
+// better than 0 + 3 without on each of four sets of debtags test records,
+// by 0.003 to 0.006 of P@5 (20 chains a record; bench/annotate.md,
+// "annot7"), at two thirds of the sweeps. Word attributions average the
+// sweeps only.
 // Otherwise (the long lists of a 117k-concept model, known subjects) each
 // token starts from its word's own posterior p(k | w) ∝ (α_k + extra α)·φ_kw,
 // all drawn before any is added. Neither start changes what the sweeps
@@ -130,13 +131,15 @@ const (
 	// expected counts (startExpected; records whose words' lists are
 	// regrouped, without known subjects), no burn-in and 2 sampling
 	// sweeps, the start's distributions counted as a third sample for the
-	// scores. On the same three sets, 20 chains per record, 0 + 2 ranks
-	// 0.003–0.006 of P@5 better than 0 + 3 without the start's sample (the
-	// default before), and within 0.001 of 0 + 1 and 0 + 4 with it; on the
-	// whole debtags test split (termgrove score --samples S) micro/macro
-	// F1@5 is 0.447/0.295 against 0.438/0.285 before (0 + 1: 0.447/0.298).
-	// Two sweeps rather than one because word attributions average the
-	// sweeps alone (bench/annotate.md, "annot7").
+	// scores. On four sets of debtags test records, 20 chains per record,
+	// 0 + 2 ranks 0.003–0.006 of P@5 better than 0 + 3 without the start's
+	// sample (the default before), and within 0.002 of 0 + 1, 0 + 3 and
+	// 0 + 4 with it; on the whole debtags test split (termgrove score
+	// --samples S) micro/macro F1@5 is 0.447/0.295 against 0.438/0.285
+	// before (0 + 1: 0.447/0.298). Two sweeps rather than one because word
+	// attributions average the sweeps alone: on TestWordsAndSupport's
+	// record, mean p of a word's concept over 300 chains 0.927 after one
+	// sweep, 0.950 after two, 0.960 after three (bench/annotate.md, "annot7").
 	ExpectedBurnIn  = 0
 	ExpectedSamples = 2
 	DefaultBoost    = 20.0
