@@ -670,7 +670,7 @@ type state struct {
 	usort []int32   // row mode: word types ordered by word id
 	sink  int32     // group's early loads land here
 	fu    []float64 // word type → cacc/A_w
-	sfree float64   // free topics' share of the α·s_kw part, over all sweeps
+	sfree float64   // free topics' mass outside th: the α·s_kw part, and the start's sample, over all samples
 	stack []int32
 
 	slotTopic []int32     // slot → topic
@@ -1801,7 +1801,6 @@ func (a *Annotator) theta(st *state, samples float64) float64 {
 		cphi += f
 		sfree += f * (h.awF - a.qFree)
 	}
-	st.sfree = sfree * out
 	// Locals: stores into th would otherwise make each pass reload the
 	// slice headers.
 	th, alpha, fu, slotTopic, C := st.th, a.alpha, st.fu, st.slotTopic, int32(a.C)
@@ -1817,7 +1816,7 @@ func (a *Annotator) theta(st *state, samples float64) float64 {
 		for u, w := range st.uw {
 			h := &a.wh[w]
 			o := int(uo[u])
-			thetaStart(th, alpha, a.ent[h.lo:h.hi], int(h.hiC-h.lo), g[o:o+int(h.hi-h.lo)], fu[u], float64(st.ucnt[u])/Z[u])
+			sfree += thetaStart(th, alpha, a.ent[h.lo:h.hi], int(h.hiC-h.lo), g[o:o+int(h.hi-h.lo)], fu[u], float64(st.ucnt[u])/Z[u])
 		}
 	} else { // the same entries, from the words' lists: their concepts come first
 		for u, w := range st.uw {
@@ -1828,6 +1827,7 @@ func (a *Annotator) theta(st *state, samples float64) float64 {
 			}
 		}
 	}
+	st.sfree = sfree * out
 	for u, nz := range st.nz {
 		acc := st.wacc[u][:len(nz)]
 		for j, e := range nz {
@@ -1848,25 +1848,28 @@ func (a *Annotator) theta(st *state, samples float64) float64 {
 }
 
 // thetaStart adds a word type's α_k·s_kw·f to th for its list's first nc
-// entries (the concepts), as theta does, and the start's sample
-// fs·v²_k for every entry, v²_k the differences of startExpected's
-// running sums cum (fs = n_u/Z²). A leaf: one pass over th for both.
+// entries (the concepts), as theta does, and the start's sample fs·v²_k,
+// v²_k the differences of startExpected's running sums cum (fs = n_u/Z²).
+// A leaf: one pass over th for both. The free topics' entries (the rest
+// of the list, about half the entries on debtags) count only as a whole,
+// in the uncovered share: their start's sample, fs times the sums' rise
+// over them, is returned.
 //
 //go:noinline
-func thetaStart(th, alpha []float64, es []wEntry, nc int, cum []float64, f, fs float64) {
-	cum = cum[:len(es)]
-	nc = min(nc, len(es))
+func thetaStart(th, alpha []float64, es []wEntry, nc int, cum []float64, f, fs float64) float64 {
+	n := len(es)
+	if n == 0 {
+		return 0
+	}
+	cum = cum[:n]
+	nc = min(nc, n)
 	prev := 0.0
 	for j := 0; j < nc; j++ {
 		k, c := es[j].k, cum[j]
 		th[k] += alpha[k]*(es[j].s*f) + fs*(c-prev)
 		prev = c
 	}
-	for j := nc; j < len(es); j++ {
-		c := cum[j]
-		th[es[j].k] += fs * (c - prev)
-		prev = c
-	}
+	return fs * (cum[n-1] - prev)
 }
 
 // addAliasS adds to st.th[k] scale·Σ_u cacc_u·α_k·s_kw/A_w, the s_kw share

@@ -1122,9 +1122,11 @@ func TestStartExpected(t *testing.T) {
 			t.Errorf("E⁰ of topic %d: %v, want %v", k, got, e0[k])
 		}
 	}
-	// The start's sample for theta: th gets n_u·v²_k/Z² on the lists and
-	// startF the α_k·φ⁰_k part, n_u·q/Z² summed, so that
-	// th_k + α_k·φ⁰_k·startF = Σ_u n_u·p_u(k) exactly.
+	// The start's sample for theta: th gets n_u·v²_k/Z² on the lists'
+	// concepts, thetaStart returns it for their free topics as a whole,
+	// and startF holds the α_k·φ⁰_k part, n_u·q/Z² summed, so that
+	// th_k + α_k·φ⁰_k·startF = Σ_u n_u·p_u(k) exactly for a concept, and
+	// the same summed over the free topics plus what thetaStart returned.
 	for k := range st.th {
 		st.th[k] = 0
 	}
@@ -1136,12 +1138,13 @@ func TestStartExpected(t *testing.T) {
 	if !st.startOn {
 		t.Fatal("startExpected did not mark its sample")
 	}
+	free := 0.0
 	for u, w := range st.uw { // theta's pass, without the sweeps' part (f = 0)
 		h := &a.wh[w]
 		o := int(st.uo[u])
-		thetaStart(st.th, a.alpha, a.ent[h.lo:h.hi], int(h.hiC-h.lo), st.startW[o:o+int(h.hi-h.lo)], 0, float64(st.ucnt[u])/st.startZ[u])
+		free += thetaStart(st.th, a.alpha, a.ent[h.lo:h.hi], int(h.hiC-h.lo), st.startW[o:o+int(h.hi-h.lo)], 0, float64(st.ucnt[u])/st.startZ[u])
 	}
-	total := 0.0
+	total, gotFree, wantFree := free, free, 0.0
 	for k := 0; k < K; k++ {
 		w := 0.0
 		for u := range want {
@@ -1149,9 +1152,17 @@ func TestStartExpected(t *testing.T) {
 		}
 		got := st.th[k] + m.Alpha[k]*a.phi0[k]*st.startF
 		total += got
-		if math.Abs(got-w) > 1e-12*w {
-			t.Errorf("start's sample, topic %d: %v, want %v", k, got, w)
+		if k >= a.C {
+			gotFree += got
+			wantFree += w
+			continue
 		}
+		if math.Abs(got-w) > 1e-12*w {
+			t.Errorf("start's sample, concept %d: %v, want %v", k, got, w)
+		}
+	}
+	if math.Abs(gotFree-wantFree) > 1e-12*wantFree {
+		t.Errorf("start's sample, free topics: %v, want %v", gotFree, wantFree)
 	}
 	if math.Abs(total-float64(len(st.tu))) > 1e-9 {
 		t.Errorf("start's sample sums to %v, want the %d tokens", total, len(st.tu))
