@@ -84,9 +84,11 @@
 // that hold them (or, for large vocabularies, that the sampler visits), so
 // texts are limited by Options.MaxBytes (default 1 MiB).
 //
-// The random seed is a hash of the model's checksum, the text and the
-// options (recordSeed), so the same model and text always give the same
-// result, whatever runs beside them.
+// The random seed is a hash of the model's content checksum (its tables,
+// not its provenance), the text and the options (recordSeed), so the same
+// model and text always give the same result, whatever runs beside them,
+// and so does a refit that learned the same tables at another date or by
+// another build.
 package annotate
 
 import (
@@ -272,7 +274,7 @@ type Annotator struct {
 	m                   *model.Model
 	an                  *terms.Analyzer
 	langs               map[string]bool // the model's languages, lower-case, with their base tags
-	seedKey             [2]uint64       // recordSeed's, from the model's checksum
+	seedKey             [2]uint64       // recordSeed's, from the model's content checksum
 	K, C                int
 	alpha               []float64
 	phi0                []float64 // φ⁰_k
@@ -334,7 +336,7 @@ func New(m *model.Model) (*Annotator, error) {
 	if err != nil {
 		return nil, fmt.Errorf("annotate: %w", err)
 	}
-	sum, err := m.Sum()
+	sum, err := m.ContentSum()
 	if err != nil {
 		return nil, fmt.Errorf("annotate: %w", err)
 	}

@@ -743,6 +743,24 @@ func testDeterministicAndConcurrent(t *testing.T, maxList int) {
 	for e := range errs {
 		t.Error(e)
 	}
+	// The same tables under another provenance (a refit at another date,
+	// by another build, from another path): the same results, since the
+	// seed comes from the content checksum.
+	m2 := *m
+	m2.Provenance = model.Provenance{TermgroveVersion: "other", Created: "2030-01-01T00:00:00Z", CorpusFile: "x.jsonl", Options: map[string]string{"workers": "9"}}
+	if s1, _ := m.Sum(); func() bool { s2, _ := m2.Sum(); return s1 == s2 }() {
+		t.Fatal("the copy's checksum did not change: the test cannot tell the two sums apart")
+	}
+	c, err := New(&m2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c.maxList = maxList
+	for i, x := range ins {
+		if got, _ := c.AnnotateTokens("r", x.text, x.toks, opt); !reflect.DeepEqual(got, want[i]) {
+			t.Errorf("text %d: another provenance gave another result", i)
+		}
+	}
 }
 
 func TestEdgeCases(t *testing.T) {

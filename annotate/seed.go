@@ -8,8 +8,8 @@ import (
 // recordSeed returns the seed of a record's random stream: a hash of the
 // text and of the options that change sampling (not Top, MinScore or
 // ConceptsOnly, which only cut the result: concepts-only ranks what the
-// full annotation ranks), keyed by the model's SHA-256 checksum, which New
-// computes once. The same model, text and options always give the same
+// full annotation ranks), keyed by the model's SHA-256 content checksum
+// (model.Model.ContentSum), which New computes once. The same model, text and options always give the same
 // stream; another text, option or model another stream.
 //
 // It was the SHA-256 of all of these, a twentieth of a record's
@@ -36,7 +36,9 @@ func (a *Annotator) recordSeed(text string, opt Options, subj []int32) uint64 {
 	return h.sum()
 }
 
-// seedKey returns recordSeed's key from the model's checksum.
+// seedKey returns recordSeed's key from the model's content checksum
+// (model.Model.ContentSum: provenance left out, so that a refit of the same
+// tables, at another date or by another build, annotates the same way).
 func seedKey(sum [32]byte) [2]uint64 {
 	return [2]uint64{binary.LittleEndian.Uint64(sum[:8]), binary.LittleEndian.Uint64(sum[8:16])}
 }

@@ -419,6 +419,23 @@ func (m *Model) Sum() ([32]byte, error) {
 	return s, nil
 }
 
+// ContentSum returns the SHA-256 of the model's payload with its
+// provenance left out (the build, the date, the input files, the fit's
+// options): two fits that learned the same tables have the same content
+// sum, whenever and by whichever build they ran, where Sum differs with
+// the date alone. Annotation seeds its records from it.
+func (m *Model) ContentSum() ([32]byte, error) {
+	c := *m
+	c.Provenance = Provenance{}
+	h := sha256.New()
+	if err := encode(h, &c); err != nil {
+		return [32]byte{}, err
+	}
+	var s [32]byte
+	h.Sum(s[:0])
+	return s, nil
+}
+
 // Validate checks that the model's tables agree in size and order.
 func (m *Model) Validate() error {
 	K, W := m.K(), len(m.Words)

@@ -552,3 +552,35 @@ func saveLoad(t *testing.T, m *model.Model) *model.Model {
 	}
 	return got
 }
+
+// TestContentSum: the content checksum leaves the provenance out (another
+// date, build, input path or option gives the same sum, where Sum differs)
+// and follows the tables (one count changed gives another sum); a loaded
+// file gives the sum of the model saved. Common practice, no source.
+func TestContentSum(t *testing.T) {
+	m := small()
+	m.Provenance.Created = "2026-12-01T10:00:00Z"
+	m.Provenance.TermgroveVersion = "a"
+	want, err := m.ContentSum()
+	if err != nil {
+		t.Fatal(err)
+	}
+	sum0, _ := m.Sum()
+	m.Provenance.Created = "2026-12-02T11:00:00Z"
+	m.Provenance.TermgroveVersion = "b"
+	m.Provenance.CorpusFile = "elsewhere.jsonl"
+	m.Provenance.Options["workers"] = "7"
+	if got, _ := m.ContentSum(); got != want {
+		t.Errorf("content sum moved with the provenance: %x, want %x", got, want)
+	}
+	if sum1, _ := m.Sum(); sum1 == sum0 {
+		t.Error("Sum did not move with the provenance: the test does not tell the two apart")
+	}
+	if got, _ := saveLoad(t, m).ContentSum(); got != want {
+		t.Errorf("content sum after Save and Load: %x, want %x", got, want)
+	}
+	m.Counts[3][0].Count++
+	if got, _ := m.ContentSum(); got == want {
+		t.Error("content sum did not move with a count")
+	}
+}
