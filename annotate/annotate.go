@@ -32,12 +32,11 @@
 //
 //	θ_k = (mean_s Σ_i p(z_i = k | z_¬i) + α_k) / (N + Σ_k α_k),
 //
-// where the start from expected counts counts as one more sample: its
-// distributions p(z_i = k) = v²_wk/Z²_w (below) join the sweeps' mean.
-//
 // the usual estimate (n_dk + α_k)/(N + Σα) (Griffiths & Steyvers 2004) with
 // each token's count replaced by its conditional probability
-// (Rao–Blackwellised, as for the words below; see theta), so concept scores plus
+// (Rao–Blackwellised, as for the words below; see theta; after the start
+// from expected counts, the start's distributions p(z_i = k) = v²_wk/Z²_w
+// count as one more sample in the mean), so concept scores plus
 // the uncovered share (free topics) sum to 1 — unless the model holds
 // related-concept rows (model.Model.Related, from records people indexed):
 // then each concept also gets γ·θ_j·L_jk from the concepts j it is often
@@ -137,11 +136,12 @@ const (
 	// 0 + 2 ranks 0.003–0.006 of P@5 better than 0 + 3 without the start's
 	// sample (the default before), and within 0.002 of 0 + 1, 0 + 3 and
 	// 0 + 4 with it; on the whole debtags test split (termgrove score
-	// --samples S) micro/macro F1@5 is 0.447/0.295 against 0.438/0.285
-	// before (0 + 1: 0.447/0.298). Two sweeps rather than one because word
-	// attributions average the sweeps alone: on TestWordsAndSupport's
-	// record, mean p of a word's concept over 300 chains 0.927 after one
-	// sweep, 0.950 after two, 0.960 after three (bench/annotate.md, "annot7").
+	// --samples S, one chain a record) micro/macro F1@5 is 0.443–0.447 /
+	// 0.294–0.295 over two seedings against 0.438/0.285 before. Two sweeps
+	// rather than one because word attributions average the sweeps alone:
+	// on TestWordsAndSupport's record, mean p of a word's concept over 300
+	// chains 0.927 after one sweep, 0.950 after two, 0.960 after three
+	// (bench/annotate.md, "annot7").
 	ExpectedBurnIn  = 0
 	ExpectedSamples = 2
 	DefaultBoost    = 20.0
