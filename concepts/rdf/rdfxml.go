@@ -486,6 +486,13 @@ func (p *xmlParser) open(t xml.StartElement) (*element, error) {
 			case "base":
 				f.base = ResolveIRI(f.base, a.Value)
 			case "lang":
+				// "" ends the language in scope; anything else must be
+				// a tag the other syntaxes can write (LANGTAG of
+				// N-Triples and Turtle), or the literals it marks could
+				// not be written out again.
+				if a.Value != "" && !isLangTag(a.Value) {
+					return nil, p.errEl(e, "xml:lang %q is not a language tag: want letters, then groups of letters or digits after '-' (BCP 47, e.g. en or en-GB)", a.Value)
+				}
 				f.lang = strings.ToLower(a.Value)
 			}
 		}
@@ -1331,6 +1338,26 @@ func (p *xmlParser) stated(s Term, pred string, o Term, reif string) error {
 
 func (p *xmlParser) triple(s Term, pred string, o Term) error {
 	return p.emit(Triple{S: s, P: Term{Kind: IRI, Value: pred}, O: o})
+}
+
+// isLangTag reports whether s is LANGTAG without its '@' (RDF 1.1
+// N-Triples and Turtle): [a-zA-Z]+ ('-' [a-zA-Z0-9]+)*.
+func isLangTag(s string) bool {
+	first, seg := true, 0
+	for i := 0; i < len(s); i++ {
+		c := s[i]
+		switch {
+		case c >= 'a' && c <= 'z' || c >= 'A' && c <= 'Z':
+			seg++
+		case c >= '0' && c <= '9' && !first:
+			seg++
+		case c == '-' && seg > 0:
+			first, seg = false, 0
+		default:
+			return false
+		}
+	}
+	return seg > 0
 }
 
 // plain makes a literal with the in-scope language, if any.

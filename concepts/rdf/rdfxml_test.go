@@ -243,6 +243,14 @@ func TestReadRDFXMLBadInput(t *testing.T) {
 			line: 3, col: 1, msg: "does not match",
 		},
 		{
+			// Source: RDF 1.1 Concepts §3.3 (a language tag must be
+			// well-formed, BCP 47) and N-Triples' LANGTAG; found by
+			// FuzzRDFXML (testdata/fuzz/FuzzRDFXML/cc04f13f139d4166).
+			name: "xml:lang that is not a language tag",
+			doc:  xmlHead + "<rdf:Description rdf:about=\"http://ex.org/a\">\n  <ex:p xml:lang=\"00\">x</ex:p></rdf:Description></rdf:RDF>",
+			line: 3, col: 3, msg: `xml:lang "00" is not a language tag`,
+		},
+		{
 			name: "undeclared prefix",
 			doc:  xmlHead + "  <foo:Bar/>",
 			line: 2, col: 3, msg: `undeclared namespace prefix "foo"`,
@@ -495,5 +503,18 @@ func TestReadRDFXMLStreams(t *testing.T) {
 	}
 	if time.Since(start) > 4*time.Second {
 		t.Errorf("the first triple waited for the end of the document")
+	}
+}
+
+// TestIsLangTag: LANGTAG of RDF 1.1 N-Triples / Turtle, without the '@'.
+// Source: the grammar's production [a-zA-Z]+ ('-' [a-zA-Z0-9]+)*.
+func TestIsLangTag(t *testing.T) {
+	for s, want := range map[string]bool{
+		"en": true, "EN": true, "en-GB": true, "zh-Hant-TW": true, "x-klingon": true, "de-1996": true, "sl-rozaj-biske": true,
+		"": false, "00": false, "1en": false, "en-": false, "-en": false, "en--gb": false, "en_GB": false, "é": false, "en gb": false,
+	} {
+		if got := isLangTag(s); got != want {
+			t.Errorf("isLangTag(%q) = %v, want %v", s, got, want)
+		}
 	}
 }
