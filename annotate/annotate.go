@@ -1595,20 +1595,22 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 				cand = append(cand, k)
 			}
 		}
-		extra := 0
-		for _, k := range a.corder {
-			if extra >= want {
-				break
-			}
-			if st.slot[k] < 0 && st.bh[k] == 0 && !st.bhas[k] {
-				if st.rows {
+		if st.rows {
+			extra := 0
+			for _, k := range a.corder {
+				if extra >= want {
+					break
+				}
+				if st.slot[k] < 0 && !st.bhas[k] {
 					// Its α·s_kw share, unknown until its row is read.
 					a.addAliasS(st, k, 1/samples)
 					st.touched = append(st.touched, k)
+					cand = append(cand, k)
+					extra++
 				}
-				cand = append(cand, k)
-				extra++
 			}
+		} else {
+			cand = priorOnly(a.corder, st.slot, st.bh, cand, want)
 		}
 	}
 	calOn := !st.allow && !opt.Uncalibrated && a.m.Calibration != nil
@@ -1847,6 +1849,31 @@ func (a *Annotator) theta(st *state, samples float64) float64 {
 	st.touched = append(st.touched, st.slotTopic...)
 	st.touched = append(st.touched, st.bT...)
 	return (cphi + startF) * out
+}
+
+// priorOnly appends to cand the first n concepts of order (by α) that
+// neither hold a slot nor a record word (slot[k] < 0, bh[k] = 0: grouped
+// mode), and returns it. A leaf that stores every concept at cand's end
+// and moves the end by one only for those kept: about half of the
+// concepts it passes are kept, and a branch on it would be mispredicted
+// half the time.
+//
+//go:noinline
+func priorOnly(order, slot, bh []int32, cand []int32, n int) []int32 {
+	m := len(cand)
+	cand = slices.Grow(cand, n+1)
+	buf := cand[:m+n+1]
+	end := m + n
+	for _, k := range order {
+		if m >= end {
+			break
+		}
+		buf[m] = k
+		// 1 when slot[k] < 0 and bh[k] = 0 (bh ≥ 0: its sign bit is
+		// clear, and bh−1 < 0 only at 0).
+		m += int(uint32(slot[k]&(bh[k]-1)) >> 31)
+	}
+	return buf[:m]
 }
 
 // thetaStart adds a word type's α_k·s_kw·f to th for its list's first nc
