@@ -1358,3 +1358,42 @@ func TestGroupLists(t *testing.T) {
 		a.put(st)
 	}
 }
+
+// TestPriorOnly: priorOnly keeps the first n concepts in order with
+// slot < 0 and bh = 0, after what cand held, as the plain loop does.
+// Common practice, no source.
+func TestPriorOnly(t *testing.T) {
+	r := rand.New(rand.NewPCG(31, 32))
+	for trial := 0; trial < 500; trial++ {
+		C := 1 + r.IntN(60)
+		order := make([]int32, C)
+		for i := range order {
+			order[i] = int32(i)
+		}
+		r.Shuffle(C, func(i, j int) { order[i], order[j] = order[j], order[i] })
+		slot, bh := make([]int32, C), make([]int32, C)
+		for k := range slot {
+			slot[k], bh[k] = -1, 0
+			if r.IntN(3) == 0 {
+				slot[k] = int32(r.IntN(10))
+			}
+			if r.IntN(3) == 0 {
+				bh[k] = int32(1 + r.IntN(1000))
+			}
+		}
+		head := []int32{int32(r.IntN(5)), 7}[:r.IntN(3)]
+		n := r.IntN(C + 2)
+		want := slices.Clone(head)
+		for _, k := range order {
+			if len(want)-len(head) >= n {
+				break
+			}
+			if slot[k] < 0 && bh[k] == 0 {
+				want = append(want, k)
+			}
+		}
+		if got := priorOnly(order, slot, bh, slices.Clone(head), n); !slices.Equal(got, want) {
+			t.Fatalf("trial %d: %v, want %v", trial, got, want)
+		}
+	}
+}
