@@ -14,6 +14,8 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"maps"
+	"slices"
 	"sort"
 	"strings"
 	"unicode/utf8"
@@ -61,6 +63,18 @@ func ReadJSONLD(r io.Reader, opt Options, fn func(Triple) error) error {
 		return jsonErrAt(opt, src, int(dec.InputOffset()), "data after the JSON-LD document", ErrSyntax)
 	}
 
+	// json-gold leaves out a value whose @language is not a language
+	// tag (JSON-LD 1.1 "Deserialize JSON-LD to RDF"): a label would go
+	// missing without a word. Such a document is refused instead, as the
+	// other readers refuse it.
+	exp, err := expand(doc, opt.Base)
+	if err != nil {
+		return jsonLDErr(opt, src, err)
+	}
+	if tag, bad := badLanguage(exp); bad {
+		off := max(bytes.Index(src, []byte(`"`+tag+`"`)), 0)
+		return jsonErrAt(opt, src, off, fmt.Sprintf("JSON-LD: @language %q is not a language tag: want letters, then groups of letters or digits after '-' (BCP 47, e.g. en or en-GB); json-gold would drop the value", tag), ErrSyntax)
+	}
 	out, err := toRDF(doc, opt.Base)
 	if err != nil {
 		return jsonLDErr(opt, src, err)
@@ -107,6 +121,46 @@ func toRDF(doc any, base string) (out any, err error) {
 	lopt.DocumentLoader = refusingLoader{}
 	lopt.ProcessingMode = ld.JsonLd_1_1
 	return ld.NewJsonLdProcessor().ToRDF(doc, lopt)
+}
+
+// expand runs json-gold's expansion, with toRDF's options and guard.
+func expand(doc any, base string) (out []any, err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			out, err = nil, fmt.Errorf("json-gold failed on this document: %v", r)
+		}
+	}()
+	lopt := ld.NewJsonLdOptions(base)
+	lopt.DocumentLoader = refusingLoader{}
+	lopt.ProcessingMode = ld.JsonLd_1_1
+	return ld.NewJsonLdProcessor().Expand(doc, lopt)
+}
+
+// badLanguage finds, in an expanded JSON-LD document, the first value
+// object whose @language is not a language tag (isLangTag). A value's
+// own @value (a JSON literal may hold any keys) is not searched.
+func badLanguage(v any) (string, bool) {
+	switch v := v.(type) {
+	case []any:
+		for _, x := range v {
+			if tag, bad := badLanguage(x); bad {
+				return tag, true
+			}
+		}
+	case map[string]any:
+		if l, ok := v["@language"].(string); ok && !isLangTag(l) {
+			return l, true
+		}
+		for _, k := range slices.Sorted(maps.Keys(v)) { // sorted: the same report every run
+			if k == "@value" {
+				continue
+			}
+			if tag, bad := badLanguage(v[k]); bad {
+				return tag, true
+			}
+		}
+	}
+	return "", false
 }
 
 // refusingLoader is a json-gold document loader that loads nothing, so

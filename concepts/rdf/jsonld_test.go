@@ -125,6 +125,21 @@ func TestReadJSONLDBadInput(t *testing.T) {
 			kind: ErrRemoteContext,
 		},
 		{
+			// Source: RDF 1.1 Concepts §3.3 (well-formed BCP 47 tags);
+			// JSON-LD 1.1 "Deserialize JSON-LD to RDF" drops such a
+			// value, which would lose a label without a word.
+			name: "@language that is not a language tag",
+			doc:  "{\n  \"@id\": \"http://ex.org/a\",\n  \"http://www.w3.org/2004/02/skos/core#prefLabel\": {\"@value\": \"cat\", \"@language\": \"00\"}\n}",
+			line: 3, col: 83, msg: `@language "00" is not a language tag`,
+			kind: ErrSyntax,
+		},
+		{
+			name: "a context's default @language that is not a tag",
+			doc:  "{\"@context\": {\"@language\": \"e1\"},\n \"@id\": \"http://ex.org/a\", \"http://www.w3.org/2004/02/skos/core#prefLabel\": \"cat\"}",
+			line: 1, col: 28, msg: `@language "e1" is not a language tag`,
+			kind: ErrSyntax,
+		},
+		{
 			name: "invalid UTF-8",
 			doc:  "{\"@id\": \"http://ex.org/\xff\"}",
 			line: 1, col: 24, msg: "invalid UTF-8",
