@@ -108,32 +108,31 @@ func ReadJSONLD(r io.Reader, opt Options, fn func(Triple) error) error {
 	return nil
 }
 
-// toRDF runs json-gold's expansion and RDF conversion. A panic inside the
-// library on some odd document becomes an error, as user input must never
-// crash the program.
-func toRDF(doc any, base string) (out any, err error) {
+// withJSONGold runs f with json-gold's processor and this reader's
+// options (JSON-LD 1.1, no remote documents). A panic inside the library
+// on some odd document becomes an error, as user input must never crash
+// the program.
+func withJSONGold[T any](base string, f func(*ld.JsonLdProcessor, *ld.JsonLdOptions) (T, error)) (out T, err error) {
 	defer func() {
 		if r := recover(); r != nil {
-			out, err = nil, fmt.Errorf("json-gold failed on this document: %v", r)
+			var zero T
+			out, err = zero, fmt.Errorf("json-gold failed on this document: %v", r)
 		}
 	}()
 	lopt := ld.NewJsonLdOptions(base)
 	lopt.DocumentLoader = refusingLoader{}
 	lopt.ProcessingMode = ld.JsonLd_1_1
-	return ld.NewJsonLdProcessor().ToRDF(doc, lopt)
+	return f(ld.NewJsonLdProcessor(), lopt)
 }
 
-// expand runs json-gold's expansion, with toRDF's options and guard.
-func expand(doc any, base string) (out []any, err error) {
-	defer func() {
-		if r := recover(); r != nil {
-			out, err = nil, fmt.Errorf("json-gold failed on this document: %v", r)
-		}
-	}()
-	lopt := ld.NewJsonLdOptions(base)
-	lopt.DocumentLoader = refusingLoader{}
-	lopt.ProcessingMode = ld.JsonLd_1_1
-	return ld.NewJsonLdProcessor().Expand(doc, lopt)
+// toRDF runs json-gold's expansion and RDF conversion.
+func toRDF(doc any, base string) (any, error) {
+	return withJSONGold(base, func(p *ld.JsonLdProcessor, o *ld.JsonLdOptions) (any, error) { return p.ToRDF(doc, o) })
+}
+
+// expand runs json-gold's expansion alone.
+func expand(doc any, base string) ([]any, error) {
+	return withJSONGold(base, func(p *ld.JsonLdProcessor, o *ld.JsonLdOptions) ([]any, error) { return p.Expand(doc, o) })
 }
 
 // badLanguage finds, in an expanded JSON-LD document, the first value
