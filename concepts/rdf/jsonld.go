@@ -75,13 +75,9 @@ func ReadJSONLD(r io.Reader, opt Options, fn func(Triple) error) error {
 		off := max(bytes.Index(src, []byte(`"`+tag+`"`)), 0)
 		return jsonErrAt(opt, src, off, fmt.Sprintf("JSON-LD: @language %q is not a language tag: want letters, then groups of letters or digits after '-' (BCP 47, e.g. en or en-GB); json-gold would drop the value", tag), ErrSyntax)
 	}
-	out, err := toRDF(doc, opt.Base)
+	ds, err := toRDF(exp, opt.Base)
 	if err != nil {
 		return jsonLDErr(opt, src, err)
-	}
-	ds, ok := out.(*ld.RDFDataset)
-	if !ok {
-		return jsonErrAt(opt, src, 0, fmt.Sprintf("json-gold returned %T, not a dataset", out), ErrSyntax)
 	}
 	names := make([]string, 0, len(ds.Graphs))
 	for name := range ds.Graphs {
@@ -125,12 +121,16 @@ func withJSONGold[T any](base string, f func(*ld.JsonLdProcessor, *ld.JsonLdOpti
 	return f(ld.NewJsonLdProcessor(), lopt)
 }
 
-// toRDF runs json-gold's expansion and RDF conversion.
-func toRDF(doc any, base string) (any, error) {
-	return withJSONGold(base, func(p *ld.JsonLdProcessor, o *ld.JsonLdOptions) (any, error) { return p.ToRDF(doc, o) })
+// toRDF converts an expanded document (expand) to an RDF dataset: the
+// step JsonLdProcessor.ToRDF takes after its own expansion, which would
+// expand the document a second time.
+func toRDF(exp []any, base string) (*ld.RDFDataset, error) {
+	return withJSONGold(base, func(_ *ld.JsonLdProcessor, o *ld.JsonLdOptions) (*ld.RDFDataset, error) {
+		return ld.NewJsonLdApi().ToRDF(exp, o)
+	})
 }
 
-// expand runs json-gold's expansion alone.
+// expand runs json-gold's expansion.
 func expand(doc any, base string) ([]any, error) {
 	return withJSONGold(base, func(p *ld.JsonLdProcessor, o *ld.JsonLdOptions) ([]any, error) { return p.Expand(doc, o) })
 }
