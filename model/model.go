@@ -410,6 +410,11 @@ func (m *Model) Sum() ([32]byte, error) {
 	if m.hasSum {
 		return m.sum, nil
 	}
+	return encodedSum(m)
+}
+
+// encodedSum returns the SHA-256 of m's payload as encode writes it.
+func encodedSum(m *Model) ([32]byte, error) {
 	h := sha256.New()
 	if err := encode(h, m); err != nil {
 		return [32]byte{}, err
@@ -427,13 +432,7 @@ func (m *Model) Sum() ([32]byte, error) {
 func (m *Model) ContentSum() ([32]byte, error) {
 	c := *m
 	c.Provenance = Provenance{}
-	h := sha256.New()
-	if err := encode(h, &c); err != nil {
-		return [32]byte{}, err
-	}
-	var s [32]byte
-	h.Sum(s[:0])
-	return s, nil
+	return encodedSum(&c)
 }
 
 // Validate checks that the model's tables agree in size and order.
