@@ -689,10 +689,8 @@ type state struct {
 	dacc      []float64   // word type → Σ D/Z
 	d         float64     // D = Σ_k c_k·φ⁰_k over the active slots
 	touched   []int32
-	// startF: startExpected's α_k·φ⁰_k share, Σ_u n_u/Z²_u, as theta's
-	// return value counts it; startOn: the start's distributions are in
-	// th, to count as one more sample.
-	startF  float64
+	// startOn: startExpected's running sums and Z² (startW, startZ) hold
+	// the start's distributions, for theta to count as one more sample.
 	startOn bool
 	ranked  []scored
 	cand    []int32
@@ -773,7 +771,7 @@ func (a *Annotator) put(st *state) {
 		st.th[k] = 0
 	}
 	st.touched = st.touched[:0]
-	st.startOn, st.startF = false, 0
+	st.startOn = false
 	for _, k := range st.aggT {
 		st.agg[k] = 0
 	}
@@ -1785,15 +1783,15 @@ func (a *Annotator) summarise(res *Result, text string, toks []terms.Token, opt 
 //
 // summed over the S sampling sweeps (post divides the same sum by the
 // type's occurrences). After startExpected the sums also hold the start's
-// distributions (v²_wk/Z²_w on the lists, st.startF for the α_k·φ⁰_k part),
+// distributions (v²_wk/Z²_w on the lists, n_w·q/Z²_w for the α_k·φ⁰_k part),
 // and are divided by S + 1.
 func (a *Annotator) theta(st *state, samples float64) float64 {
 	// inv averages the sweeps' smoothing-bucket split; out divides the
 	// sums, which hold the start's sample too when startOn.
 	inv, out, startOn, startF := 1/samples, 1/samples, st.startOn, 0.0
 	if startOn {
-		out, startF = 1/(samples+1), st.startF
-		st.startOn, st.startF = false, 0
+		out = 1 / (samples + 1)
+		st.startOn = false
 	}
 	dsum, cphi, sfree := 0.0, 0.0, 0.0
 	st.fu = slices.Grow(st.fu[:0], len(st.uw))[:len(st.uw)]
@@ -1820,7 +1818,9 @@ func (a *Annotator) theta(st *state, samples float64) float64 {
 		for u, w := range st.uw {
 			h := &a.wh[w]
 			o := int(uo[u])
-			sfree += thetaStart(th, alpha, a.ent[h.lo:h.hi], int(h.hiC-h.lo), g[o:o+int(h.hi-h.lo)], fu[u], float64(st.ucnt[u])/Z[u])
+			fs := float64(st.ucnt[u]) / Z[u] // the type's share of the start's sample
+			sfree += thetaStart(th, alpha, a.ent[h.lo:h.hi], int(h.hiC-h.lo), g[o:o+int(h.hi-h.lo)], fu[u], fs)
+			startF += fs // its α_k·φ⁰_k part, n_u·q/Z², as the return value counts it
 		}
 	} else { // the same entries, from the words' lists: their concepts come first
 		for u, w := range st.uw {
@@ -2237,12 +2237,11 @@ func (a *Annotator) startExpected(st *state, rng *splitMix) {
 		}
 		Z[u] = c + q
 		st.uo[u] = int32(o)
-		// The start's distribution of each of the type's tokens, one
-		// sample for theta: n_u·v²_k/Z² on the list (from the running
-		// sums gs and Z, which theta reads), n_u·q/Z² as α_k·φ⁰_k.
-		st.startF += float64(st.ucnt[u]) / Z[u]
 		o += n
 	}
+	// The start's distribution of each token, one sample for theta:
+	// n_u·v²_k/Z² on the list (the running sums g and Z), n_u·q/Z² as
+	// α_k·φ⁰_k.
 	st.startOn = !noStartSample
 	for i, u := range st.tu {
 		o, n := int(st.uo[u]), int(st.un[u])

@@ -1142,7 +1142,7 @@ func TestStartExpected(t *testing.T) {
 	}
 	// The start's sample for theta: th gets n_u·v²_k/Z² on the lists'
 	// concepts, thetaStart returns it for their free topics as a whole,
-	// and startF holds the α_k·φ⁰_k part, n_u·q/Z² summed, so that
+	// and its α_k·φ⁰_k part is startF = Σ_u n_u/Z² (n_u·q/Z² summed), so that
 	// th_k + α_k·φ⁰_k·startF = Σ_u n_u·p_u(k) exactly for a concept, and
 	// the same summed over the free topics plus what thetaStart returned.
 	for k := range st.th {
@@ -1151,16 +1151,17 @@ func TestStartExpected(t *testing.T) {
 	for j := range st.tl {
 		st.tl[j].e1 = st.tl[j].alpha
 	}
-	st.startF = 0
 	a.startExpected(st, &splitMix{5})
 	if !st.startOn {
 		t.Fatal("startExpected did not mark its sample")
 	}
-	free := 0.0
+	free, startF := 0.0, 0.0
 	for u, w := range st.uw { // theta's pass, without the sweeps' part (f = 0)
 		h := &a.wh[w]
 		o := int(st.uo[u])
-		free += thetaStart(st.th, a.alpha, a.ent[h.lo:h.hi], int(h.hiC-h.lo), st.startW[o:o+int(h.hi-h.lo)], 0, float64(st.ucnt[u])/st.startZ[u])
+		fs := float64(st.ucnt[u]) / st.startZ[u]
+		free += thetaStart(st.th, a.alpha, a.ent[h.lo:h.hi], int(h.hiC-h.lo), st.startW[o:o+int(h.hi-h.lo)], 0, fs)
+		startF += fs
 	}
 	total, gotFree, wantFree := free, free, 0.0
 	for k := 0; k < K; k++ {
@@ -1168,7 +1169,7 @@ func TestStartExpected(t *testing.T) {
 		for u := range want {
 			w += float64(st.ucnt[u]) * want[u][k]
 		}
-		got := st.th[k] + m.Alpha[k]*a.phi0[k]*st.startF
+		got := st.th[k] + m.Alpha[k]*a.phi0[k]*startF
 		total += got
 		if k >= a.C {
 			gotFree += got
@@ -1185,7 +1186,7 @@ func TestStartExpected(t *testing.T) {
 	if math.Abs(total-float64(len(st.tu))) > 1e-9 {
 		t.Errorf("start's sample sums to %v, want the %d tokens", total, len(st.tu))
 	}
-	st.startOn, st.startF = false, 0
+	st.startOn = false
 	const n = 20000
 	got := make([][]float64, U)
 	for u := range got {
