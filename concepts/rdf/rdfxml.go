@@ -1340,26 +1340,6 @@ func (p *xmlParser) triple(s Term, pred string, o Term) error {
 	return p.emit(Triple{S: s, P: Term{Kind: IRI, Value: pred}, O: o})
 }
 
-// isLangTag reports whether s is LANGTAG without its '@' (RDF 1.1
-// N-Triples and Turtle): [a-zA-Z]+ ('-' [a-zA-Z0-9]+)*.
-func isLangTag(s string) bool {
-	first, seg := true, 0
-	for i := 0; i < len(s); i++ {
-		c := s[i]
-		switch {
-		case c >= 'a' && c <= 'z' || c >= 'A' && c <= 'Z':
-			seg++
-		case c >= '0' && c <= '9' && !first:
-			seg++
-		case c == '-' && seg > 0:
-			first, seg = false, 0
-		default:
-			return false
-		}
-	}
-	return seg > 0
-}
-
 // plain makes a literal with the in-scope language, if any.
 func (p *xmlParser) plain(v, lang string) Term {
 	if lang != "" {

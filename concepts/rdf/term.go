@@ -154,3 +154,23 @@ func escapeIRI(s string) string {
 	}
 	return b.String()
 }
+
+// isLangTag reports whether s is LANGTAG without its '@' (RDF 1.1
+// N-Triples and Turtle): [a-zA-Z]+ ('-' [a-zA-Z0-9]+)*.
+func isLangTag(s string) bool {
+	first, seg := true, 0
+	for i := 0; i < len(s); i++ {
+		c := s[i]
+		switch {
+		case c >= 'a' && c <= 'z' || c >= 'A' && c <= 'Z':
+			seg++
+		case c >= '0' && c <= '9' && !first:
+			seg++
+		case c == '-' && seg > 0:
+			first, seg = false, 0
+		default:
+			return false
+		}
+	}
+	return seg > 0
+}
