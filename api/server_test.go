@@ -93,13 +93,12 @@ func TestAnnotateErrors(t *testing.T) {
 		code   codes.Code
 		fields []string
 	}{
-		{"empty text", &pb.AnnotateRequest{Id: "a"}, codes.InvalidArgument, []string{"text"}},
 		{"text too long", &pb.AnnotateRequest{Text: strings.Repeat("x", 101)}, codes.InvalidArgument, []string{"text"}},
 		{"negative top", &pb.AnnotateRequest{Text: "cat", Top: -1}, codes.InvalidArgument, []string{"top"}},
 		{"min score above 1", &pb.AnnotateRequest{Text: "cat", MinScore: 1.5}, codes.InvalidArgument, []string{"min_score"}},
 		{"bad language", &pb.AnnotateRequest{Text: "cat", Language: "en_US!"}, codes.InvalidArgument, []string{"language"}},
 		{"bad subject mode", &pb.AnnotateRequest{Text: "cat", SubjectMode: 9}, codes.InvalidArgument, []string{"subject_mode"}},
-		{"several at once", &pb.AnnotateRequest{Top: -2, MinScore: -1}, codes.InvalidArgument, []string{"text", "top", "min_score"}},
+		{"several at once", &pb.AnnotateRequest{Top: -2, MinScore: -1, Language: "en_US!"}, codes.InvalidArgument, []string{"top", "min_score", "language"}},
 		{"unknown subject", &pb.AnnotateRequest{Text: "cat", Subjects: []string{"http://ex.org/c/cats", "http://ex.org/c/none"}}, codes.InvalidArgument, []string{"subjects[1]"}},
 		{"empty subject", &pb.AnnotateRequest{Text: "cat", Subjects: []string{""}}, codes.InvalidArgument, []string{"subjects[0]"}},
 		{"unknown model", &pb.AnnotateRequest{Model: "nope", Text: "cat"}, codes.NotFound, nil},
@@ -112,6 +111,16 @@ func TestAnnotateErrors(t *testing.T) {
 	// A valid language tag and known subjects pass.
 	if _, err := ts.c.Annotate(ctxT(t), &pb.AnnotateRequest{Text: "cat", Language: "en-GB", Subjects: []string{"http://ex.org/c/cats"}, SubjectMode: pb.SubjectMode_SUBJECT_MODE_BOOST}); err != nil {
 		t.Fatal(err)
+	}
+	// An empty text is an empty result, not an error, as in the annotate
+	// package and the command line (issue 5: "empty text (an empty
+	// result, not an error)").
+	res, err := ts.c.Annotate(ctxT(t), &pb.AnnotateRequest{Id: "a"})
+	if err != nil {
+		t.Fatalf("empty text: %v", err)
+	}
+	if res.GetId() != "a" || len(res.GetConcepts()) != 0 || res.GetTokens() != 0 || res.GetUncovered() != 0 {
+		t.Errorf("empty text: %v, want id a, no concepts, 0 tokens, uncovered 0", res)
 	}
 }
 
@@ -154,7 +163,7 @@ func TestAnnotateStream(t *testing.T) {
 		t.Fatal(err)
 	}
 	batches := [][]*pb.AnnotateRequest{
-		{{Id: "a", Text: "cat"}, {Id: "b", Text: ""}, {Id: "c", Text: "dog bark"}, {Id: "d", Model: "zzz", Text: "dog"}},
+		{{Id: "a", Text: "cat"}, {Id: "b", Text: "cat", Top: -1}, {Id: "c", Text: "dog bark"}, {Id: "d", Model: "zzz", Text: "dog"}},
 		{{Id: "e", Text: "rain weather"}},
 		{},
 	}
@@ -174,7 +183,7 @@ func TestAnnotateStream(t *testing.T) {
 			ids = append(ids, res.GetId())
 			if e := res.GetError(); e != nil {
 				codesGot = append(codesGot, codes.Code(e.GetCode()))
-				if e.GetCode() == int32(codes.InvalidArgument) && (len(e.GetFieldViolations()) != 1 || e.GetFieldViolations()[0].GetField() != "records[1].text") {
+				if e.GetCode() == int32(codes.InvalidArgument) && (len(e.GetFieldViolations()) != 1 || e.GetFieldViolations()[0].GetField() != "records[1].top") {
 					t.Fatalf("violations %v", e.GetFieldViolations())
 				}
 			} else {
@@ -545,7 +554,7 @@ func TestReflection(t *testing.T) {
 func TestMetrics(t *testing.T) {
 	ts := startServer(t, Config{}, nil)
 	ts.c.Annotate(ctxT(t), &pb.AnnotateRequest{Text: "cat dog"})
-	ts.c.Annotate(ctxT(t), &pb.AnnotateRequest{Text: ""})
+	ts.c.Annotate(ctxT(t), &pb.AnnotateRequest{Text: "cat", Top: -1})
 	resp, err := http.Get("http://" + ts.s.MetricsAddr().String() + "/metrics")
 	if err != nil {
 		t.Fatal(err)

@@ -49,7 +49,7 @@ func TestStreamBatchParallel(t *testing.T) {
 	for i := range recs {
 		recs[i] = &pb.AnnotateRequest{Id: fmt.Sprint("r", i), Text: "cat pair"}
 	}
-	recs[7] = &pb.AnnotateRequest{Id: "bad", Text: ""} // fails validation, keeps its place
+	recs[7] = &pb.AnnotateRequest{Id: "bad", Text: "cat pair", Top: -1} // fails validation, keeps its place
 	st, err := ts.c.AnnotateStream(ctxT(t))
 	if err != nil {
 		t.Fatal(err)

@@ -64,10 +64,10 @@ func validateAnnotate(r *pb.AnnotateRequest, prefix string, maxText int, v *viol
 	if len(r.GetId()) > maxIDBytes {
 		v.add(join(prefix, "id"), "longer than %d bytes", maxIDBytes)
 	}
-	switch n := len(r.GetText()); {
-	case n == 0:
-		v.add(join(prefix, "text"), "must not be empty")
-	case n > maxText:
+	// An empty text is not an error: it gets an empty result, as the
+	// annotate package and the command line give it (a catalogue record
+	// without an abstract is ordinary input).
+	if n := len(r.GetText()); n > maxText {
 		v.add(join(prefix, "text"), "%d bytes, more than the server's limit of %d", n, maxText)
 	}
 	if t := r.GetTop(); t < 0 || t > maxTop {

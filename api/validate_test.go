@@ -78,7 +78,7 @@ func check(t *testing.T, r *pb.AnnotateRequest, v violations, maxText int) {
 	if err != nil {
 		t.Fatalf("no violation but error %v", err)
 	}
-	ok := len(r.GetText()) > 0 && len(r.GetText()) <= maxText &&
+	ok := len(r.GetText()) <= maxText && // an empty text is accepted: an empty result
 		r.GetTop() >= 0 && r.GetTop() <= maxTop &&
 		r.GetMinScore() >= 0 && r.GetMinScore() <= 1 &&
 		len(r.GetSubjects()) <= maxSubjects && len(r.GetId()) <= maxIDBytes &&

@@ -83,8 +83,13 @@ func TestAnnotateRemote(t *testing.T) {
 			t.Fatalf("word %+v does not index the original text", w)
 		}
 	}
-	if _, err := remote("bad", "", annotate.Options{}); err == nil {
-		t.Fatal("empty text accepted")
+	// An empty text is an empty result on both sides; a bad option is
+	// refused by the server.
+	if res, err := remote("empty", "", annotate.Options{}); err != nil || len(res.Concepts) != 0 || res.Tokens != 0 || res.Uncovered != 0 {
+		t.Fatalf("empty text: %+v %v, want an empty result", res, err)
+	}
+	if _, err := remote("bad", "w1", annotate.Options{MinScore: 2}); err == nil {
+		t.Fatal("min score 2 accepted")
 	}
 	if _, _, err := annotateRemote("127.0.0.1:1", remoteConfig{CertFile: "x"}); err == nil {
 		t.Fatal("--server-cert without --server-key accepted")

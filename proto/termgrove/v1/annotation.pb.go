@@ -90,7 +90,7 @@ type AnnotateRequest struct {
 	Model string `protobuf:"bytes,1,opt,name=model,proto3" json:"model,omitempty"`
 	// Record id, echoed in the response.
 	Id string `protobuf:"bytes,2,opt,name=id,proto3" json:"id,omitempty"`
-	// The text (UTF-8).
+	// The text (UTF-8). An empty text gets an empty result, not an error.
 	Text string `protobuf:"bytes,3,opt,name=text,proto3" json:"text,omitempty"`
 	// Number of concepts returned; 0 means the default (10).
 	Top int32 `protobuf:"varint,4,opt,name=top,proto3" json:"top,omitempty"`
